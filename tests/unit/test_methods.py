@@ -1,0 +1,48 @@
+"""The method registry: one entry per method of DESIGN.md's command-line contract."""
+
+from fractions import Fraction
+
+import pytest
+
+from trials.errors import TrialsError, UnknownMethodError
+from trials.methods import METHODS, Family, get_method
+
+# Guessing probabilities: ISO 4120 (triangle 1/3), ISO 10399 (duo-trio 1/2),
+# ISO 5495 (paired comparison 1/2), Frijters 1979 (3-AFC 1/3),
+# Ennis and Jesionka 2011 (unspecified tetrad 1/3).
+GUESS = {"triangle": Fraction(1, 3), "duo-trio": Fraction(1, 2), "2afc": Fraction(1, 2),
+         "3afc": Fraction(1, 3), "tetrad": Fraction(1, 3), "paired-preference": Fraction(1, 2)}
+
+
+@pytest.mark.parametrize("name, guess", GUESS.items())
+def test_guessing_probability_is_the_published_one(name, guess):
+    assert get_method(name).guess == pytest.approx(float(guess))
+
+
+def test_the_contract_names_every_method_once():
+    names = [m.name for m in METHODS]
+    assert names == ["triangle", "duo-trio", "2afc", "3afc", "tetrad", "paired-preference",
+                     "rating", "ranking"]
+
+
+def test_only_paired_preference_is_two_sided_among_forced_choice():
+    two = [m.name for m in METHODS if m.is_forced_choice and m.sides == 2]
+    assert two == ["paired-preference"]
+
+
+@pytest.mark.parametrize("spec", [m for m in METHODS if m.patterns], ids=lambda m: m.name)
+def test_every_pattern_fills_one_set(spec):
+    for pattern in spec.patterns:
+        assert len(pattern) == spec.set_size, pattern
+        assert set(pattern) == {"A", "B"}, pattern
+
+
+def test_an_unknown_method_names_the_known_ones():
+    with pytest.raises(UnknownMethodError, match="'pentad'.*triangle") as info:
+        get_method("pentad")
+    assert isinstance(info.value, TrialsError)
+
+
+def test_families_are_assigned():
+    assert get_method("rating").family is Family.RATING
+    assert get_method("ranking").family is Family.RANKING

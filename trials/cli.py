@@ -1,0 +1,409 @@
+"""The ``trials`` command line: argument parsing and printing only.
+
+Every command takes ``--json`` (anywhere after its name) and then prints one JSON object
+and nothing else on stdout. Input errors go to stderr with exit status 2. The work is
+done by ``trials.stats``, ``trials.design`` and ``trials.service``; this module only
+translates arguments into calls and results into text.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import shutil
+import subprocess
+import sys
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any
+
+from trials.errors import TrialsError
+from trials.methods import FORCED_CHOICE, METHODS
+
+Handler = Callable[[argparse.Namespace], dict[str, Any]]
+
+
+# ---------------------------------------------------------------- helpers
+
+
+def _fraction(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number, got {text!r}") from None
+    return value
+
+
+def _count(text: str) -> int:
+    try:
+        return int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+
+
+def _seed(args: argparse.Namespace) -> int | None:
+    return args.seed
+
+
+def _store(args: argparse.Namespace):
+    from trials import service
+
+    return service.open_store(args.db)
+
+
+def _read_csv(path: str):
+    from trials.tabular import read_table
+
+    return read_table(path)
+
+
+# ---------------------------------------------------------------- handlers: statistics
+
+
+def _critical(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.discrimination import critical_value
+
+    return critical_value(args.n, method=args.method, alpha=args.alpha).to_dict()
+
+
+def _difference(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.discrimination import difference_test
+
+    return difference_test(
+        args.correct, args.n, method=args.method, alpha=args.alpha, level=args.level
+    ).to_dict()
+
+
+def _similarity(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.discrimination import similarity_test
+
+    return similarity_test(
+        args.correct, args.n, method=args.method, pd=args.pd, beta=args.beta
+    ).to_dict()
+
+
+def _plan(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.discrimination import panel_size
+
+    return panel_size(args.pd, method=args.method, alpha=args.alpha, beta=args.beta).to_dict()
+
+
+def _dprime(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.thurstonian import dprime_conversion
+
+    if (args.pc is None) == (args.dprime is None):
+        raise TrialsError("give exactly one of --pc or --dprime")
+    return dprime_conversion(method=args.method, pc=args.pc, dprime=args.dprime).to_dict()
+
+
+def _analyze_ratings(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.ratings import rating_anova
+
+    data = _read_csv(args.file)
+    return rating_anova(
+        data,
+        score=args.score,
+        sample=args.sample,
+        panelist=args.panelist,
+        replicate=args.replicate,
+        alpha=args.alpha,
+    ).to_dict()
+
+
+def _analyze_ranks(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.ranks import friedman_test
+
+    data = _read_csv(args.file)
+    return friedman_test(
+        data, rank=args.rank, sample=args.sample, panelist=args.panelist, alpha=args.alpha
+    ).to_dict()
+
+
+# ---------------------------------------------------------------- handlers: designs
+
+
+def _design_codes(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.design.codes import blinding_codes
+
+    return blinding_codes(args.count, rng=_seed(args)).to_dict()
+
+
+def _design_williams(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.design.williams import williams_design
+
+    return williams_design(args.samples, panelists=args.panelists, rng=_seed(args)).to_dict()
+
+
+def _design_sets(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.design.sets import discrimination_sets
+
+    return discrimination_sets(args.method, args.panelists, rng=_seed(args)).to_dict()
+
+
+def _design_blocks(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.design.blocks import incomplete_blocks
+
+    return incomplete_blocks(
+        args.samples, args.per_panelist, panelists=args.panelists, rng=_seed(args)
+    ).to_dict()
+
+
+# ---------------------------------------------------------------- handlers: the store
+
+
+def _study_list(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    return {"studies": [s.to_dict() for s in service.list_studies(_store(args))]}
+
+
+def _study_show(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    return {"study": service.study_overview(_store(args), args.id).to_dict()}
+
+
+def _import_responses(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    rows = service.import_responses(_store(args), args.study, Path(args.file))
+    return {"imported": rows}
+
+
+def _export_responses(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    out = Path(args.out)
+    rows = service.export_responses(_store(args), args.study, out, fmt=args.format)
+    return {"rows": rows, "path": str(out)}
+
+
+def _print(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    out = Path(args.out)
+    pages = service.print_document(_store(args), args.study, args.kind, out)
+    return {"pages": pages, "path": str(out)}
+
+
+def _report(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    out = Path(args.out)
+    decision = service.write_report(_store(args), args.study, out)
+    return {"decision": decision, "path": str(out)}
+
+
+def _demo(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    return {"studies": [s.to_dict() for s in service.seed_demo(_store(args))]}
+
+
+def app_command(port: int | None, host: str | None, db: str | None, demo: bool) -> list[str]:
+    """The ``streamlit run`` command line that serves the app."""
+    entry = Path(__file__).with_name("app.py")
+    cmd = [sys.executable, "-m", "streamlit", "run", str(entry)]
+    cmd += ["--browser.gatherUsageStats", "false"]
+    if not os.environ.get("DISPLAY") or os.environ.get("CI"):
+        cmd += ["--server.headless", "true"]
+    if port:
+        cmd += ["--server.port", str(port)]
+    if host:
+        cmd += ["--server.address", host]
+    return cmd
+
+
+def _app(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    store = service.open_store(args.db)
+    if args.demo and not service.list_studies(store):
+        service.seed_demo(store)
+    env = dict(os.environ)
+    if args.db:
+        env["TRIALS_DB"] = args.db
+    cmd = app_command(args.port, args.host, args.db, args.demo)
+    if shutil.which(cmd[0]) is None and not Path(cmd[0]).exists():
+        raise TrialsError(f"cannot find the Python interpreter {cmd[0]!r}")
+    try:
+        code = subprocess.call(cmd, env=env)
+    except KeyboardInterrupt:
+        code = 0
+    return {"exit": code}
+
+
+# ---------------------------------------------------------------- the parser
+
+
+def _add_json(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--json", action="store_true", help="print one JSON object and nothing else")
+
+
+def _add_db(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--db",
+        default=None,
+        help="SQLAlchemy URL of the store (default: $TRIALS_DB, else sqlite:///trials.db)",
+    )
+
+
+def _add_seed(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--seed", type=_count, default=None, help="seed, for a plan you can redraw")
+
+
+def _leaf(sub, name: str, handler: Handler, help_text: str, *, db: bool = False):
+    p = sub.add_parser(name, help=help_text, description=help_text)
+    p.set_defaults(handler=handler)
+    _add_json(p)
+    if db:
+        _add_db(p)
+    return p
+
+
+def build_parser() -> argparse.ArgumentParser:
+    names = [m.name for m in METHODS]
+    parser = argparse.ArgumentParser(
+        prog="trials",
+        description="Kitchen Trials: plan, serve, collect, analyse and decide blind tastings.",
+    )
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    p = _leaf(sub, "critical", _critical, "fewest correct answers that conclude a difference")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--n", required=True, type=_count)
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+
+    p = _leaf(sub, "difference", _difference, "exact test of a difference, with pd and d'")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--correct", required=True, type=_count)
+    p.add_argument("--n", required=True, type=_count)
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p.add_argument("--level", type=_fraction, default=0.95, help="confidence level")
+
+    p = _leaf(sub, "similarity", _similarity, "similarity test for a largest acceptable pd")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--correct", required=True, type=_count)
+    p.add_argument("--n", required=True, type=_count)
+    p.add_argument("--pd", required=True, type=_fraction)
+    p.add_argument("--beta", type=_fraction, default=0.05)
+
+    p = _leaf(sub, "plan", _plan, "fewest assessors for alpha, beta and pd")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--pd", required=True, type=_fraction)
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p.add_argument("--beta", type=_fraction, default=0.20)
+
+    p = _leaf(sub, "dprime", _dprime, "convert proportion correct to Thurstonian d' or back")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--pc", type=_fraction, default=None)
+    p.add_argument("--dprime", type=_fraction, default=None)
+
+    design = sub.add_parser("design", help="blinding codes and serving orders")
+    dsub = design.add_subparsers(dest="design", required=True, metavar="KIND")
+    p = _leaf(dsub, "codes", _design_codes, "unique three-digit blinding codes")
+    p.add_argument("--count", required=True, type=_count)
+    _add_seed(p)
+    p = _leaf(dsub, "williams", _design_williams, "Williams serving orders")
+    p.add_argument("--samples", required=True, type=_count)
+    p.add_argument("--panelists", type=_count, default=None)
+    _add_seed(p)
+    p = _leaf(dsub, "sets", _design_sets, "balanced discrimination sets")
+    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
+    p.add_argument("--panelists", required=True, type=_count)
+    _add_seed(p)
+    p = _leaf(dsub, "blocks", _design_blocks, "balanced incomplete blocks")
+    p.add_argument("--samples", required=True, type=_count)
+    p.add_argument("--per-panelist", required=True, type=_count)
+    p.add_argument("--panelists", type=_count, default=None)
+    _add_seed(p)
+
+    analyze = sub.add_parser("analyze", help="analyse ratings or ranks from a tidy CSV")
+    asub = analyze.add_subparsers(dest="analysis", required=True, metavar="KIND")
+    p = _leaf(asub, "ratings", _analyze_ratings, "ANOVA of ratings with panelist blocks")
+    p.add_argument("file")
+    p.add_argument("--score", default="score")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--panelist", default="panelist")
+    p.add_argument("--replicate", default=None)
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p = _leaf(asub, "ranks", _analyze_ranks, "Friedman rank test with rank-sum comparisons")
+    p.add_argument("file")
+    p.add_argument("--rank", default="rank")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--panelist", default="panelist")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+
+    study = sub.add_parser("study", help="trials on file")
+    ssub = study.add_subparsers(dest="study_cmd", required=True, metavar="ACTION")
+    _leaf(ssub, "list", _study_list, "list the trials", db=True)
+    p = _leaf(ssub, "show", _study_show, "show one trial", db=True)
+    p.add_argument("id", type=_count)
+
+    imp = sub.add_parser("import", help="import answers from a file")
+    isub = imp.add_subparsers(dest="import_cmd", required=True, metavar="WHAT")
+    p = _leaf(isub, "responses", _import_responses, "import responses (all rows or none)", db=True)
+    p.add_argument("file")
+    p.add_argument("--study", required=True, type=_count)
+
+    exp = sub.add_parser("export", help="export answers to a file")
+    esub = exp.add_subparsers(dest="export_cmd", required=True, metavar="WHAT")
+    p = _leaf(esub, "responses", _export_responses, "export responses with the key", db=True)
+    p.add_argument("--study", required=True, type=_count)
+    p.add_argument("--format", choices=("csv", "xlsx"), default="csv")
+    p.add_argument("--out", required=True)
+
+    prn = sub.add_parser("print", help="print ballots, the serving sheet or cup labels")
+    psub = prn.add_subparsers(dest="kind", required=True, metavar="WHAT")
+    for kind, text in (
+        ("ballots", "one ballot per panelist and session"),
+        ("sheet", "the serving sheet with the decoding key (kitchen only)"),
+        ("labels", "cup labels in serving order"),
+    ):
+        p = _leaf(psub, kind, _print, text, db=True)
+        p.add_argument("--study", required=True, type=_count)
+        p.add_argument("--out", required=True)
+
+    p = _leaf(sub, "report", _report, "write the trial's report as HTML", db=True)
+    p.add_argument("--study", required=True, type=_count)
+    p.add_argument("--out", required=True)
+
+    _leaf(sub, "demo", _demo, "seed the invented demo trials", db=True)
+
+    p = _leaf(sub, "app", _app, "start the Streamlit app", db=True)
+    p.add_argument("--port", type=_count, default=None)
+    p.add_argument("--host", default=None)
+    p.add_argument("--demo", action="store_true", help="seed the demo trials if the store is empty")
+    del names
+    return parser
+
+
+def _human(result: dict[str, Any]) -> str:
+    lines = []
+    for key, value in result.items():
+        if isinstance(value, (dict, list)):
+            value = json.dumps(value, default=str)
+        lines.append(f"{key}: {value}")
+    return "\n".join(lines)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        result = args.handler(args)
+    except TrialsError as exc:
+        print(f"trials: {exc}", file=sys.stderr)
+        return 2
+    if args.command == "app":
+        return int(result.get("exit", 0))
+    if args.json:
+        print(json.dumps(result, default=str))
+    else:
+        print(_human(result))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,207 @@
+"""Small frozen dataclasses and enums shared by all layers.
+
+The vocabulary (see DEVELOPERS.md): a *trial* (stored as ``study``) compares *samples*
+(the variants); each sample is made in one or more test *batches*; *panelists* taste in
+*sessions*; the serving plan gives each panelist, at each *position*, a cup marked with
+a three-digit blinding *code*; a *response* is one answer (a chosen code, a score on an
+*attribute*'s scale, or a rank).
+
+Nothing here touches the database, the screen or a file.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+from dataclasses import dataclass, field
+from enum import StrEnum
+from typing import Any
+
+
+def as_plain(value: Any) -> Any:
+    """Turn dataclasses, enums, tuples and dates into JSON-ready values."""
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: as_plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, StrEnum):
+        return value.value
+    if isinstance(value, dict):
+        return {str(k): as_plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [as_plain(v) for v in value]
+    if isinstance(value, (dt.date, dt.datetime)):
+        return value.isoformat()
+    if hasattr(value, "item") and callable(value.item):  # numpy scalar
+        return value.item()
+    return value
+
+
+class Record:
+    """Mixin: ``to_dict()`` for every frozen record of the package."""
+
+    __slots__ = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return as_plain(self)
+
+
+class Status(StrEnum):
+    """Where a trial stands."""
+
+    PLANNING = "planning"
+    READY = "ready"
+    TASTING = "tasting"
+    ANALYSED = "analysed"
+    DECIDED = "decided"
+
+
+class EntryMode(StrEnum):
+    """How a response reached the store."""
+
+    TABLET = "tablet"
+    PAPER = "paper"
+    IMPORT = "import"
+
+
+class AttributeKind(StrEnum):
+    """What a rated attribute measures."""
+
+    HEDONIC = "hedonic"  # liking, e.g. the 9-point hedonic scale (Peryam and Pilgrim 1957)
+    INTENSITY = "intensity"  # how much of a property, low to high
+    JAR = "jar"  # just-about-right: too little .. just right .. too much
+
+
+@dataclass(frozen=True, slots=True)
+class Measurement(Record):
+    """One named value with its unit: a process setting or a measured variable."""
+
+    name: str
+    value: float | str
+    unit: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class Sample(Record):
+    """A variant under test. ``allergens`` are lower-case names, e.g. ``("gluten", "egg")``."""
+
+    name: str
+    id: int | None = None
+    is_control: bool = False
+    allergens: tuple[str, ...] = ()
+    description: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class Batch(Record):
+    """One test batch of a sample, with how it was made and what was measured."""
+
+    sample_name: str
+    label: str
+    id: int | None = None
+    prepared_on: dt.date | None = None
+    prepared_by: str = ""
+    settings: tuple[Measurement, ...] = ()
+    measures: tuple[Measurement, ...] = ()
+    safety_signed_by: str = ""
+    safety_signed_on: dt.date | None = None
+    notes: str = ""
+
+    @property
+    def signed_off(self) -> bool:
+        return bool(self.safety_signed_by)
+
+
+@dataclass(frozen=True, slots=True)
+class Panelist(Record):
+    """A panelist known by a code; no personal data is required."""
+
+    code: str
+    id: int | None = None
+    allergens: tuple[str, ...] = ()
+    restrictions: str = ""
+    consent_on: dt.date | None = None
+
+    @property
+    def consented(self) -> bool:
+        return self.consent_on is not None
+
+
+@dataclass(frozen=True, slots=True)
+class Attribute(Record):
+    """A rated attribute and its scale (integer points ``low``..``high``)."""
+
+    name: str
+    kind: AttributeKind = AttributeKind.HEDONIC
+    low: int = 1
+    high: int = 9
+    anchors: tuple[str, ...] = ()  # labels of the points, low to high, or just the ends
+
+
+@dataclass(frozen=True, slots=True)
+class Study(Record):
+    """A trial: what is compared, by which method, at which risks."""
+
+    name: str
+    method: str
+    id: int | None = None
+    objective: str = ""
+    alpha: float = 0.05
+    beta: float = 0.20
+    pd: float | None = None  # proportion of discriminators that matters (discrimination)
+    delta: float | None = None  # smallest meaningful difference of means (ratings)
+    status: Status = Status.PLANNING
+    decision: str = ""
+    rationale: str = ""
+    product: str = ""  # what the samples are variants of, for the history search
+    created_on: dt.date | None = None
+    samples: tuple[Sample, ...] = ()
+    attributes: tuple[Attribute, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class PlanEntry(Record):
+    """One cup in the serving plan: who tastes which code, when.
+
+    ``position`` is 1-based within the panelist's session. ``set_index`` numbers the
+    panelist's sets (0 for the first; discrimination tests have one set per session).
+    ``role`` is the cup's letter in a discrimination set (``"A"``, ``"B"``, or ``"R"``
+    for a reference), empty for ratings. The sample fields are the decoding key: only
+    leader views and the serving sheet may show them.
+    """
+
+    session: str
+    panelist_code: str
+    position: int
+    code: str
+    sample_name: str
+    set_index: int = 0
+    role: str = ""
+    batch_label: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class Response(Record):
+    """One answer. ``attribute`` is empty for the choice in a discrimination test.
+
+    ``value`` is the chosen code (discrimination, preference), the score (rating) or the
+    rank (ranking), as text exactly as given; ``code`` is the cup it is about (for a
+    choice: the first code of the set).
+    """
+
+    session: str
+    panelist_code: str
+    code: str
+    attribute: str
+    value: str
+    comment: str = ""
+    entered_by: str = ""
+    entered_at: dt.datetime | None = None
+    mode: EntryMode = EntryMode.TABLET
+
+
+@dataclass(frozen=True, slots=True)
+class AllergenConflict(Record):
+    """A panelist who declared an allergen that a sample holds."""
+
+    panelist_code: str
+    sample_name: str
+    allergens: tuple[str, ...] = field(default_factory=tuple)

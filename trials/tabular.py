@@ -1,0 +1,87 @@
+"""Reading and writing tidy tables: CSV (any common separator, byte-order mark,
+UTF-8 or Windows-1252) and Excel. Used by the command line and the service layer;
+the pure layers never read files.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+
+import pandas as pd
+
+from trials.errors import TrialsError
+
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def _decode(raw: bytes, source: str) -> str:
+    for encoding in ("utf-8-sig", "cp1252"):
+        try:
+            return raw.decode(encoding)
+        except UnicodeDecodeError:
+            continue
+    raise TrialsError(f"{source}: cannot read the text; expected UTF-8 or Windows-1252")
+
+
+def read_table(source: str | Path | bytes, *, name: str = "") -> pd.DataFrame:
+    """Read a CSV or Excel file into a DataFrame of strings, columns stripped.
+
+    ``source`` is a path, or the file's bytes (then ``name`` tells the format by its
+    extension). Separators ``,``, ``;`` and tab are recognised; a byte-order mark is
+    dropped. Every cell is text: callers convert and validate per column, so that an
+    error can name the row and column.
+    """
+    if isinstance(source, (str, Path)):
+        path = Path(source)
+        name = name or path.name
+        try:
+            raw = path.read_bytes()
+        except OSError as exc:
+            raise TrialsError(f"cannot read {str(path)!r}: {exc.strerror}") from None
+    else:
+        raw = source
+    label = name or "the file"
+    if name.lower().endswith((".xlsx", ".xlsm")):
+        try:
+            frame = pd.read_excel(io.BytesIO(raw), dtype=str, keep_default_na=False)
+        except Exception as exc:  # openpyxl raises many kinds
+            raise TrialsError(f"{label}: not a readable Excel workbook ({exc})") from None
+    else:
+        text = _decode(raw, label)
+        if not text.strip():
+            raise TrialsError(f"{label}: the file is empty")
+        try:
+            dialect = csv.Sniffer().sniff(text.splitlines()[0], delimiters=",;\t")
+            sep = dialect.delimiter
+        except csv.Error:
+            sep = ","
+        frame = pd.read_csv(io.StringIO(text), sep=sep, dtype=str, keep_default_na=False)
+    frame.columns = [str(c).strip() for c in frame.columns]
+    return frame
+
+
+def neutralise(value: object) -> object:
+    """Quote a text cell that a spreadsheet would run as a formula (OWASP advice).
+
+    Plain numbers such as ``-1.5`` stay as they are.
+    """
+    if isinstance(value, str) and value.startswith(FORMULA_STARTS):
+        try:
+            float(value)
+        except ValueError:
+            return "'" + value
+    return value
+
+
+def write_table(frame: pd.DataFrame, path: Path, *, fmt: str = "csv") -> int:
+    """Write ``frame`` as CSV or Excel with formula-like cells neutralised; rows written."""
+    safe = frame.map(neutralise) if len(frame) else frame
+    if fmt == "csv":
+        safe.to_csv(path, index=False)
+    elif fmt == "xlsx":
+        safe.to_excel(path, index=False)
+    else:
+        raise TrialsError(f"unknown export format {fmt!r}; expected csv or xlsx")
+    return len(frame)
