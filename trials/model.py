@@ -180,11 +180,16 @@ class PlanEntry(Record):
 
 @dataclass(frozen=True, slots=True)
 class Response(Record):
-    """One answer. ``attribute`` is empty for the choice in a discrimination test.
+    """One answer, as a row of the response CSV.
 
-    ``value`` is the chosen code (discrimination, preference), the score (rating) or the
-    rank (ranking), as text exactly as given; ``code`` is the cup it is about (for a
-    choice: the first code of the set).
+    - rating: ``code`` is the cup rated, ``attribute`` the attribute's name, ``value``
+      the score as text;
+    - ranking: ``code`` is the cup, ``attribute`` is ``"rank"``, ``value`` the rank
+      (1 = most);
+    - forced choice (discrimination, preference): ``attribute`` is ``"choice"``,
+      ``code`` the chosen cup's code (tetrad: the two codes of the chosen group,
+      separated by a space), ``value`` empty; for paired preference ``value`` may be
+      ``"no preference"`` with ``code`` empty.
     """
 
     session: str
