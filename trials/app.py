@@ -1,0 +1,30 @@
+"""The Streamlit entry script, started by ``trials app``.
+
+It builds ``st.navigation`` over the screens in ``pages/`` (which sits at the project's
+top level, not beside this file: a ``pages/`` folder beside the entry script would turn
+on Streamlit's legacy page detection, where a deep link runs a page on its own and skips
+this script). A panelist link (``/taste?t=<token>``) gets a navigation that holds the
+tasting screen alone; every other visitor gets the leader's screens, each of which calls
+its own access check as well.
+"""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from trials import ui
+
+st.set_page_config(page_title="Kitchen Trials", page_icon=":material/restaurant:", layout="wide")
+
+
+def _page(name: str, title: str, icon: str, *, default: bool = False) -> st.Page:
+    return st.Page(ui.PAGES_DIR / f"{name}.py", title=title, icon=icon, url_path=name, default=default)
+
+
+if ui.panelist_token():
+    navigation = st.navigation(
+        [_page("taste", "Tasting", ":material/local_dining:", default=True)], position="hidden"
+    )
+else:
+    navigation = st.navigation(ui.leader_pages(_page))
+navigation.run()
