@@ -148,6 +148,9 @@ class Study(Record):
     beta: float = 0.20
     pd: float | None = None  # proportion of discriminators that matters (discrimination)
     delta: float | None = None  # smallest meaningful difference of means (ratings)
+    # discrimination: "difference" or "similarity" (which test answers the objective);
+    # "" = not stated, then an objective using "similar"/"same as" means similarity
+    aim: str = ""
     status: Status = Status.PLANNING
     decision: str = ""
     rationale: str = ""
