@@ -1,0 +1,738 @@
+"""From a trial's answers to its analysis: join, count, test.
+
+:func:`analyse` takes a trial (:class:`trials.model.Study`), its serving plan, its
+responses and its batches, all as plain records, and returns a frozen
+:class:`StudyAnalysis`. It decodes each answer through the plan itself (blinding code
+-> sample and role) and dispatches on the method's family (:mod:`trials.methods`):
+
+- discrimination (triangle, duo-trio, 2-AFC, 3-AFC, tetrad): each panelist's set is
+  scored correct or not by the method's rule (see :func:`score_choices`), then
+  :func:`trials.stats.discrimination.difference_test`; and
+  :func:`~trials.stats.discrimination.similarity_test` when the trial was planned as a
+  similarity test (see :func:`planned_similarity`);
+- paired preference: choices counted per sample, then the two-sided test on the count
+  of the more-chosen sample;
+- rating: :func:`trials.stats.ratings.rating_anova` per attribute, the penalty
+  analysis of each just-about-right attribute against the hedonic attribute where the
+  trial has one, and the relation of each sample's mean to its batches' numeric
+  measures and settings (:mod:`trials.stats.measures`);
+- ranking: :func:`trials.stats.ranks.friedman_test`.
+
+A trial without answers gives an analysis that says "no answers yet" instead of
+failing; an analysis the data cannot support yet (one panelist, one sample) carries a
+note saying why. Pure: no store, no files. The history helpers at the end
+(:func:`search_trials`, :func:`control_trend`) work on plain records too.
+"""
+
+from __future__ import annotations
+
+import re
+from collections import Counter, defaultdict
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
+
+from trials.errors import TrialsError
+from trials.methods import Family, MethodSpec, get_method
+from trials.model import AttributeKind, Batch, PlanEntry, Record, Response, Study
+from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
+
+NO_ANSWERS = "no answers yet"
+CHOICE = "choice"
+RANK = "rank"
+NO_PREFERENCE = "no preference"
+SIMILARITY_WORDS = re.compile(r"\bsimilar(ity)?\b|\bsame as\b", re.IGNORECASE)
+
+# --------------------------------------------------------------------------- records
+
+
+@dataclass(frozen=True, slots=True)
+class ScoredSet(Record):
+    """One panelist's forced-choice answer, decoded.
+
+    ``chosen`` is the chosen code(s) as answered, ``chosen_samples`` the decoded
+    sample name(s); ``correct`` is None for paired preference (no right answer).
+    """
+
+    session: str
+    panelist_code: str
+    set_index: int
+    chosen: str
+    chosen_samples: tuple[str, ...]
+    correct: bool | None
+
+
+@dataclass(frozen=True, slots=True)
+class ChoiceCounts(Record):
+    """The forced-choice answers of a trial, counted.
+
+    Discrimination: ``correct`` of ``n`` sets answered correctly. Paired preference:
+    ``counts`` (sample -> times chosen), ``correct`` is the count of the more-chosen
+    sample (``preferred``), ``n`` the answers that chose a sample, and
+    ``no_preference`` the answers that declined (left out of ``n``; see
+    :func:`score_choices`). ``target`` is the sample a 2-AFC or 3-AFC answer must
+    pick; ``problems`` lists the answers left out and why.
+    """
+
+    method: str
+    n: int
+    correct: int
+    counts: dict[str, int]
+    no_preference: int
+    preferred: str
+    target: str
+    sets: tuple[ScoredSet, ...]
+    problems: tuple[str, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class ForcedChoiceAnalysis(Record):
+    """Counts, the difference test and (when planned) the similarity test."""
+
+    method: str
+    counts: ChoiceCounts
+    difference: Any | None  # trials.stats.discrimination difference result
+    similarity: Any | None  # trials.stats.discrimination similarity result
+    similarity_planned: bool
+    alpha: float
+    beta: float
+    pd: float | None
+    note: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class AttributeAnalysis(Record):
+    """The ANOVA of one rated attribute (and its penalty analysis for a JAR scale)."""
+
+    attribute: str
+    kind: str
+    low: int
+    high: int
+    panelists: int
+    scores: int
+    means: dict[str, float]
+    anova: Any | None  # trials.stats.ratings.RatingAnova
+    penalty: Any | None  # trials.stats.jar result, JAR attributes only
+    relations: tuple[Relation, ...]
+    note: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class RankingAnalysis(Record):
+    """The Friedman test of the ranks (``ranks``: how many were decoded)."""
+
+    panelists: int
+    ranks: int
+    rank_means: dict[str, float]
+    result: Any | None  # trials.stats.ranks result
+    note: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class StudyAnalysis(Record):
+    """Everything :func:`analyse` found for one trial.
+
+    ``has_answers`` is False (and ``message`` is ``"no answers yet"``) when no answer
+    could be decoded. Exactly one of ``choice``, ``attributes``, ``ranking`` is filled,
+    by the method's family. ``problems`` names every answer left out and why.
+    """
+
+    study_name: str
+    method: str
+    family: str
+    objective: str
+    alpha: float
+    beta: float
+    pd: float | None
+    has_answers: bool
+    message: str
+    panelists_planned: int
+    panelists_answered: int
+    answers: int
+    choice: ForcedChoiceAnalysis | None
+    attributes: tuple[AttributeAnalysis, ...]
+    ranking: RankingAnalysis | None
+    measures: MeasuresSummary
+    problems: tuple[str, ...]
+
+    def attribute(self, name: str) -> AttributeAnalysis:
+        for a in self.attributes:
+            if a.attribute == name:
+                return a
+        raise KeyError(name)
+
+
+# --------------------------------------------------------------------------- joining
+
+
+class _Key:
+    """Index of the plan: (session, panelist, code) -> entry, and the sets."""
+
+    def __init__(self, plan: Sequence[PlanEntry]):
+        self.by_code: dict[tuple[str, str, str], PlanEntry] = {}
+        self.by_panelist_code: dict[tuple[str, str], list[PlanEntry]] = defaultdict(list)
+        self.sets: dict[tuple[str, str, int], list[PlanEntry]] = defaultdict(list)
+        for e in plan:
+            self.by_code[(e.session, e.panelist_code, e.code)] = e
+            self.by_panelist_code[(e.panelist_code, e.code)].append(e)
+            self.sets[(e.session, e.panelist_code, e.set_index)].append(e)
+        for entries in self.sets.values():
+            entries.sort(key=lambda e: e.position)
+
+    def find(self, session: str, panelist: str, code: str) -> PlanEntry | None:
+        hit = self.by_code.get((session, panelist, code))
+        if hit is not None:
+            return hit
+        same = self.by_panelist_code.get((panelist, code), [])
+        return same[0] if len(same) == 1 else None
+
+    def set_of(self, e: PlanEntry) -> list[PlanEntry]:
+        return self.sets[(e.session, e.panelist_code, e.set_index)]
+
+
+def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> pd.DataFrame:
+    """The responses joined to the plan: one row per answer, with the decoded sample.
+
+    Parameters
+    ----------
+    plan : sequence of trials.model.PlanEntry
+    responses : sequence of trials.model.Response
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``session panelist position code sample role set_index attribute value
+        comment mode``. A tetrad choice gives one row per chosen code; an answer whose
+        code is not in the plan keeps an empty ``sample``. For the report's appendix
+        and for exports: it holds the decoding key, so leader views only.
+    """
+    key = _Key(plan)
+    rows = []
+    for r in responses:
+        codes = r.code.split() if r.attribute == CHOICE else [r.code.strip()]
+        for code in codes or [""]:
+            e = key.find(r.session, r.panelist_code, code) if code else None
+            rows.append(
+                {
+                    "session": r.session,
+                    "panelist": r.panelist_code,
+                    "position": e.position if e else None,
+                    "code": code,
+                    "sample": e.sample_name if e else "",
+                    "role": e.role if e else "",
+                    "set_index": e.set_index if e else None,
+                    "attribute": r.attribute,
+                    "value": r.value,
+                    "comment": r.comment,
+                    "mode": str(r.mode),
+                }
+            )
+    cols = ["session", "panelist", "position", "code", "sample", "role", "set_index",
+            "attribute", "value", "comment", "mode"]
+    return pd.DataFrame(rows, columns=cols)
+
+
+# --------------------------------------------------------------------------- forced choice
+
+
+def target_sample(study: Study, plan: Sequence[PlanEntry] = ()) -> str:
+    """The sample a 2-AFC or 3-AFC answer must pick: the trial's second sample.
+
+    Convention (documented for designs and ballots alike): the trial's samples are
+    A and B in their order, and the directional question ("which has more ...") is
+    asked about B, so B (``study.samples[1]``) is the target. Where the trial lists
+    fewer than two samples, the plan's cups with role ``"B"`` name it.
+    """
+    if len(study.samples) >= 2:
+        return study.samples[1].name
+    named = {e.sample_name for e in plan if e.role == "B"}
+    if len(named) == 1:
+        return named.pop()
+    raise TrialsError(
+        f"trial {study.name!r}: cannot tell the target sample of {study.method!r}; "
+        "list two samples (the second is the target)"
+    )
+
+
+def _reference(cups: list[PlanEntry]) -> PlanEntry:
+    refs = [e for e in cups if e.role == "R"]
+    if len(refs) == 1:
+        return refs[0]
+    return cups[0]  # the pattern's first letter is the reference (trials.methods)
+
+
+def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
+               target: str) -> tuple[bool | None, str]:
+    """(correct, problem): problem is '' when the answer could be scored."""
+    name = spec.name
+    samples = Counter(e.sample_name for e in cups)
+    if spec.set_size and len(cups) != spec.set_size:
+        return None, f"the set holds {len(cups)} cups, the method {spec.set_size}"
+    if name == "tetrad":
+        if len(chosen) != 2 or chosen[0].code == chosen[1].code:
+            return None, f"a tetrad answer names two different cups, got {len(chosen)}"
+        return chosen[0].sample_name == chosen[1].sample_name, ""
+    if len(chosen) != 1:
+        return None, f"expected one chosen cup, got {len(chosen)}"
+    pick = chosen[0]
+    if name == "triangle":
+        if sorted(samples.values()) != [1, 2]:
+            return None, "a triangle set must hold two cups of one sample and one of the other"
+        return samples[pick.sample_name] == 1, ""
+    if name == "duo-trio":
+        ref = _reference(cups)
+        if pick.code == ref.code:
+            return None, f"the chosen cup {pick.code!r} is the reference"
+        return pick.sample_name == ref.sample_name, ""
+    if name in ("2afc", "3afc"):
+        if samples.get(target, 0) != 1:
+            return None, f"the set does not hold exactly one cup of the target {target!r}"
+        return pick.sample_name == target, ""
+    if name == "paired-preference":
+        return None, ""
+    raise TrialsError(f"no scoring rule for method {name!r}")  # pragma: no cover
+
+
+def score_choices(study: Study, plan: Sequence[PlanEntry],
+                  responses: Sequence[Response]) -> ChoiceCounts:
+    """Score each forced-choice answer by the method's rule and count.
+
+    Parameters
+    ----------
+    study : trials.model.Study
+        Its ``method`` picks the rule; its samples' order names the 2-AFC/3-AFC target.
+    plan : sequence of trials.model.PlanEntry
+        The decoding key: each cup's code, sample, role and set.
+    responses : sequence of trials.model.Response
+        Rows with ``attribute == "choice"`` are counted; others are ignored.
+
+    Returns
+    -------
+    ChoiceCounts
+
+    Notes
+    -----
+    Rules, one per method, decided on the decoded samples of the panelist's set (the
+    cups of one session and ``set_index``), so they hold whatever letters the design
+    gave:
+
+    - triangle (ISO 4120): correct when the chosen cup's sample appears once in the
+      set (the odd cup);
+    - duo-trio (ISO 10399): correct when the chosen cup holds the reference's sample;
+      the reference is the cup with role ``"R"``, else the set's first cup;
+    - 2-AFC (ISO 5495) and 3-AFC: correct when the chosen cup holds the target, the
+      trial's second sample (:func:`target_sample`);
+    - tetrad (unspecified): correct when the two chosen cups hold the same sample;
+    - paired preference: no right answer; choices counted per sample. An answer of
+      ``"no preference"`` (allowed by the response format) is counted apart and left
+      out of ``n``, so the two-sided test is on the panelists who chose (the
+      "drop" treatment of no-preference votes; common practice, see ASTM E2263).
+
+    Answers left out (a code not in the plan, a set of the wrong size, two answers to
+    one set) are named in ``problems``; when one set was answered twice, the later
+    response in the given order is kept.
+    """
+    spec = get_method(study.method)
+    if not spec.is_forced_choice:
+        raise TrialsError(f"method {study.method!r} is not a forced-choice method")
+    key = _Key(plan)
+    target = target_sample(study, plan) if spec.name in ("2afc", "3afc") else ""
+    problems: list[str] = []
+    latest: dict[tuple[str, str, int], tuple[Response, list[PlanEntry]]] = {}
+    no_pref: dict[tuple[str, str], Response] = {}
+    for r in responses:
+        if r.attribute != CHOICE:
+            continue
+        who = f"panelist {r.panelist_code!r}, session {r.session!r}"
+        codes = r.code.split()
+        if not codes:
+            if spec.name == "paired-preference" and r.value.strip().lower() == NO_PREFERENCE:
+                no_pref[(r.session, r.panelist_code)] = r
+            else:
+                problems.append(f"{who}: an empty choice (value {r.value!r}) left out")
+            continue
+        entries = [key.find(r.session, r.panelist_code, c) for c in codes]
+        missing = [c for c, e in zip(codes, entries) if e is None]
+        if missing:
+            problems.append(f"{who}: code(s) {missing!r} not in this panelist's plan; left out")
+            continue
+        set_ids = {(e.session, e.panelist_code, e.set_index) for e in entries}
+        if len(set_ids) != 1:
+            problems.append(f"{who}: codes {codes!r} come from different sets; left out")
+            continue
+        sid = set_ids.pop()
+        if sid in latest:
+            problems.append(f"{who}: set {sid[2]} answered more than once; the later answer kept")
+        latest[sid] = (r, entries)
+    sets: list[ScoredSet] = []
+    for sid, (r, entries) in latest.items():
+        no_pref.pop((sid[0], sid[1]), None)
+        cups = key.sets[sid]
+        correct, problem = _score_one(spec, cups, entries, target)
+        if problem:
+            problems.append(f"panelist {sid[1]!r}, session {sid[0]!r}: {problem}; left out")
+            continue
+        sets.append(ScoredSet(sid[0], sid[1], sid[2], r.code,
+                              tuple(e.sample_name for e in entries), correct))
+    if spec.name == "paired-preference":
+        names = [s.name for s in study.samples] or sorted({e.sample_name for e in plan})
+        counts = {n: 0 for n in names}
+        for s in sets:
+            counts[s.chosen_samples[0]] = counts.get(s.chosen_samples[0], 0) + 1
+        preferred = max(counts, key=lambda n: counts[n]) if counts else ""
+        top = counts.get(preferred, 0)
+        if list(counts.values()).count(top) > 1:
+            preferred = ""  # a tie: neither is more chosen
+        return ChoiceCounts(spec.name, len(sets), top, counts, len(no_pref), preferred,
+                            "", tuple(sets), tuple(problems))
+    n_correct = sum(1 for s in sets if s.correct)
+    counts = {"correct": n_correct, "incorrect": len(sets) - n_correct}
+    return ChoiceCounts(spec.name, len(sets), n_correct, counts, 0, "", target,
+                        tuple(sets), tuple(problems))
+
+
+def planned_similarity(study: Study) -> bool:
+    """Whether the trial was planned as a similarity test.
+
+    A trial says so with ``study.aim == "similarity"``; where ``aim`` is empty, an
+    objective that uses the words "similar", "similarity" or "same as" counts as a
+    similarity aim. The similarity test then uses the trial's ``pd`` (the largest
+    proportion of discriminators that does not matter) and ``beta``.
+    """
+    aim = (getattr(study, "aim", "") or "").strip().lower()
+    if aim:
+        return aim == "similarity"
+    return bool(SIMILARITY_WORDS.search(study.objective or ""))
+
+
+def _forced_choice(study: Study, plan, responses) -> ForcedChoiceAnalysis:
+    from trials.stats import discrimination as disc
+
+    counts = score_choices(study, plan, responses)
+    similar = planned_similarity(study)
+    difference = similarity = None
+    notes = []
+    if counts.n == 0:
+        notes.append(NO_ANSWERS)
+    else:
+        try:
+            difference = disc.difference_test(counts.correct, counts.n, method=study.method,
+                                              alpha=study.alpha, level=0.95)
+        except TrialsError as exc:
+            notes.append(f"difference test not run: {exc}")
+        if similar and study.method != "paired-preference":
+            if study.pd is None:
+                notes.append("a similarity test was planned but the trial states no pd")
+            else:
+                try:
+                    similarity = disc.similarity_test(counts.correct, counts.n,
+                                                      method=study.method, pd=study.pd,
+                                                      beta=study.beta)
+                except TrialsError as exc:
+                    notes.append(f"similarity test not run: {exc}")
+    return ForcedChoiceAnalysis(study.method, counts, difference, similarity, similar,
+                                study.alpha, study.beta, study.pd, "; ".join(notes))
+
+
+# --------------------------------------------------------------------------- ratings
+
+
+def _score_frame(study: Study, plan, responses, attribute: str) -> tuple[pd.DataFrame, list[str]]:
+    key = _Key(plan)
+    rows, problems = [], []
+    for r in responses:
+        if r.attribute != attribute:
+            continue
+        who = f"panelist {r.panelist_code!r}, session {r.session!r}, {attribute!r}"
+        e = key.find(r.session, r.panelist_code, r.code.strip())
+        if e is None:
+            problems.append(f"{who}: code {r.code!r} not in this panelist's plan; left out")
+            continue
+        try:
+            value = float(r.value.strip().replace(",", "."))
+        except ValueError:
+            problems.append(f"{who}: value {r.value!r} is not a number; left out")
+            continue
+        rows.append({"panelist": r.panelist_code, "sample": e.sample_name,
+                     "session": r.session, "score": value})
+    frame = pd.DataFrame(rows, columns=["panelist", "sample", "session", "score"])
+    if not frame.empty:
+        frame["replicate"] = frame.groupby(["panelist", "sample"]).cumcount() + 1
+    return frame, problems
+
+
+def _rating_means(frame: pd.DataFrame, order: Sequence[str]) -> dict[str, float]:
+    means = frame.groupby("sample")["score"].mean()
+    return {s: float(means[s]) for s in order if s in means.index}
+
+
+def _ratings(study: Study, plan, responses, measures: MeasuresSummary
+             ) -> tuple[tuple[AttributeAnalysis, ...], list[str]]:
+    order = [s.name for s in study.samples] or list(dict.fromkeys(e.sample_name for e in plan))
+    problems: list[str] = []
+    frames: dict[str, pd.DataFrame] = {}
+    for a in study.attributes:
+        frame, probs = _score_frame(study, plan, responses, a.name)
+        problems += probs
+        frames[a.name] = frame
+    hedonic = next((a for a in study.attributes if a.kind == AttributeKind.HEDONIC), None)
+    out: list[AttributeAnalysis] = []
+    for a in study.attributes:
+        frame = frames[a.name]
+        means = _rating_means(frame, order) if not frame.empty else {}
+        anova = penalty = None
+        notes = []
+        if frame.empty:
+            notes.append(NO_ANSWERS)
+        elif frame["sample"].nunique() < 2:
+            notes.append("scores for one sample only: nothing to compare")
+        elif frame["panelist"].nunique() < 2:
+            notes.append("one panelist only: no panelist effect to test against")
+        else:
+            from trials.stats.ratings import rating_anova
+
+            replicate = "replicate" if frame["replicate"].max() > 1 else None
+            try:
+                anova = rating_anova(frame, score="score", sample="sample",
+                                     panelist="panelist", replicate=replicate,
+                                     alpha=study.alpha, low=a.low, high=a.high)
+            except TrialsError as exc:
+                notes.append(f"ANOVA not run: {exc}")
+        if a.kind == AttributeKind.JAR and hedonic is not None and not frame.empty:
+            penalty, note = _penalty(a, hedonic, frame, frames[hedonic.name])
+            if note:
+                notes.append(note)
+        relations = ()
+        if means and not measures.empty and a.kind != AttributeKind.JAR:
+            relations = relate_to_batches(means, measures, outcome=a.name)
+        out.append(AttributeAnalysis(a.name, str(a.kind), a.low, a.high,
+                                     int(frame["panelist"].nunique()) if not frame.empty else 0,
+                                     len(frame), means, anova, penalty, relations,
+                                     "; ".join(notes)))
+    return tuple(out), problems
+
+
+def _penalty(jar, hedonic, jar_frame: pd.DataFrame, liking_frame: pd.DataFrame
+             ) -> tuple[Any | None, str]:
+    """Penalty analysis of one JAR attribute against liking (trials.stats.jar)."""
+    if liking_frame.empty:
+        return None, "penalty analysis not run: no liking scores"
+    try:
+        from trials.stats import jar as jar_stats
+    except ImportError:
+        return None, "penalty analysis not available in this build"
+    keys = ["panelist", "sample", "session"]
+    both = jar_frame.merge(liking_frame, on=keys, suffixes=("_jar", "_liking"))
+    if both.empty:
+        return None, "penalty analysis not run: no cup has both scores"
+    data = pd.DataFrame({"panelist": both["panelist"], "sample": both["sample"],
+                         "jar": both["score_jar"], "liking": both["score_liking"]})
+    try:
+        return _call_penalty(jar_stats, data, jar), ""
+    except TrialsError as exc:
+        return None, f"penalty analysis not run: {exc}"
+
+
+def _call_penalty(jar_stats, data: pd.DataFrame, jar) -> Any:
+    fn = getattr(jar_stats, "penalty_analysis")
+    return fn(data, jar="jar", liking="liking", sample="sample",
+              low=jar.low, high=jar.high)
+
+
+# --------------------------------------------------------------------------- ranking
+
+
+def _ranking(study: Study, plan, responses) -> tuple[RankingAnalysis, list[str]]:
+    frame, problems = _score_frame(study, plan, responses, RANK)
+    if frame.empty:
+        return RankingAnalysis(0, 0, {}, None, NO_ANSWERS), problems
+    frame = frame.rename(columns={"score": "rank"})
+    if frame["replicate"].max() > 1:  # a panelist ranked in more than one session
+        frame["panelist"] = frame["panelist"] + " / " + frame["session"]
+    order = [s.name for s in study.samples] or list(dict.fromkeys(frame["sample"]))
+    m = frame.groupby("sample")["rank"].mean()
+    rank_means = {s: float(m[s]) for s in order if s in m.index}
+    n_pan = int(frame["panelist"].nunique())
+    if frame["sample"].nunique() < 2 or n_pan < 2:
+        return RankingAnalysis(n_pan, len(frame), rank_means, None,
+                               "too few panelists or samples for the Friedman test"), problems
+    from trials.stats.ranks import friedman_test
+
+    try:
+        res = friedman_test(frame, rank="rank", sample="sample", panelist="panelist",
+                            alpha=study.alpha)
+    except TrialsError as exc:
+        return RankingAnalysis(n_pan, len(frame), rank_means, None, f"Friedman test not run: {exc}"), problems
+    return RankingAnalysis(n_pan, len(frame), rank_means, res), problems
+
+
+# --------------------------------------------------------------------------- entry point
+
+
+def analyse(study: Study, plan: Sequence[PlanEntry], responses: Sequence[Response], *,
+            batches: Iterable[Batch] = ()) -> StudyAnalysis:
+    """Analyse one trial from its plan, answers and batches.
+
+    Parameters
+    ----------
+    study : trials.model.Study
+        Method, risks (``alpha``, ``beta``, ``pd``), samples (in order: the second is
+        the 2-AFC/3-AFC target) and attributes (ratings).
+    plan : sequence of trials.model.PlanEntry
+        The serving plan: the decoding key.
+    responses : sequence of trials.model.Response
+        One row per answer, as documented on :class:`trials.model.Response`.
+    batches : iterable of trials.model.Batch
+        Their numeric measures and settings are summarised and, for ratings, related
+        to the sample means.
+
+    Returns
+    -------
+    StudyAnalysis
+        With ``has_answers=False`` and ``message="no answers yet"`` when no answer
+        could be decoded.
+
+    Notes
+    -----
+    The statistics are those of :mod:`trials.stats`; see :func:`score_choices` for the
+    scoring rules and :func:`planned_similarity` for when the similarity test runs.
+    Answers that cannot be decoded are left out and listed in ``problems``.
+    """
+    spec = get_method(study.method)
+    measures = summarise_measures(list(batches))
+    planned = len({e.panelist_code for e in plan})
+    choice = ranking = None
+    attributes: tuple[AttributeAnalysis, ...] = ()
+    problems: list[str] = []
+    if spec.is_forced_choice:
+        choice = _forced_choice(study, plan, responses)
+        problems += choice.counts.problems
+        answered = {s.panelist_code for s in choice.counts.sets}
+        answers = choice.counts.n + choice.counts.no_preference
+    elif spec.family == Family.RATING:
+        attributes, problems = _ratings(study, plan, responses, measures)
+        names = {a.name for a in study.attributes}
+        used = [r for r in responses if r.attribute in names]
+        answers = sum(a.scores for a in attributes)
+        answered = {r.panelist_code for r in used} if answers else set()
+    else:
+        ranking, problems = _ranking(study, plan, responses)
+        answers = ranking.ranks
+        answered = {r.panelist_code for r in responses if r.attribute == RANK} if answers else set()
+    has = answers > 0
+    message = "" if has else NO_ANSWERS
+    return StudyAnalysis(study.name, spec.name, str(spec.family), study.objective,
+                         study.alpha, study.beta, study.pd, has, message, planned,
+                         len(answered), max(answers, 0), choice, attributes, ranking,
+                         measures, tuple(problems))
+
+
+# --------------------------------------------------------------------------- history
+
+
+def _field(record: Any, name: str, default: Any = "") -> Any:
+    if isinstance(record, Mapping):
+        return record.get(name, default)
+    return getattr(record, name, default)
+
+
+def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | None = None,
+                  decision: str | None = None) -> list[Any]:
+    """The trials on file that match a free text, a method and a decision.
+
+    Parameters
+    ----------
+    summaries : iterable of mappings or records
+        Each with some of ``name objective product method decision rationale
+        samples`` (``samples``: names, or records with ``name``).
+    text : str
+        Every word must appear (case-insensitive) in the name, objective, product,
+        decision, rationale or a sample's name. Empty matches all.
+    method : str or None
+        Keep only this method (a registry name).
+    decision : str or None
+        Keep only trials whose decision text contains this (case-insensitive).
+
+    Returns
+    -------
+    list
+        The matching summaries, in the given order.
+    """
+    words = [w.lower() for w in text.split()]
+    out = []
+    for s in summaries:
+        if method and _field(s, "method") != method:
+            continue
+        if decision and decision.lower() not in str(_field(s, "decision") or "").lower():
+            continue
+        samples = _field(s, "samples", ()) or ()
+        names = [x if isinstance(x, str) else str(_field(x, "name")) for x in samples]
+        hay = " ".join(str(_field(s, f) or "") for f in
+                       ("name", "objective", "product", "decision", "rationale"))
+        hay = (hay + " " + " ".join(names)).lower()
+        if all(w in hay for w in words):
+            out.append(s)
+    return out
+
+
+@dataclass(frozen=True, slots=True)
+class TrendPoint(Record):
+    """The control sample's mean score on one attribute in one trial."""
+
+    study: str
+    date: str
+    control: str
+    attribute: str
+    n: int
+    mean: float
+    sd: float | None
+
+
+def control_trend(scores: pd.DataFrame | Iterable[Mapping[str, Any]], *, control: str,
+                  attribute: str | None = None) -> tuple[TrendPoint, ...]:
+    """The control sample's mean score across the trials that share it, by date.
+
+    Parameters
+    ----------
+    scores : DataFrame or iterable of mappings
+        One row per score, columns ``study date sample attribute score`` (``date`` may
+        be empty; ``study`` is a name or id).
+    control : str
+        The control sample's name; rows of other samples are ignored.
+    attribute : str or None
+        Keep only this attribute (all when None).
+
+    Returns
+    -------
+    tuple of TrendPoint
+        One per trial and attribute, ordered by date then trial; ``sd`` with divisor
+        n - 1 (None for one score). Descriptive only: panels and sessions differ
+        between trials.
+    """
+    frame = scores if isinstance(scores, pd.DataFrame) else pd.DataFrame(list(scores))
+    need = {"study", "sample", "attribute", "score"}
+    if frame.empty:
+        return ()
+    missing = need - set(frame.columns)
+    if missing:
+        raise TrialsError(f"control trend needs columns {sorted(missing)!r}")
+    sub = frame[frame["sample"] == control]
+    if attribute is not None:
+        sub = sub[sub["attribute"] == attribute]
+    if sub.empty:
+        return ()
+    sub = sub.assign(date=(sub["date"] if "date" in sub.columns else "").astype(str)
+                     .replace({"None": "", "nan": "", "NaT": ""}),
+                     score=pd.to_numeric(sub["score"], errors="coerce"),
+                     study=sub["study"].astype(str))
+    sub = sub.dropna(subset=["score"])
+    points = []
+    for (study, date, attr), g in sub.groupby(["study", "date", "attribute"], sort=False):
+        vals = g["score"].astype(float)
+        sd = float(vals.std(ddof=1)) if len(vals) > 1 else None
+        points.append(TrendPoint(str(study), str(date), control, str(attr), len(vals),
+                                 float(vals.mean()), sd))
+    points.sort(key=lambda p: (p.date, p.study, p.attribute))
+    return tuple(points)
