@@ -1,0 +1,578 @@
+"""Paper ballots: one per panelist and session, showing blinding codes only.
+
+What a ballot shows
+-------------------
+- a neutral heading (``"Tasting ballot"`` by default), the session, the trial's number
+  (``study.id``) and the method's label. The trial's *name* is never printed: names such
+  as "Low-salt crust vs classic" tell the panelist what differs, which biases the answer.
+  Sample names, descriptions and batch labels are never printed either;
+- the panelist's code (pre-filled) and a date field (pre-filled with ``today`` if given);
+- the method's question and instructions from :mod:`trials.methods`, and the cups'
+  codes in serving order, with an answer area fitted to the method (see below);
+- a comment line;
+- cautions on every page: the allergens declared for the session's samples, pooled over
+  all of the session's samples and never tied to a code; a request to tell the panel
+  leader about allergies, intolerances or dietary restrictions before tasting; and that
+  tasting is voluntary and needs the panelist's consent. Where the panelist's record is
+  given (``panelists``) and their declared allergens meet the session's, or no consent is
+  on file, the ballot asks them to see the panel leader before tasting;
+- a QR code of ``base_url`` + the panelist's tasting path when both ``base_url`` and
+  ``tokens`` (panelist code -> path such as ``"/taste?t=..."``) are given, with the
+  address printed small beside it.
+
+Answer areas
+------------
+- triangle, 2-AFC, 3-AFC, paired preference: the set's codes in large boxes, left to
+  right in serving order, to circle one (2-AFC and 3-AFC name the attribute, the first
+  of ``study.attributes``; without one the ballot leaves a line to write it in);
+- duo-trio: the reference cup first, marked "R" with its code (the cup whose ``role`` is
+  ``"R"``, else the set's first cup, as the registry's patterns put the reference
+  first), then the two coded cups to circle;
+- tetrad: the four codes to circle two, the other two forming the second group;
+- rating: for each attribute a grid, one row per code in serving order, one box per
+  scale point, with the anchors: the attribute's own (every point, or the two ends), or
+  by default the 9-point hedonic scale of Peryam and Pilgrim (1957), the 5-point
+  just-about-right scale (much too little .. much too much) and end anchors
+  "Very weak" / "Very strong" for intensity (common practice). Without attributes the
+  ballot asks for overall liking on the 9-point hedonic scale;
+- ranking: for each attribute (or overall liking) a rank box beside each code.
+
+A ballot that does not fit one page continues on the next, with the heading and the
+cautions repeated.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+from collections.abc import Iterable, Mapping, Sequence
+
+from reportlab.lib.colors import Color, black, white
+
+from trials.errors import TrialsError
+from trials.methods import Family, MethodSpec, get_method
+from trials.model import Attribute, AttributeKind, Panelist, PlanEntry, Study
+from trials.printing.layout import (
+    BOLD,
+    ITALIC,
+    SANS,
+    PanelistSession,
+    PrintResult,
+    Progress,
+    Ticker,
+    draw_lines,
+    draw_qr,
+    fit_size,
+    group_plan,
+    join_url,
+    new_canvas,
+    page_size,
+    printable,
+    sessions_of,
+    wrap,
+)
+
+# 9-point hedonic scale, Peryam and Pilgrim (1957), Food Technol. 11(9):9-14; low to high.
+HEDONIC_9 = (
+    "Dislike extremely",
+    "Dislike very much",
+    "Dislike moderately",
+    "Dislike slightly",
+    "Neither like nor dislike",
+    "Like slightly",
+    "Like moderately",
+    "Like very much",
+    "Like extremely",
+)
+# 5-point just-about-right scale (common practice), low to high.
+JAR_5 = ("Much too little", "Too little", "Just about right", "Too much", "Much too much")
+INTENSITY_ENDS = ("Very weak", "Very strong")  # common practice
+OVERALL_LIKING = Attribute("Overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9)
+
+GREY = Color(0.45, 0.45, 0.45)
+LIGHT = Color(0.93, 0.93, 0.93)
+SHADE = Color(0.965, 0.965, 0.965)
+MARGIN = 36.0
+MAX_POINTS = 21
+
+
+def scale_anchors(attr: Attribute) -> tuple[str, ...]:
+    """The anchors printed for ``attr``: one per point, or just the two ends.
+
+    The attribute's own ``anchors`` win; otherwise the defaults of the module docstring.
+    Raises :class:`TrialsError` for a scale that cannot be printed.
+    """
+    points = attr.high - attr.low + 1
+    if points < 2 or points > MAX_POINTS:
+        raise TrialsError(
+            f"attribute {attr.name!r}: scale {attr.low}..{attr.high} has {points} points; "
+            f"a ballot prints 2 to {MAX_POINTS}"
+        )
+    if attr.anchors:
+        if len(attr.anchors) not in (2, points):
+            raise TrialsError(
+                f"attribute {attr.name!r}: {len(attr.anchors)} anchors for {points} points; "
+                "give one per point or just the two ends"
+            )
+        return tuple(attr.anchors)
+    kind = AttributeKind(attr.kind)
+    if kind is AttributeKind.HEDONIC:
+        return HEDONIC_9 if points == 9 else (HEDONIC_9[0], HEDONIC_9[-1])
+    if kind is AttributeKind.JAR:
+        return JAR_5 if points == 5 else (JAR_5[0], JAR_5[-1])
+    return INTENSITY_ENDS
+
+
+def session_allergens(study: Study, entries: Iterable[PlanEntry]) -> tuple[str, ...]:
+    """The allergens of every sample served in ``entries``, pooled, sorted, lower case."""
+    samples = {s.name: s for s in study.samples}
+    found: set[str] = set()
+    for e in entries:
+        if e.sample_name not in samples:
+            raise TrialsError(
+                f"plan cup {e.code!r} names sample {e.sample_name!r}, which is not a sample "
+                f"of trial {study.name!r}"
+            )
+        found.update(a.strip().lower() for a in samples[e.sample_name].allergens if a.strip())
+    return tuple(sorted(found))
+
+
+def _check_sets(method: MethodSpec, group: PanelistSession) -> None:
+    if not method.is_forced_choice or method.set_size is None:
+        return
+    for cups in group.sets:
+        if len(cups) != method.set_size:
+            raise TrialsError(
+                f"panelist {group.panelist_code!r}, session {group.session!r}: a "
+                f"{method.name} set holds {method.set_size} cups, got {len(cups)} "
+                f"(codes {[e.code for e in cups]})"
+            )
+        if method.name == "duo-trio" and sum(e.role == "R" for e in cups) > 1:
+            raise TrialsError(
+                f"panelist {group.panelist_code!r}, session {group.session!r}: more than one "
+                f"reference cup in a duo-trio set (codes {[e.code for e in cups]})"
+            )
+
+
+class _Ballot:
+    """Draws one ballot, page by page, keeping a cursor ``y``."""
+
+    def __init__(self, c, size, *, heading, method, group, study, date_text, url,
+                 cautions):
+        self.c = c
+        self.width, self.height = size
+        self.heading = heading
+        self.method = method
+        self.group = group
+        self.study = study
+        self.date_text = date_text
+        self.url = url
+        self.cautions = cautions
+        self.left = MARGIN
+        self.right = self.width - MARGIN
+        self.inner = self.right - self.left
+        self.caution_lines = [wrap(t, f, s, self.inner - 12) for t, f, s in cautions]
+        self.footer_h = 16 + sum(len(ls) * s * 1.25 for ls, (_, _, s) in
+                                 zip(self.caution_lines, cautions)) + 14
+        self.bottom = MARGIN + self.footer_h + 8
+        self.pages = 0
+        self.y = 0.0
+
+    # ---- pages
+
+    def start_page(self) -> None:
+        c = self.c
+        if self.pages:
+            c.showPage()
+        self.pages += 1
+        top = self.height - MARGIN
+        qr = 66.0 if (self.url and self.pages == 1) else 0.0
+        text_right = self.right - (qr + 8 if qr else 0)
+        title = self.heading if self.pages == 1 else f"{self.heading} (continued)"
+        c.setFillColor(black)
+        c.setFont(BOLD, 17)
+        c.drawString(self.left, top - 16, printable(title))
+        c.setFont(SANS, 10)
+        info = f"Session {self.group.session}"
+        if self.study.id is not None:
+            info = f"Trial no. {self.study.id}  ·  {info}"
+        c.drawRightString(text_right, top - 14, printable(info))
+        c.setFont(SANS, 9)
+        c.setFillColor(GREY)
+        c.drawRightString(text_right, top - 27, printable(self.method.label))
+        c.setFillColor(black)
+        # panelist and date fields
+        y = top - 52
+        c.setFont(SANS, 10)
+        c.drawString(self.left, y, "Panelist")
+        box_x = self.left + 46
+        code = printable(self.group.panelist_code)
+        size = fit_size(code, BOLD, 84, 13)
+        c.rect(box_x, y - 6, 92, 20, stroke=1, fill=0)
+        c.setFont(BOLD, size)
+        c.drawString(box_x + 4, y, code)
+        c.setFont(SANS, 10)
+        dx = box_x + 110
+        c.drawString(dx, y, "Date")
+        c.rect(dx + 28, y - 6, 96, 20, stroke=1, fill=0)
+        if self.date_text:
+            c.drawString(dx + 32, y, printable(self.date_text))
+        if qr:
+            qx, qy = self.right - qr, top - qr + 6
+            draw_qr(c, self.url, qx, qy, qr)
+            c.setFont(SANS, 5.5)
+            c.setFillColor(GREY)
+            lines = wrap(self.url, SANS, 5.5, 118)
+            ly = qy + qr - 12
+            for line in lines[:5]:
+                c.drawRightString(qx - 4, ly - 40, line)
+                ly -= 6.5
+            c.setFillColor(black)
+        self.y = min(y - 18, top - qr - 4) if qr else y - 18
+        c.setStrokeColor(GREY)
+        c.line(self.left, self.y, self.right, self.y)
+        c.setStrokeColor(black)
+        self.y -= 16
+        self.draw_footer()
+
+    def draw_footer(self) -> None:
+        c = self.c
+        x = self.left
+        y0 = MARGIN
+        c.setFillColor(SHADE)
+        c.setStrokeColor(GREY)
+        c.roundRect(x, y0 + 10, self.inner, self.footer_h - 10, 4, stroke=1, fill=1)
+        c.setFillColor(black)
+        c.setStrokeColor(black)
+        y = y0 + self.footer_h - 12
+        for lines, (_, font, size) in zip(self.caution_lines, self.cautions):
+            y = draw_lines(c, lines, x + 6, y - size + 9, font, size)
+        c.setFont(SANS, 7)
+        c.setFillColor(GREY)
+        c.drawString(x, y0, "Please return this ballot to the panel leader.")
+        c.drawRightString(self.right, y0,
+                          printable(f"{self.group.panelist_code} · session {self.group.session}"
+                                    f" · page {self.pages}"))
+        c.setFillColor(black)
+
+    def need(self, h: float) -> bool:
+        """Make room for ``h`` points; True when a new page was started."""
+        if self.y - h < self.bottom:
+            self.start_page()
+            return True
+        return False
+
+    # ---- blocks
+
+    def text(self, text: str, font: str = SANS, size: float = 10, gap: float = 4,
+             color=black) -> None:
+        lines = wrap(text, font, size, self.inner)
+        lead = size * 1.3
+        self.need(len(lines) * lead)
+        self.c.setFillColor(color)
+        self.y = draw_lines(self.c, lines, self.left, self.y - size + 2, font, size, lead)
+        self.c.setFillColor(black)
+        self.y -= gap - (lead - size)
+
+    def code_boxes(self, cups: Sequence[PlanEntry], *, reference: PlanEntry | None) -> None:
+        """Large code boxes, left to right in serving order, the reference marked R."""
+        c = self.c
+        box_w, box_h, gap = 92.0, 44.0, 18.0
+        n = len(cups)
+        if n * box_w + (n - 1) * gap > self.inner:
+            box_w = (self.inner - (n - 1) * gap) / n
+        self.need(box_h + 22)
+        c.setFont(SANS, 8)
+        c.setFillColor(GREY)
+        c.drawString(self.left, self.y - 6, "Taste from left to right:")
+        c.setFillColor(black)
+        top = self.y - 14
+        x = self.left
+        for e in cups:
+            is_ref = reference is not None and e is reference
+            if is_ref:
+                c.setFillColor(LIGHT)
+                c.roundRect(x, top - box_h, box_w, box_h, 6, stroke=1, fill=1)
+                c.setFillColor(black)
+                c.setFont(BOLD, 9)
+                c.drawString(x + 5, top - 11, "R")
+                c.setFont(SANS, 6.5)
+                c.drawRightString(x + box_w - 5, top - 10, "reference")
+            else:
+                c.roundRect(x, top - box_h, box_w, box_h, 6, stroke=1, fill=0)
+            code = printable(e.code)
+            size = fit_size(code, BOLD, box_w - 16, 22)
+            c.setFont(BOLD, size)
+            c.drawCentredString(x + box_w / 2, top - box_h / 2 - size * 0.35, code)
+            x += box_w + gap
+        self.y = top - box_h - 14
+
+    def attribute_line(self) -> None:
+        attrs = self.study.attributes
+        if attrs:
+            self.text(f"Attribute: {attrs[0].name}", BOLD, 11)
+        else:
+            self.text("Attribute (written in by the panel leader): ______________________",
+                      BOLD, 11)
+
+    def serving_order(self) -> None:
+        codes = "   ".join(e.code for e in self.group.entries)
+        self.text(f"Serving order: {codes}", BOLD, 11, gap=8)
+
+    def rating_grid(self, attr: Attribute, row_h: float) -> None:
+        c = self.c
+        anchors = scale_anchors(attr)
+        points = list(range(attr.low, attr.high + 1))
+        code_w = 56.0
+        col_w = min(46.0, (self.inner - code_w) / len(points))
+        grid_w = code_w + col_w * len(points)
+        full = len(anchors) == len(points)
+        asize = 6.5
+        if full:
+            anchor_lines = [wrap(a, SANS, asize, col_w - 2) for a in anchors]
+            anchor_h = max(len(ls) for ls in anchor_lines) * asize * 1.15
+        else:
+            anchor_lines = []
+            anchor_h = asize * 1.2
+        head_h = 14 + anchor_h + 11
+
+        def header(label: str) -> None:
+            c.setFont(BOLD, 10.5)
+            c.drawString(self.left, self.y - 10, printable(label))
+            top = self.y - 14
+            c.setFont(SANS, asize)
+            if full:
+                for i, ls in enumerate(anchor_lines):
+                    cx = self.left + code_w + col_w * (i + 0.5)
+                    yy = top - asize
+                    for line in ls:
+                        c.drawCentredString(cx, yy, line)
+                        yy -= asize * 1.15
+            else:
+                c.drawString(self.left + code_w + 2, top - asize, printable(anchors[0]))
+                c.drawRightString(self.left + grid_w - 2, top - asize, printable(anchors[-1]))
+            top -= anchor_h + 1
+            c.setFont(SANS, 7.5)
+            c.setFillColor(GREY)
+            for i, p in enumerate(points):
+                c.drawCentredString(self.left + code_w + col_w * (i + 0.5), top - 8, str(p))
+            c.setFillColor(black)
+            self.y = top - 10
+
+        self.need(head_h + row_h)
+        header(attr.name)
+        box = min(row_h - 4, 11.0)
+        for i, e in enumerate(self.group.entries):
+            if self.need(row_h):
+                header(f"{attr.name} (continued)")
+            y = self.y - row_h
+            if i % 2 == 0:
+                c.setFillColor(SHADE)
+                c.rect(self.left, y, grid_w, row_h, stroke=0, fill=1)
+                c.setFillColor(black)
+            c.setFont(BOLD, min(11.0, row_h - 3))
+            c.drawString(self.left + 4, y + (row_h - min(11.0, row_h - 3)) / 2 + 1.5,
+                         printable(e.code))
+            c.setLineWidth(0.7)
+            for j in range(len(points)):
+                bx = self.left + code_w + col_w * (j + 0.5) - box / 2
+                c.rect(bx, y + (row_h - box) / 2, box, box, stroke=1, fill=0)
+            c.setLineWidth(1)
+            self.y = y
+        self.y -= 10
+
+    def ranking_block(self, attr: Attribute | None) -> None:
+        c = self.c
+        if attr is None or AttributeKind(attr.kind) is AttributeKind.HEDONIC:
+            label = attr.name if attr else "Overall liking"
+            what = f"{label}: rank 1 = the sample you like most"
+        else:
+            what = f"{attr.name}: rank 1 = the sample with the most {attr.name.lower()}"
+        n = len(self.group.entries)
+        what += f", rank {n} = the least."
+        self.text(what, BOLD, 10.5, gap=6)
+        per_row = min(4, n)
+        cell_w = self.inner / per_row
+        cell_h = 30.0
+        for start in range(0, n, per_row):
+            self.need(cell_h)
+            for k, e in enumerate(self.group.entries[start:start + per_row]):
+                x = self.left + k * cell_w
+                y = self.y - cell_h + 6
+                c.setFont(BOLD, 14)
+                c.drawString(x + 2, y + 6, printable(e.code))
+                c.setFont(SANS, 8)
+                c.drawString(x + 50, y + 8, "rank")
+                c.rect(x + 72, y, 34, 22, stroke=1, fill=0)
+            self.y -= cell_h
+        self.y -= 16
+
+    def comments(self) -> None:
+        c = self.c
+        self.need(52)
+        c.setFont(SANS, 10)
+        c.drawString(self.left, self.y - 10, "Comments (optional):")
+        c.setStrokeColor(GREY)
+        c.setLineWidth(0.5)
+        for k in range(2):
+            yy = self.y - 30 - k * 18
+            c.line(self.left, yy, self.right, yy)
+        c.setLineWidth(1)
+        c.setStrokeColor(black)
+        self.y -= 52
+
+
+def _rating_row_height(ballot: _Ballot, attrs: Sequence[Attribute]) -> float:
+    """Rows as tall as 17 pt, shrunk to as little as 12 pt to fit one page."""
+    n = len(ballot.group.entries)
+    available = ballot.y - ballot.bottom - 60 - 40 - 52  # text above, comment block
+    heads = 0.0
+    for attr in attrs:
+        anchors = scale_anchors(attr)
+        heads += 14 + 11 + 10 + (4 * 6.5 * 1.15 if len(anchors) > 2 else 8)
+    rows = n * len(attrs)
+    return max(12.0, min(17.0, (available - heads) / rows))
+
+
+def ballots_pdf(
+    study: Study,
+    plan: Iterable[PlanEntry],
+    *,
+    panelists: Iterable[Panelist] = (),
+    base_url: str = "",
+    tokens: Mapping[str, str] | None = None,
+    today: dt.date | str | None = None,
+    page: str = "A4",
+    heading: str = "Tasting ballot",
+    progress: Progress | None = None,
+) -> PrintResult:
+    """Ballots for every panelist and session of ``plan``, as one PDF.
+
+    Parameters
+    ----------
+    study : Study
+        The trial; its ``method`` picks the registry entry, its ``samples`` give the
+        allergens and its ``attributes`` the scales (rating, ranking, 2-AFC, 3-AFC).
+    plan : iterable of PlanEntry
+        The serving plan; sessions and panelists print in order of first appearance,
+        cups by ``position``.
+    panelists : iterable of Panelist, optional
+        Panelist records; where one is given, the ballot asks that panelist to see the
+        panel leader first if their declared allergens meet the session's or no
+        consent is on file.
+    base_url, tokens : optional
+        With both, each ballot whose panelist has a token carries a QR code of
+        ``base_url`` joined to the token's path, and the address in small print.
+    today : date or str, optional
+        Printed in the date field; blank when None.
+    page : {"A4", "Letter"}
+    heading : str
+        The ballot's heading; keep it neutral (it is printed as given).
+    progress : callable(done, total), optional
+        Called as ballots are drawn (at most about 100 times, and at the end).
+
+    Returns
+    -------
+    PrintResult
+        ``data`` (PDF bytes), ``pages``, ``kind="ballots"`` and ``items`` (ballots).
+
+    Raises
+    ------
+    TrialsError
+        An empty plan, an unknown method or sample, a set of the wrong size, or a scale
+        that cannot be printed.
+    """
+    method = get_method(study.method)
+    groups = group_plan(plan)
+    size = page_size(page)
+    by_session = sessions_of(e for g in groups for e in g.entries)
+    allergens = {s: session_allergens(study, es) for s, es in by_session.items()}
+    records = {p.code: p for p in panelists}
+    tokens = dict(tokens or {})
+    attrs = tuple(study.attributes)
+    for attr in attrs:
+        scale_anchors(attr)  # fail early on a scale that cannot be printed
+    for g in groups:
+        _check_sets(method, g)
+    if isinstance(today, dt.datetime):
+        today = today.date()
+    date_text = today.isoformat() if isinstance(today, dt.date) else (today or "")
+
+    buffer = io.BytesIO()
+    c = new_canvas(buffer, size, title=printable(heading))
+    ticker = Ticker(progress, len(groups))
+    pages = 0
+    for g in groups:
+        url = ""
+        if base_url and g.panelist_code in tokens:
+            url = join_url(base_url, tokens[g.panelist_code])
+        cautions = _cautions(allergens[g.session], records.get(g.panelist_code))
+        b = _Ballot(c, size, heading=heading, method=method, group=g, study=study,
+                    date_text=date_text, url=url, cautions=cautions)
+        if pages:
+            c.showPage()
+        b.start_page()
+        _draw_body(b, method, attrs)
+        pages += b.pages
+        ticker.tick()
+    c.showPage()
+    c.save()
+    return PrintResult(buffer.getvalue(), pages, "ballots", len(groups))
+
+
+def _cautions(allergens: Sequence[str], panelist: Panelist | None):
+    """The caution lines of a ballot: (text, font, size) each."""
+    if allergens:
+        first = ("Allergens in this session's samples (all cups together, not per cup): "
+                 + ", ".join(allergens) + ".")
+    else:
+        first = "No allergens are declared for this session's samples."
+    lines = [
+        (first, BOLD, 9.0),
+        ("Before tasting, tell the panel leader about any allergy, intolerance or dietary "
+         "restriction. Tasting is voluntary and needs your consent; you may stop at any "
+         "time.", SANS, 8.5),
+    ]
+    if panelist is not None:
+        declared = {a.strip().lower() for a in panelist.allergens}
+        if declared & set(allergens):
+            lines.append(("Your declared allergies include one listed above: do not taste "
+                          "until the panel leader has spoken with you.", BOLD, 8.5))
+        if not panelist.consented:
+            lines.append(("No consent is on file for you: please see the panel leader "
+                          "before tasting.", BOLD, 8.5))
+    return lines
+
+
+def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> None:
+    b.text(method.question, BOLD, 13, gap=6)
+    if method.name in ("2afc", "3afc"):
+        b.attribute_line()
+    b.text(method.instructions, SANS, 9.5, gap=10)
+    if method.is_forced_choice:
+        sets = b.group.sets
+        for k, cups in enumerate(sets):
+            if len(sets) > 1:
+                b.text(f"Set {k + 1} of {len(sets)}", BOLD, 10, gap=2)
+            reference = None
+            if method.name == "duo-trio":
+                reference = next((e for e in cups if e.role == "R"), cups[0])
+                cups = (reference,) + tuple(e for e in cups if e is not reference)
+            b.code_boxes(cups, reference=reference)
+            if method.name == "tetrad":
+                b.text("Circle two codes: the two codes you do not circle form the other "
+                       "group.", ITALIC, 9, gap=8)
+            elif method.name == "duo-trio":
+                b.text("Circle one of the two coded samples (not the reference R).",
+                       ITALIC, 9, gap=8)
+    elif method.family is Family.RATING:
+        b.serving_order()
+        scales = attrs or (OVERALL_LIKING,)
+        row_h = _rating_row_height(b, scales)
+        for attr in scales:
+            b.rating_grid(attr, row_h)
+    else:  # ranking
+        b.serving_order()
+        for attr in attrs or (None,):
+            b.ranking_block(attr)
+    b.comments()
