@@ -12,6 +12,7 @@ balanced for position and, as far as the search reaches, for first-order carry-o
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 from itertools import combinations
 
@@ -25,7 +26,7 @@ from trials.design._common import (
     position_counts,
     whole,
 )
-from trials.errors import TrialsError
+from trials.errors import TrialsError, UnbalancedPlanWarning
 from trials.model import Record
 
 REFERENCE = (
@@ -561,6 +562,11 @@ def incomplete_blocks(
     TrialsError
         If ``t < 2``, ``k < 2``, ``k >= t`` or ``panelists < 1``.
 
+    Warns
+    -----
+    UnbalancedPlanWarning
+        When the plan is not balanced (``balanced`` is False).
+
     Notes
     -----
     *Known designs.* Cyclic difference sets and families developed modulo ``v``
@@ -648,6 +654,15 @@ def incomplete_blocks(
     carry = carryover_counts(blocks, t)
     balanced = bool(rep.min() == rep.max() and off.min() == off.max())
     eff = efficiency_factor(blocks, t)
+    if not balanced:
+        warnings.warn(
+            f"no balanced incomplete block design of {n} panelists is known here for "
+            f"t={t}, k={k}: replication {rep.min()}..{rep.max()}, pair concurrences "
+            f"{off.min()}..{off.max()}, efficiency {eff:.4f} (a BIBD would reach "
+            f"{t * (k - 1) / (k * (t - 1)):.4f})",
+            UnbalancedPlanWarning,
+            stacklevel=2,
+        )
     return BlocksResult(
         samples=t,
         per_panelist=k,
