@@ -36,7 +36,7 @@ import pandas as pd
 
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import AttributeKind, Batch, PlanEntry, Record, Response, Study
+from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Response, Study
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -93,6 +93,7 @@ class ForcedChoiceAnalysis(Record):
 
     method: str
     counts: ChoiceCounts
+    preference: Any | None  # paired preference: trials.stats.discrimination.PreferenceCounts
     difference: Any | None  # trials.stats.discrimination difference result
     similarity: Any | None  # trials.stats.discrimination similarity result
     similarity_planned: bool
@@ -326,9 +327,10 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
       trial's second sample (:func:`target_sample`);
     - tetrad (unspecified): correct when the two chosen cups hold the same sample;
     - paired preference: no right answer; choices counted per sample. An answer of
-      ``"no preference"`` (allowed by the response format) is counted apart and left
-      out of ``n``, so the two-sided test is on the panelists who chose (the
-      "drop" treatment of no-preference votes; common practice, see ASTM E2263).
+      ``"no preference"`` (allowed by the response format) is counted apart
+      (``no_preference``) and left out of ``n`` here; :func:`analyse` then folds them
+      in with :func:`trials.stats.discrimination.no_preference_counts` and its
+      default rule (split equally between the samples; common practice).
 
     Answers left out (a code not in the plan, a set of the wrong size, two answers to
     one set) are named in ``problems``; when one set was answered twice, the later
@@ -412,27 +414,36 @@ def _forced_choice(study: Study, plan, responses) -> ForcedChoiceAnalysis:
 
     counts = score_choices(study, plan, responses)
     similar = planned_similarity(study)
-    difference = similarity = None
+    difference = similarity = preference = None
     notes = []
-    if counts.n == 0:
-        notes.append(NO_ANSWERS)
-    else:
+    correct, n = counts.correct, counts.n
+    if study.method == "paired-preference" and counts.n + counts.no_preference > 0:
+        values = list(counts.counts.values()) + [0, 0]
         try:
-            difference = disc.difference_test(counts.correct, counts.n, method=study.method,
+            preference = disc.no_preference_counts(values[0], values[1], counts.no_preference)
+            correct, n = preference.more_chosen, preference.n
+        except TrialsError as exc:
+            notes.append(str(exc))
+            n = 0
+    if counts.n + counts.no_preference == 0:
+        notes.append(NO_ANSWERS)
+    elif n > 0:
+        try:
+            difference = disc.difference_test(correct, n, method=study.method,
                                               alpha=study.alpha, level=0.95)
         except TrialsError as exc:
             notes.append(f"difference test not run: {exc}")
-        if similar and study.method != "paired-preference":
+        if similar:
             if study.pd is None:
                 notes.append("a similarity test was planned but the trial states no pd")
             else:
                 try:
-                    similarity = disc.similarity_test(counts.correct, counts.n,
+                    similarity = disc.similarity_test(correct, n,
                                                       method=study.method, pd=study.pd,
                                                       beta=study.beta)
                 except TrialsError as exc:
                     notes.append(f"similarity test not run: {exc}")
-    return ForcedChoiceAnalysis(study.method, counts, difference, similarity, similar,
+    return ForcedChoiceAnalysis(study.method, counts, preference, difference, similarity, similar,
                                 study.alpha, study.beta, study.pd, "; ".join(notes))
 
 
@@ -514,31 +525,33 @@ def _ratings(study: Study, plan, responses, measures: MeasuresSummary
     return tuple(out), problems
 
 
-def _penalty(jar, hedonic, jar_frame: pd.DataFrame, liking_frame: pd.DataFrame
-             ) -> tuple[Any | None, str]:
-    """Penalty analysis of one JAR attribute against liking (trials.stats.jar)."""
+def _penalty(jar: Attribute, hedonic: Attribute, jar_frame: pd.DataFrame,
+             liking_frame: pd.DataFrame) -> tuple[Any | None, str]:
+    """Penalty analysis of one JAR attribute against liking (trials.stats.jar).
+
+    The JAR score and the liking score of the same cup (panelist, sample, session)
+    make one row; a panelist who tasted a sample in several sessions counts once per
+    session (the panelist column is then panelist / session).
+    """
+    from trials.stats.jar import jar_penalty
+
     if liking_frame.empty:
         return None, "penalty analysis not run: no liking scores"
-    try:
-        from trials.stats import jar as jar_stats
-    except ImportError:
-        return None, "penalty analysis not available in this build"
     keys = ["panelist", "sample", "session"]
     both = jar_frame.merge(liking_frame, on=keys, suffixes=("_jar", "_liking"))
     if both.empty:
         return None, "penalty analysis not run: no cup has both scores"
-    data = pd.DataFrame({"panelist": both["panelist"], "sample": both["sample"],
-                         "jar": both["score_jar"], "liking": both["score_liking"]})
+    who = both["panelist"]
+    if both.duplicated(["panelist", "sample"]).any():
+        who = both["panelist"] + " / " + both["session"]
+    data = pd.DataFrame({"panelist": who, "sample": both["sample"],
+                         jar.name: both["score_jar"], "liking": both["score_liking"]})
     try:
-        return _call_penalty(jar_stats, data, jar), ""
+        return jar_penalty(data, [jar.name], liking="liking", sample="sample",
+                           panelist="panelist", low=jar.low, high=jar.high,
+                           liking_low=hedonic.low, liking_high=hedonic.high), ""
     except TrialsError as exc:
         return None, f"penalty analysis not run: {exc}"
-
-
-def _call_penalty(jar_stats, data: pd.DataFrame, jar) -> Any:
-    fn = getattr(jar_stats, "penalty_analysis")
-    return fn(data, jar="jar", liking="liking", sample="sample",
-              low=jar.low, high=jar.high)
 
 
 # --------------------------------------------------------------------------- ranking

@@ -330,3 +330,88 @@ def test_control_trend_gives_the_controls_mean_per_trial_in_date_order():
     assert [(p.study, p.n, p.mean) for p in trend] == [("T1", 1, 6.0), ("T2", 2, 7.5)]
     assert trend[1].sd == pytest.approx(np.std([7, 8], ddof=1))
     assert control_trend([], control="House loaf") == ()
+
+
+# ----------------------------------------------------------------- dispatch to trials.stats
+
+
+def test_triangle_analysis_hands_its_count_to_the_exact_difference_test():
+    from trials.stats.discrimination import difference_test
+
+    plan = plan_for("triangle", TRIANGLE_24)
+    result = analyse(study("triangle"), plan, triangle_answers(plan, 15))
+    ref = difference_test(15, 24, method="triangle", alpha=0.05, level=0.95)
+    assert result.choice.difference == ref
+    # ISO 4120 / ASTM E1885 tables (from memory): 13 of 24 is the critical count at 0.05
+    assert result.choice.difference.critical == 13
+    # independent computation: exact one-sided binomial tail
+    assert result.choice.difference.p_value == pytest.approx(sps.binom.sf(14, 24, 1 / 3), rel=1e-12)
+    assert result.choice.similarity is None and not result.choice.similarity_planned
+
+
+def test_a_similarity_trial_also_runs_the_similarity_test_with_its_pd_and_beta():
+    from trials.stats.discrimination import similarity_test
+
+    patterns = TRIANGLE_24 * 3
+    plan = plan_for("triangle", patterns)
+    s = study("triangle", aim="similarity", pd=0.3, beta=0.05)
+    result = analyse(s, plan, triangle_answers(plan, 26))
+    ref = similarity_test(26, 72, method="triangle", pd=0.3, beta=0.05)
+    assert result.choice.similarity == ref
+    # independent check of the rule: similar when P(X <= x | pc = 1/3 + 0.3 * 2/3) <= beta
+    assert ref.similar == (sps.binom.cdf(26, 72, 1 / 3 + 0.3 * 2 / 3) <= 0.05)
+
+
+def test_a_similarity_trial_without_pd_says_it_cannot_test():
+    plan = plan_for("triangle", TRIANGLE_24)
+    result = analyse(study("triangle", aim="similarity"), plan, triangle_answers(plan, 8))
+    assert result.choice.similarity is None and "no pd" in result.choice.note
+
+
+def test_paired_preference_folds_no_preference_by_the_stats_modules_rule():
+    from trials.stats.discrimination import difference_test, no_preference_counts
+
+    plan = plan_for("paired-preference", ["AB", "BA"] * 15)
+    answers = []
+    for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
+        if i < 4:
+            answers.append(Response("S1", p, "", "choice", "No preference"))
+            continue
+        want = NEW if i < 22 else OLD
+        answers.append(choose(p, next(c.code for c in cups(plan, p) if c.sample_name == want)))
+    result = analyse(study("paired-preference"), plan, answers)
+    folded = no_preference_counts(8, 18, 4)
+    assert result.choice.preference == folded
+    assert result.choice.difference == difference_test(folded.more_chosen, folded.n,
+                                                       method="paired-preference")
+    # split rule by hand: 18 + 2 of 30
+    assert (result.choice.difference.correct, result.choice.difference.n) == (20, 30)
+    assert result.answers == 30 and result.panelists_answered == 26
+
+
+def test_jar_attributes_get_a_penalty_analysis_against_the_hedonic_attribute():
+    from trials.stats.jar import jar_penalty
+
+    attrs = (Attribute("liking", AttributeKind.HEDONIC, 1, 9),
+             Attribute("saltiness", AttributeKind.JAR, 1, 5))
+    s = Study(name="Brine", method="rating", samples=SAMPLES3, attributes=attrs)
+    rng = np.random.default_rng(5)
+    plan, responses, rows = [], [], []
+    code = 400
+    for p in range(12):
+        pan = f"P{p + 1:02d}"
+        for pos, sample in enumerate(SAMPLES3, start=1):
+            plan.append(PlanEntry("S1", pan, pos, str(code), sample.name, 0))
+            jar = int(rng.integers(1, 6))
+            like = int(np.clip(8 - abs(jar - 3) * 2 + rng.integers(-1, 2), 1, 9))
+            responses += [Response("S1", pan, str(code), "liking", str(like)),
+                          Response("S1", pan, str(code), "saltiness", str(jar))]
+            rows.append({"panelist": pan, "sample": sample.name, "saltiness": jar, "liking": like})
+            code += 1
+    result = analyse(s, plan, responses)
+    got = result.attribute("saltiness").penalty
+    ref = jar_penalty(pd.DataFrame(rows), ["saltiness"], liking="liking", sample="sample",
+                      low=1, high=5)
+    assert got.rows == ref.rows
+    assert result.attribute("liking").penalty is None
+    assert result.attribute("liking").anova is not None
