@@ -1,0 +1,331 @@
+"""The invented demo scenario: a fictional test kitchen and three fictional trials.
+
+Everything here is made up for demonstration: "Harbour Lane Test Kitchen", its
+panelists (codes P01..P30, no people behind them), its recipes, batches, measurements
+and answers. The answers are drawn from a seeded random model, so the demo is the same
+every time:
+
+1. *Brioche bun: usual proof vs short proof* -- a triangle test, 27 panelists, 16
+   correct answers (the odd cup chosen), a clear difference.
+2. *Fried chicken: four coatings* -- a rating trial, 12 panelists, Williams serving
+   orders, three attributes: overall liking (9-point hedonic), crispness and saltiness
+   (1..9 intensity). Scores are panelist effect + sample effect + noise, rounded and
+   kept on the scale: the coatings differ in crispness; they share one seasoning, so
+   saltiness has no sample effect at all. Batches carry fryer settings and measured
+   yield, core temperature and oil uptake.
+3. *Chilled tomato soup: roasted vs fresh tomatoes* -- a paired preference, 24
+   panelists, 15 to 9 (no clear preference either way).
+
+``seed(store)`` adds what is missing and returns the demo trials' ids; running it again
+adds nothing. ``python -m trials.demo FOLDER`` writes the demo's CSV files (see
+sample_data/README.md).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from trials.model import Attribute, AttributeKind, Sample, Status
+
+KITCHEN = "Harbour Lane Test Kitchen"
+BY = "demo (Harbour Lane Test Kitchen)"
+
+BRIOCHE = "Brioche bun: usual proof vs short proof"
+COATINGS = "Fried chicken: four coatings"
+SOUP = "Chilled tomato soup: roasted vs fresh tomatoes"
+NAMES = (BRIOCHE, COATINGS, SOUP)
+
+HEDONIC_9 = (
+    "Dislike extremely", "Dislike very much", "Dislike moderately", "Dislike slightly",
+    "Neither like nor dislike", "Like slightly", "Like moderately", "Like very much",
+    "Like extremely",
+)  # the 9-point hedonic scale's labels (Peryam and Pilgrim 1957)
+
+# Panelist code -> declared allergens (invented).
+ALLERGIES = {"P05": ("sesame",), "P12": ("peanut",), "P21": ("shellfish",),
+             "P28": ("egg",), "P29": ("milk",)}
+PANELISTS = tuple(f"P{i:02d}" for i in range(1, 31))
+
+TRIANGLE_N, TRIANGLE_CORRECT = 27, 16
+SOUP_N, SOUP_ROASTED = 24, 15
+
+COATING_SAMPLES = (
+    Sample("Plain flour dredge", is_control=True, allergens=("gluten",),
+           description="House standard: seasoned wheat flour, single dredge."),
+    Sample("Flour and cornstarch dredge", allergens=("gluten",),
+           description="Three parts wheat flour to one part cornstarch."),
+    Sample("Rice flour dredge", allergens=(),
+           description="Rice flour and cornstarch; no wheat."),
+    Sample("Buttermilk double dredge", allergens=("gluten", "milk"),
+           description="Flour, buttermilk dip, flour again."),
+)
+# Sample effects on the 1..9 scales (invented): crispness differs, saltiness does not.
+EFFECTS = {
+    "overall liking": (0.0, 0.6, 0.9, 0.4),
+    "crispness": (0.0, 1.2, 2.2, 1.6),
+    "saltiness": (0.0, 0.0, 0.0, 0.0),
+}
+BASE = {"overall liking": 5.8, "crispness": 4.6, "saltiness": 5.0}
+COATING_BATCHES = (
+    # sample index, fryer °C, minutes, yield %, core °C, oil uptake %
+    (0, 175, 12.0, 74.1, 78.5, 9.8),
+    (1, 175, 12.0, 73.2, 79.0, 10.6),
+    (2, 175, 11.5, 75.0, 77.8, 8.4),
+    (3, 170, 13.0, 71.6, 80.2, 13.9),
+)
+
+
+def _exists(store, name: str) -> int | None:
+    from trials import service
+
+    for s in service.list_studies(store):
+        if s.name == name:
+            return s.id
+    return None
+
+
+def _roster(store) -> None:
+    from trials import service
+
+    have = {p.code for p in service.list_panelists(store)}
+    for i, code in enumerate(PANELISTS):
+        if code not in have:
+            service.add_panelist(store, code, allergens=ALLERGIES.get(code, ()),
+                                 consent_on=dt.date(2026, 3, 2) + dt.timedelta(days=i % 5),
+                                 by=BY)
+
+
+def _eligible(samples: tuple[Sample, ...], n: int) -> list[str]:
+    """The first ``n`` panelists who declared none of the samples' allergens."""
+    held = {a for s in samples for a in s.allergens}
+    ok = [c for c in PANELISTS if not held & set(ALLERGIES.get(c, ()))]
+    return ok[:n]
+
+
+def _import(store, study_id: int, rows: list[dict], when: dt.datetime) -> None:
+    from trials import service
+
+    for i, r in enumerate(rows):
+        r.setdefault("comment", "")
+        r["entered_at"] = (when + dt.timedelta(seconds=20 * i)).isoformat()
+        r.setdefault("mode", "tablet")
+        r["entered_by"] = r["panelist"] if r["mode"] == "tablet" else "panel leader"
+    buf = io.StringIO()
+    pd.DataFrame(rows).to_csv(buf, index=False)
+    service.import_responses(store, study_id, buf.getvalue().encode("utf-8"),
+                             entered_by=BY, name="demo.csv")
+
+
+def _brioche(store) -> int:
+    from trials import service
+
+    samples = (
+        Sample("Usual proof (90 min)", is_control=True, allergens=("gluten", "egg", "milk"),
+               description="House brioche bun, final proof 90 min at 27 °C."),
+        Sample("Short proof (60 min)", allergens=("gluten", "egg", "milk"),
+               description="Same dough, final proof cut to 60 min at 27 °C."),
+    )
+    study = service.create_study(
+        store, name=BRIOCHE, method="triangle", product="brioche bun",
+        objective="Can tasters tell a bun proofed 60 min from the usual 90 min? "
+                  "A shorter proof would free an oven slot each morning.",
+        alpha=0.05, beta=0.20, pd=0.30, samples=samples, created_on=dt.date(2026, 3, 9), by=BY,
+    )
+    for sample, proof, volume in ((samples[0], 90, 5.4), (samples[1], 60, 4.7)):
+        service.add_batch(
+            store, study.id, sample.name, "B1", prepared_on=dt.date(2026, 3, 10),
+            prepared_by="Pastry section",
+            settings=[("final proof time", proof, "min"), ("proof temperature", 27, "°C"),
+                      ("oven temperature", 180, "°C"), ("bake time", 14, "min")],
+            measures=[("specific volume", volume, "mL/g"), ("core temperature", 96.5, "°C"),
+                      ("bun weight", 62.0, "g")],
+            by=BY,
+        )
+        service.sign_off_batch(store, study.id, sample.name, "B1", by="Sous chef (food safety)",
+                               on=dt.date(2026, 3, 10))
+    codes = _eligible(samples, TRIANGLE_N)
+    entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=409,
+                                by=BY)
+    rng = np.random.default_rng(4120)
+    correct = set(rng.choice(len(codes), size=TRIANGLE_CORRECT, replace=False).tolist())
+    rows = []
+    for i, code in enumerate(codes):
+        cups = sorted((e for e in entries if e.panelist_code == code), key=lambda e: e.position)
+        odd = next(c for c in cups if sum(x.sample_name == c.sample_name for x in cups) == 1)
+        others = [c for c in cups if c is not odd]
+        pick = odd if i in correct else others[int(rng.integers(2))]
+        rows.append({"session": "1", "panelist": code, "code": pick.code,
+                     "attribute": "choice", "value": ""})
+    _import(store, study.id, rows, dt.datetime(2026, 3, 10, 10, 30))
+    service.record_decision(
+        store, study.id,
+        "Keep the usual 90 min proof.",
+        "The panel told the short proof apart (16 of 27 chose the odd bun; exact one-sided "
+        "binomial test against 1/3). The shorter proof changes the bun.",
+        by="Head of development",
+    )
+    return study.id
+
+
+def _coatings(store) -> int:
+    from trials import service
+
+    attributes = (
+        Attribute("overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9),
+        Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
+        Attribute("saltiness", AttributeKind.INTENSITY, 1, 9, ("not salty", "very salty")),
+    )
+    study = service.create_study(
+        store, name=COATINGS, method="rating", product="fried chicken thigh",
+        objective="Which dredge gives the crispest coating without losing liking? All four "
+                  "share one seasoning blend.",
+        alpha=0.05, delta=1.0, samples=COATING_SAMPLES, attributes=attributes,
+        created_on=dt.date(2026, 4, 14), by=BY,
+    )
+    for k, fryer, minutes, yld, core, oil in COATING_BATCHES:
+        name = COATING_SAMPLES[k].name
+        service.add_batch(
+            store, study.id, name, "F1", prepared_on=dt.date(2026, 4, 16),
+            prepared_by="Hot line",
+            settings=[("fryer temperature", fryer, "°C"), ("fry time", minutes, "min"),
+                      ("thigh weight (raw)", 140, "g")],
+            measures=[("yield", yld, "%"), ("core temperature", core, "°C"),
+                      ("oil uptake", oil, "%")],
+            notes="Fried in one fresh oil change; cooled 3 min before serving.",
+            by=BY,
+        )
+        service.sign_off_batch(store, study.id, name, "F1", by="Sous chef (food safety)",
+                               on=dt.date(2026, 4, 16))
+    codes = _eligible(COATING_SAMPLES, 12)
+    entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=1949,
+                                by=BY)
+    rng = np.random.default_rng(8587)
+    index = {s.name: i for i, s in enumerate(COATING_SAMPLES)}
+    panel = {c: rng.normal(0, 0.7, size=3) for c in codes}
+    rows = []
+    for e in sorted(entries, key=lambda e: (e.panelist_code, e.position)):
+        for j, attr in enumerate(attributes):
+            mu = BASE[attr.name] + EFFECTS[attr.name][index[e.sample_name]]
+            score = mu + panel[e.panelist_code][j] + rng.normal(0, 0.8)
+            score = int(np.clip(np.rint(score), attr.low, attr.high))
+            rows.append({"session": "1", "panelist": e.panelist_code, "code": e.code,
+                         "attribute": attr.name, "value": str(score),
+                         "mode": "paper" if e.panelist_code in ("P03", "P08") else "tablet"})
+    _import(store, study.id, rows, dt.datetime(2026, 4, 16, 12, 0))
+    service.set_status(store, study.id, Status.TASTING, by=BY)
+    return study.id
+
+
+def _soup(store) -> int:
+    from trials import service
+
+    samples = (
+        Sample("Fresh tomatoes", is_control=True, description="Current recipe."),
+        Sample("Roasted tomatoes", description="Tomatoes roasted 25 min at 200 °C first."),
+    )
+    study = service.create_study(
+        store, name=SOUP, method="paired-preference", product="chilled tomato soup",
+        objective="Do guests prefer the soup made with roasted tomatoes?",
+        alpha=0.05, samples=samples, created_on=dt.date(2026, 5, 4), by=BY,
+    )
+    for sample, roast in ((samples[0], 0), (samples[1], 25)):
+        service.add_batch(
+            store, study.id, sample.name, "S1", prepared_on=dt.date(2026, 5, 5),
+            prepared_by="Cold section",
+            settings=[("roasting time", roast, "min"), ("chill", 4, "°C")],
+            measures=[("serving temperature", 5.0, "°C"), ("salt", 0.9, "%")],
+            by=BY,
+        )
+        service.sign_off_batch(store, study.id, sample.name, "S1", by="Sous chef (food safety)",
+                               on=dt.date(2026, 5, 5))
+    codes = _eligible(samples, SOUP_N)
+    entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=5495,
+                                by=BY)
+    rng = np.random.default_rng(2263)
+    roasted = set(rng.choice(len(codes), size=SOUP_ROASTED, replace=False).tolist())
+    rows = []
+    for i, code in enumerate(codes):
+        cups = [e for e in entries if e.panelist_code == code]
+        want = "Roasted tomatoes" if i in roasted else "Fresh tomatoes"
+        pick = next(c for c in cups if c.sample_name == want)
+        rows.append({"session": "1", "panelist": code, "code": pick.code,
+                     "attribute": "choice", "value": ""})
+    _import(store, study.id, rows, dt.datetime(2026, 5, 5, 11, 0))
+    service.set_status(store, study.id, Status.ANALYSED, by=BY)
+    return study.id
+
+
+def seed(store) -> list[int]:
+    """Add the demo roster and trials that are missing; the demo trials' ids."""
+    _roster(store)
+    ids = []
+    for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup)):
+        found = _exists(store, name)
+        ids.append(found if found is not None else make(store))
+    return ids
+
+
+def write_sample_data(folder: str | Path, store=None) -> list[Path]:
+    """Write the demo's CSV files into ``folder`` (seeding a temporary store if needed).
+
+    Files: ``panelists.csv`` (roster), ``<trial>_responses.csv`` (the response format of
+    ``trials import responses``), ``coatings_batches.csv`` (the batch format of
+    ``import_batches``) and ``coatings_<attribute>.csv`` (``panelist sample score
+    replicate``, for ``trials analyze ratings``).
+    """
+    import tempfile
+
+    from trials import service
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    with tempfile.TemporaryDirectory() as tmp:
+        own = store is None
+        if own:
+            store = service.open_store(f"sqlite:///{Path(tmp) / 'demo.db'}")
+        try:
+            ids = dict(zip(NAMES, seed(store), strict=True))
+            written = []
+            roster = pd.DataFrame([
+                {"code": p.code, "allergens": ";".join(p.allergens),
+                 "restrictions": p.restrictions, "consent_on": p.consent_on.isoformat()}
+                for p in service.list_panelists(store) if p.code in PANELISTS
+            ])
+            path = folder / "panelists.csv"
+            roster.to_csv(path, index=False)
+            written.append(path)
+            for name, stem in ((BRIOCHE, "brioche_triangle"), (COATINGS, "coatings_rating"),
+                               (SOUP, "soup_preference")):
+                path = folder / f"{stem}_responses.csv"
+                service.export_responses(store, ids[name], path)
+                written.append(path)
+            m = service.measures_frame(store, ids[COATINGS])
+            batches = pd.DataFrame({"sample": m["sample"], "batch": m["batch"],
+                                    "kind": m["kind"], "name": m["name"], "value": m["text"],
+                                    "unit": m["unit"]})
+            path = folder / "coatings_batches.csv"
+            batches.to_csv(path, index=False)
+            written.append(path)
+            frame = service.responses_frame(store, ids[COATINGS])
+            for attr in EFFECTS:
+                part = frame[frame["attribute"] == attr]
+                tidy = pd.DataFrame({"panelist": part["panelist"], "sample": part["sample"],
+                                     "score": part["score"].astype(int), "replicate": 1})
+                path = folder / f"coatings_{attr.replace(' ', '_')}.csv"
+                tidy.sort_values(["panelist", "sample"]).to_csv(path, index=False)
+                written.append(path)
+            return written
+        finally:
+            if own:
+                store.close()
+
+
+if __name__ == "__main__":  # python -m trials.demo sample_data
+    for p in write_sample_data(sys.argv[1] if len(sys.argv) > 1 else "sample_data"):
+        print(p)

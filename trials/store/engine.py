@@ -1,0 +1,190 @@
+"""Opening a store: the engine, the per-connection settings, sessions and retries.
+
+SQLite (the default, one file) gets WAL journalling, foreign keys and a busy timeout on
+every connection; a write transaction starts with ``BEGIN IMMEDIATE`` so that two
+writers queue on the lock instead of failing when one upgrades a read to a write.
+PostgreSQL is reached by URL (``postgresql+psycopg://...``). Either way, a write is a
+function run inside one transaction by :meth:`Store.write`, retried when the database
+reports a busy lock, a serialization failure, a deadlock or a unique-key race (the
+retry then sees the row the other writer committed).
+"""
+
+from __future__ import annotations
+
+import os
+import random
+import time
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+from typing import TypeVar
+
+import sqlalchemy as sa
+from sqlalchemy import event
+from sqlalchemy.engine import Engine
+from sqlalchemy.exc import DBAPIError, IntegrityError, OperationalError
+from sqlalchemy.orm import Session, sessionmaker
+
+from trials.errors import TrialsError
+from trials.store import migrations
+
+T = TypeVar("T")
+
+DEFAULT_URL = "sqlite:///trials.db"
+BUSY_TIMEOUT_MS = 30_000
+RETRIES = 8
+_PG_MIGRATION_LOCK = 727_401  # an arbitrary key for pg_advisory_xact_lock
+
+
+def resolve_url(url: str | None = None) -> str:
+    """The store's URL: the argument, else ``$TRIALS_DB``, else ``sqlite:///trials.db``."""
+    url = url or os.environ.get("TRIALS_DB") or DEFAULT_URL
+    if url.startswith("postgres://"):
+        url = "postgresql+psycopg://" + url[len("postgres://"):]
+    elif url.startswith("postgresql://"):
+        url = "postgresql+psycopg://" + url[len("postgresql://"):]
+    return url
+
+
+def _sqlite_settings(engine: Engine) -> None:
+    @event.listens_for(engine, "connect")
+    def _on_connect(dbapi_conn, _record) -> None:  # pragma: no cover - exercised via engine
+        dbapi_conn.isolation_level = None  # SQLAlchemy emits BEGIN itself (below)
+        cur = dbapi_conn.cursor()
+        cur.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
+        cur.execute("PRAGMA foreign_keys = ON")
+        if engine.url.database not in (None, "", ":memory:"):
+            cur.execute("PRAGMA journal_mode = WAL")
+            cur.execute("PRAGMA synchronous = NORMAL")
+        cur.close()
+
+    @event.listens_for(engine, "begin")
+    def _on_begin(conn) -> None:
+        if conn.get_execution_options().get("trials_write"):
+            conn.exec_driver_sql("BEGIN IMMEDIATE")
+        else:
+            conn.exec_driver_sql("BEGIN")
+
+
+def _retryable(exc: BaseException) -> bool:
+    if isinstance(exc, IntegrityError):
+        return True  # a unique-key race: the retry sees the committed row
+    if isinstance(exc, OperationalError):
+        text = str(exc.orig).lower()
+        if "locked" in text or "busy" in text:
+            return True
+    if isinstance(exc, DBAPIError):
+        code = getattr(exc.orig, "sqlstate", None) or getattr(exc.orig, "pgcode", None)
+        if code in ("40001", "40P01"):  # serialization failure, deadlock detected
+            return True
+    return False
+
+
+@dataclass
+class Store:
+    """An open trial store: the engine and its session factories."""
+
+    url: str
+    engine: Engine
+    _read: sessionmaker
+    _write: sessionmaker
+
+    @property
+    def dialect(self) -> str:
+        return self.engine.dialect.name
+
+    @contextmanager
+    def read(self) -> Iterator[Session]:
+        """A session for reading; nothing it does is committed."""
+        with self._read() as session:
+            try:
+                yield session
+            finally:
+                session.rollback()
+
+    def write(self, work: Callable[[Session], T], *, retries: int = RETRIES) -> T:
+        """Run ``work(session)`` in one transaction and commit; all or nothing.
+
+        Retried (from the start, in a fresh transaction) on a busy lock, a serialization
+        failure, a deadlock or a unique-key race; a :class:`TrialsError` raised by
+        ``work`` rolls back and propagates at once.
+        """
+        attempt = 0
+        while True:
+            session = self._write()
+            try:
+                result = work(session)
+                session.commit()
+                return result
+            except (OperationalError, IntegrityError, DBAPIError) as exc:
+                session.rollback()
+                attempt += 1
+                if attempt > retries or not _retryable(exc):
+                    raise
+                time.sleep(min(0.5, 0.01 * 2**attempt) * (0.5 + random.random()))
+            except BaseException:
+                session.rollback()
+                raise
+            finally:
+                session.close()
+
+    def close(self) -> None:
+        self.engine.dispose()
+
+
+def open_store(url: str | None = None, *, echo: bool = False) -> Store:
+    """Open (and create or upgrade) the trial store at ``url``.
+
+    Parameters
+    ----------
+    url
+        A SQLAlchemy URL; default ``$TRIALS_DB``, else ``sqlite:///trials.db``.
+        ``postgresql://`` and ``postgres://`` mean psycopg 3.
+    echo
+        Log every SQL statement (for debugging).
+
+    Returns
+    -------
+    Store
+        With the tables created on first use and the schema upgraded to
+        :data:`trials.store.migrations.LATEST`.
+    """
+    url = resolve_url(url)
+    try:
+        sa_url = sa.engine.make_url(url)
+    except sa.exc.ArgumentError:
+        raise TrialsError(f"not a database URL: {url!r}") from None
+    kwargs: dict = {"echo": echo}
+    if sa_url.get_backend_name() == "sqlite":
+        kwargs["connect_args"] = {"timeout": BUSY_TIMEOUT_MS / 1000, "check_same_thread": False}
+    else:
+        kwargs["pool_pre_ping"] = True
+    try:
+        engine = sa.create_engine(sa_url, **kwargs)
+    except (ImportError, sa.exc.NoSuchModuleError) as exc:
+        raise TrialsError(f"cannot open {url!r}: {exc}") from None
+    if engine.dialect.name == "sqlite":
+        _sqlite_settings(engine)
+    writer = engine.execution_options(trials_write=True)
+    store = Store(
+        url=url,
+        engine=engine,
+        _read=sessionmaker(engine, expire_on_commit=False),
+        _write=sessionmaker(writer, expire_on_commit=False),
+    )
+    _migrate(store)
+    return store
+
+
+def _migrate(store: Store) -> None:
+    def step(session: Session) -> None:
+        conn = session.connection()
+        if store.dialect == "postgresql":
+            conn.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_MIGRATION_LOCK})
+        migrations.upgrade(conn)
+
+    try:
+        store.write(step)
+    except OperationalError as exc:
+        store.engine.dispose()
+        raise TrialsError(f"cannot open the store {store.url!r}: {exc.orig}") from None

@@ -1,0 +1,76 @@
+"""Schema versions and the ordered upgrade steps applied when a store is opened.
+
+A fresh database gets the current tables in one step and records ``LATEST``. An older
+database gets each step above its recorded version, in order, inside the same
+transaction as the version row, so that an upgrade is applied whole or not at all.
+
+Versions:
+
+1. the first schema (study, sample, attribute, batch, batch_value, panelist,
+   tasting_session, plan_entry, access_token, response, audit_log, schema_version);
+2. ``study.product``: what the samples are variants of, for the history search.
+
+To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
+change the mapping in ``schema.py`` to match, and keep the test that upgrades a
+version-1 database passing. Steps use plain DDL that SQLite and PostgreSQL both accept.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Callable
+
+import sqlalchemy as sa
+from sqlalchemy.engine import Connection
+
+from trials.errors import TrialsError
+from trials.store.schema import Base, SchemaVersion
+
+
+def _v2_study_product(conn: Connection) -> None:
+    conn.execute(sa.text("ALTER TABLE study ADD COLUMN product VARCHAR(200) NOT NULL DEFAULT ''"))
+
+
+# version reached -> (step, note); the step upgrades from version - 1
+STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
+    2: (_v2_study_product, "study.product"),
+}
+LATEST = 2
+
+
+def current_version(conn: Connection) -> int | None:
+    """The recorded schema version, 0 for an empty database, None for a foreign one."""
+    names = set(sa.inspect(conn).get_table_names())
+    if "schema_version" not in names:
+        return 0 if "study" not in names else None
+    top = conn.execute(sa.select(sa.func.max(SchemaVersion.version))).scalar()
+    return int(top or 0)
+
+
+def upgrade(conn: Connection) -> list[int]:
+    """Bring the schema to ``LATEST``; returns the versions applied (empty: up to date)."""
+    now = dt.datetime.now(dt.UTC).replace(tzinfo=None)
+    version = current_version(conn)
+    if version is None:
+        raise TrialsError(
+            "the database holds a 'study' table but no 'schema_version': not a trial store "
+            "this program can upgrade"
+        )
+    if version > LATEST:
+        raise TrialsError(
+            f"the database is at schema version {version}, newer than this program's "
+            f"{LATEST}; update the program"
+        )
+    if version == 0:
+        Base.metadata.create_all(conn)
+        conn.execute(
+            sa.insert(SchemaVersion).values(version=LATEST, applied_at=now, note="created")
+        )
+        return [LATEST]
+    applied = []
+    for target in range(version + 1, LATEST + 1):
+        step, note = STEPS[target]
+        step(conn)
+        conn.execute(sa.insert(SchemaVersion).values(version=target, applied_at=now, note=note))
+        applied.append(target)
+    return applied
