@@ -214,7 +214,8 @@ def _grid(model: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """
     d = np.concatenate([np.linspace(0.0, 3.0, 3001), np.linspace(3.0, DPRIME_MAX, 4801)[1:]])
     pc, slope = _MODELS[model](d)
-    guess = float(pc[0])
+    guess = float(get_method(model).guess)  # exact chance level (quadrature: within 1e-15)
+    pc[0] = guess
     keep = np.concatenate([[True], np.diff(pc) > 0])  # drop the flat, rounded-off tail
     keep &= np.maximum.accumulate(pc) == pc
     d, pc, slope = d[keep], pc[keep], slope[keep]
