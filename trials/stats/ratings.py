@@ -356,8 +356,11 @@ def rating_anova(
     >>> d = pd.DataFrame({"panelist": list("112233"), "sample": list("ABABAB"),
     ...                   "score": [6, 7, 5, 7, 6, 8]})
     >>> res = rating_anova(d)
-    >>> round(res.term("sample").F, 3)
-    28.0
+    >>> round(res.term("sample").F, 3)  # the paired t of the differences 1, 2, 2 is 5
+    25.0
+    >>> from scipy import stats
+    >>> round(stats.ttest_rel([7, 7, 8], [6, 5, 6]).statistic ** 2, 3)
+    25.0
     """
     alpha = _check_alpha(alpha)
     if not 0 < level < 1:

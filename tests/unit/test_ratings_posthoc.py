@@ -1,0 +1,134 @@
+"""Tukey critical values, pairwise comparisons, Dunnett and the compact letter display."""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import stats
+
+from trials.errors import TrialsError
+from trials.stats.posthoc import (
+    compact_letter_display,
+    dunnett_test,
+    pairwise_comparisons,
+    tukey_q,
+)
+
+
+@pytest.mark.parametrize(
+    ("alpha", "k", "df", "q"),
+    [
+        pytest.param(0.05, 3, 10, 3.877, id="Harter-1960-table-q05-k3-df10-from-memory"),
+        pytest.param(0.05, 4, 20, 3.958, id="Harter-1960-table-q05-k4-df20-from-memory"),
+        pytest.param(0.01, 3, 10, 5.270, id="Harter-1960-table-q01-k3-df10-from-memory"),
+        pytest.param(0.05, 5, 30, 4.102, id="Harter-1960-table-q05-k5-df30-from-memory"),
+    ],
+)
+def test_tukey_critical_values_match_the_studentized_range_table(alpha, k, df, q):
+    assert tukey_q(alpha, k, df) == pytest.approx(q, abs=0.0006)
+
+
+def test_two_means_on_infinite_df_give_q_equal_to_root_two_times_the_normal_point():
+    # independent check: for k = 2, q = sqrt(2) * z(1 - alpha/2) when df is infinite
+    assert tukey_q(0.05, 2, 1e7) == pytest.approx(np.sqrt(2) * stats.norm.ppf(0.975), abs=1e-4)
+
+
+def test_tukey_with_two_means_is_the_two_sided_t_test():
+    # with k = 2, Tukey HSD and Fisher LSD coincide: q = sqrt(2) t
+    pairs = pairwise_comparisons({"A": 5.0, "B": 4.0}, np.eye(2) / 10, ms=2.0, df=18)
+    (p,) = pairs
+    assert p.p_tukey == pytest.approx(p.p_lsd, rel=1e-6)
+    assert p.hsd == pytest.approx(p.lsd, rel=1e-6)
+    assert p.t == pytest.approx(1.0 / np.sqrt(0.4), rel=1e-12)
+
+
+def test_pairwise_tukey_p_values_match_scipy_tukey_hsd_for_a_one_way_layout():
+    # scipy.stats.tukey_hsd is one-way; fed the one-way MS and df the results must agree
+    rng = np.random.default_rng(5)
+    groups = [rng.normal(m, 1, size=n) for m, n in [(0, 8), (0.6, 8), (1.5, 8)]]
+    ms = sum(((g - g.mean()) ** 2).sum() for g in groups) / (24 - 3)
+    means = {name: float(g.mean()) for name, g in zip("ABC", groups)}
+    pairs = pairwise_comparisons(means, np.eye(3) / 8, ms=ms, df=21)
+    ref = stats.tukey_hsd(*groups)
+    for p in pairs:
+        i, j = "ABC".index(p.first), "ABC".index(p.second)
+        assert p.p_tukey == pytest.approx(ref.pvalue[i, j], abs=1e-6)
+
+
+def test_dunnett_agrees_with_scipy_for_a_one_way_layout():
+    rng = np.random.default_rng(8)
+    sizes = [10, 8, 9, 12]
+    groups = [rng.normal(m, 1.0, size=n) for m, n in zip([0, 0.3, 1.0, 1.4], sizes)]
+    n_total = sum(sizes)
+    ms = sum(((g - g.mean()) ** 2).sum() for g in groups) / (n_total - 4)
+    means = {name: float(g.mean()) for name, g in zip("CXYZ", groups)}
+    v = np.diag([1 / n for n in sizes])
+    res = dunnett_test(means, v, ms=ms, df=n_total - 4, control="C", rng=1)
+    ref = stats.dunnett(*groups[1:], control=groups[0], rng=1)
+    for comp, p_ref, t_ref in zip(res.comparisons, ref.pvalue, ref.statistic):
+        assert comp.t == pytest.approx(t_ref, rel=1e-9)
+        assert comp.p_value == pytest.approx(p_ref, abs=2e-3)
+
+
+def test_dunnett_critical_value_for_two_comparisons_on_large_df_from_memory():
+    # Dunnett (1955) two-sided table, 2 treatments, df infinite, alpha 0.05: 2.21
+    # (from memory); independent check: bivariate normal with correlation 0.5.
+    res = dunnett_test({"C": 0.0, "A": 0.0, "B": 0.0}, np.eye(3), ms=1.0, df=1e6, control="C")
+    assert res.critical == pytest.approx(2.21, abs=0.01)
+    mvn = stats.multivariate_normal(mean=[0, 0], cov=[[1, 0.5], [0.5, 1]])
+    c = res.critical
+    inside = mvn.cdf([c, c]) - mvn.cdf([-c, c]) - mvn.cdf([c, -c]) + mvn.cdf([-c, -c])
+    assert inside == pytest.approx(0.95, abs=2e-3)
+
+
+def test_dunnett_refuses_an_unknown_control():
+    with pytest.raises(TrialsError, match="'Q'"):
+        dunnett_test({"A": 1.0, "B": 2.0}, np.eye(2), ms=1.0, df=10, control="Q")
+
+
+# ---------------------------------------------------------------- letters
+
+
+def test_a_chain_of_overlapping_means_gets_the_staircase_letters():
+    # Piepho (2004), sec. 2: a typical display for four ordered means where only
+    # non-neighbours differ (constructed case, not quoted from the paper)
+    letters = compact_letter_display("ABCD", [("A", "C"), ("A", "D"), ("B", "D")])
+    assert letters == {"A": "a", "B": "ab", "C": "bc", "D": "c"}
+
+
+def test_no_difference_gives_one_letter_and_all_differences_give_one_each():
+    assert compact_letter_display("ABC", []) == {"A": "a", "B": "a", "C": "a"}
+    every = list(itertools.combinations("ABC", 2))
+    assert compact_letter_display("ABC", every) == {"A": "a", "B": "b", "C": "c"}
+
+
+def test_a_pattern_that_needs_a_non_contiguous_letter_is_displayed_correctly():
+    # A differs from B only, C from D only: the display needs letters shared across gaps
+    letters = compact_letter_display("ABCD", [("A", "B"), ("C", "D")])
+    _check_display("ABCD", {("A", "B"), ("C", "D")}, letters)
+    assert len(set("".join(letters.values()))) == 4
+
+
+def _check_display(names, different, letters):
+    for a, b in itertools.combinations(names, 2):
+        share = bool(set(letters[a]) & set(letters[b]))
+        declared = (a, b) in different or (b, a) in different
+        assert share != declared, (a, b, letters)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(2, 7).flatmap(
+    lambda k: st.tuples(st.just(k), st.sets(st.sampled_from(list(itertools.combinations(range(k), 2)))))
+))
+def test_letters_are_shared_exactly_by_the_pairs_not_declared_different(case):
+    # the defining property of Piepho's (2004) insert-and-absorb display
+    k, pairs = case
+    names = [f"s{i}" for i in range(k)]
+    different = {(names[i], names[j]) for i, j in pairs}
+    letters = compact_letter_display(names, different)
+    _check_display(names, different, letters)
+    assert all(letters[n] for n in names)
