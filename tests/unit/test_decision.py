@@ -1,0 +1,153 @@
+"""Decision texts: the numbers quoted equal the trials.stats results, the limits are
+stated, and "not significant" is never written as "similar" unless a similarity test
+was planned. Expected numbers are recomputed here with trials.stats and, for the
+binomial tails, with scipy (independent computation)."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from scipy import stats as sps
+
+from tests.unit.test_analysis import (
+    SAMPLES3,
+    TRIANGLE_24,
+    batches3,
+    choose,
+    cups,
+    plan_for,
+    rating_trial,
+    study,
+    triangle_answers,
+)
+from trials.analysis import analyse
+from trials.decision import Verdict, decide, decision_text, fmt, fmt_p
+from trials.model import PlanEntry, Response, Study
+from trials.stats.discrimination import difference_test, power, similarity_test
+
+
+@pytest.mark.parametrize("p,text", [(0.003229, "p = 0.003"), (0.0004, "p < 0.001"),
+                                    (0.5, "p = 0.500"), (None, "p not available")])
+def test_p_values_are_written_to_three_decimals(p, text):
+    assert fmt_p(p) == text
+
+
+def test_a_significant_triangle_states_counts_p_critical_estimates_and_source():
+    plan = plan_for("triangle", TRIANGLE_24)
+    d = decide(analyse(study("triangle", pd=0.3), plan, triangle_answers(plan, 15)))
+    ref = difference_test(15, 24, method="triangle", alpha=0.05)
+    assert d.verdict == Verdict.DIFFERENCE
+    assert d.numbers["p_value"] == ref.p_value == pytest.approx(sps.binom.sf(14, 24, 1 / 3))
+    assert d.numbers["pd_ci"] == tuple(ref.pd_ci) and d.numbers["dprime"] == ref.dprime
+    assert d.headline.startswith("Tasters told the samples apart: 15 of 24 picked the odd sample")
+    assert f"{fmt_p(ref.p_value)}; {ref.critical} needed at alpha 0.05" in d.headline
+    assert "ISO 4120" in d.headline
+    details = " ".join(d.details)
+    assert f"proportion of discriminators {fmt(ref.pd)}" in details
+    assert f"{fmt(ref.pd_ci[0])} to {fmt(ref.pd_ci[1])}" in details
+    assert f"d' {fmt(ref.dprime, 1)}" in details and "Clopper-Pearson" in details
+    assert any("alpha 0.05" in x and "beta 0.2" in x for x in d.limits)
+    json.dumps(d.to_dict())
+
+
+def test_a_non_significant_difference_test_is_not_called_similar_and_gives_power():
+    plan = plan_for("triangle", TRIANGLE_24)
+    d = decide(analyse(study("triangle", pd=0.3), plan, triangle_answers(plan, 9)))
+    assert d.verdict == Verdict.NO_DIFFERENCE
+    assert "similar" not in d.headline.lower()
+    limits = " ".join(d.limits)
+    assert "Not significant is not the same as similar" in limits
+    pw = power(24, method="triangle", pd=0.3, alpha=0.05).power
+    assert f"a {fmt(pw)} chance (power)" in limits
+
+
+def test_a_planned_similarity_test_decides_with_its_beta_and_pd():
+    plan = plan_for("triangle", TRIANGLE_24 * 3)
+    s = study("triangle", aim="similarity", pd=0.3, beta=0.05)
+    d = decide(analyse(s, plan, triangle_answers(plan, 26)))
+    ref = similarity_test(26, 72, method="triangle", pd=0.3, beta=0.05)
+    assert d.verdict == (Verdict.SIMILAR if ref.similar else Verdict.NOT_SIMILAR)
+    assert d.numbers["max_correct"] == ref.max_correct and d.numbers["pd_upper"] == ref.pd_upper
+    assert f"at most {ref.max_correct} correct allowed" in d.headline
+    assert f"{fmt(ref.pd_upper)} (planned limit 0.30)" in d.details[0]
+    assert any("beta 0.05 (calling the samples similar" in x for x in d.limits)
+
+
+def test_too_many_correct_answers_fail_the_similarity_test():
+    plan = plan_for("triangle", TRIANGLE_24)
+    s = study("triangle", aim="similarity", pd=0.2, beta=0.05)
+    d = decide(analyse(s, plan, triangle_answers(plan, 12)))
+    assert not similarity_test(12, 24, method="triangle", pd=0.2, beta=0.05).similar
+    assert d.verdict == Verdict.NOT_SIMILAR and d.headline.startswith("Similarity was not shown")
+
+
+def test_two_afc_names_the_target_sample():
+    plan = plan_for("2afc", ["AB", "BA"] * 10)
+    answers = [choose(p, next(c.code for c in cups(plan, p) if c.sample_name == "New crumb"))
+               for p in dict.fromkeys(e.panelist_code for e in plan)]
+    d = decide(analyse(study("2afc"), plan, answers))
+    assert "20 of 20 picked New crumb as having more" in d.headline
+    assert d.numbers["p_value"] == pytest.approx(0.5 ** 20)  # exact binomial tail, by hand
+    assert any("no pd was stated" in x for x in d.limits)
+
+
+def test_paired_preference_names_the_preferred_sample_and_the_no_preference_rule():
+    plan = plan_for("paired-preference", ["AB", "BA"] * 15)
+    answers = []
+    for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
+        if i < 2:
+            answers.append(Response("S1", p, "", "choice", "no preference"))
+        else:
+            want = "New crumb" if i < 25 else "Old crumb"
+            answers.append(choose(p, next(c.code for c in cups(plan, p) if c.sample_name == want)))
+    d = decide(analyse(study("paired-preference"), plan, answers))
+    ref = difference_test(24, 30, method="paired-preference")  # 23 + 1 of the split 2
+    assert d.verdict == Verdict.PREFERENCE
+    assert d.headline.startswith("Tasters preferred New crumb: 24 of 30 chose it after 2 'no preference'")
+    assert d.numbers["p_value"] == ref.p_value == pytest.approx(2 * sps.binom.sf(23, 30, 0.5))
+
+
+def test_ratings_name_the_differing_attributes_letters_hsd_and_error_term():
+    from trials.stats.ratings import rating_anova
+
+    s, plan, responses, truth = rating_trial()
+    a = analyse(s, plan, responses, batches=batches3())
+    d = decide(a, study=Study(name="x", method="rating", delta=0.5))
+    ref = rating_anova(truth[truth["attribute"] == "liking"])
+    row = ref.term("sample")
+    assert d.verdict == (Verdict.DIFFERENCE if row.p <= 0.05 else Verdict.NO_DIFFERENCE)
+    assert d.numbers["liking"]["F"] == row.F and d.numbers["liking"]["hsd"] == ref.hsd
+    liking = next(x for x in d.details if x.startswith("liking:"))
+    assert f"F = {fmt(row.F)} on 2 and 14 df" in liking
+    assert f"Tukey HSD {fmt(ref.hsd)}" in liking and "the residual error" in liking
+    for sample, letters in ref.groups.items():
+        assert f"{sample} {fmt(ref.means[sample], 1)} {letters}" in liking
+    assert any("0.50" in x for x in d.limits)  # delta quoted
+    assert any("not proof" in x for x in d.details)
+
+
+def test_no_answers_give_a_decision_that_says_so():
+    for method in ("triangle", "rating", "ranking"):
+        d = decide(analyse(study(method), plan_for("triangle", ["AAB"]), []))
+        assert d.verdict == Verdict.NO_ANSWERS and "no answers yet" in d.headline
+    assert "no answers yet" in decision_text(analyse(study("tetrad"), [], []))
+
+
+def test_ranking_decision_quotes_friedman_and_rank_sums():
+    s = Study(name="Ranks", method="ranking", samples=SAMPLES3)
+    plan, responses, code = [], [], 500
+    for p in range(9):
+        for pos, sample in enumerate(SAMPLES3, start=1):
+            plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
+            rank = pos if p % 4 else 4 - pos
+            responses.append(Response("S1", f"P{p}", str(code), "rank", str(rank)))
+            code += 1
+    a = analyse(s, plan, responses)
+    d = decide(a)
+    r = a.ranking.result
+    ref = sps.friedmanchisquare([1 if p % 4 else 3 for p in range(9)],
+                                [2] * 9, [3 if p % 4 else 1 for p in range(9)])
+    assert d.numbers["statistic"] == pytest.approx(ref.statistic)
+    assert f"Friedman chi-square = {fmt(r.statistic)} on 2 df" in d.headline
+    assert "ISO 8587" in d.headline and "rank 1 = most" in d.details[0]

@@ -1,0 +1,409 @@
+"""The decision of a trial in plain words, with the numbers behind it.
+
+:func:`decide` turns a :class:`trials.analysis.StudyAnalysis` into a
+:class:`Decision`: a verdict code (for the store and the history search), a headline
+sentence, the lines of evidence (counts, p-value, critical count, estimates with
+their intervals, the method and its published source) and the limits of the
+conclusion (what "not significant" does and does not mean, the risks planned).
+
+Every number in the text comes from the analysis' statistics results; ``numbers``
+holds them unrounded so that a reader (or a test) can check the text against them.
+Pure: no store, no files.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, StudyAnalysis
+from trials.methods import get_method
+from trials.model import Record, Study
+
+
+class Verdict:
+    """Verdict codes (plain strings, stable for the store and searches)."""
+
+    NO_ANSWERS = "no answers yet"
+    DIFFERENCE = "difference"
+    NO_DIFFERENCE = "no difference shown"
+    SIMILAR = "similar"
+    NOT_SIMILAR = "similarity not shown"
+    PREFERENCE = "preference"
+    NO_PREFERENCE = "no preference shown"
+    INCOMPLETE = "not enough data"
+
+
+@dataclass(frozen=True, slots=True)
+class Decision(Record):
+    """A trial's decision.
+
+    ``verdict`` is one of :class:`Verdict`; ``headline`` one sentence; ``details`` the
+    evidence, one sentence each; ``limits`` what the result does not show and the
+    risks planned; ``numbers`` the unrounded values quoted in the text.
+    """
+
+    verdict: str
+    headline: str
+    details: tuple[str, ...]
+    limits: tuple[str, ...]
+    method: str
+    reference: str
+    numbers: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def text(self) -> str:
+        """Headline, details and limits as one paragraph each, blank-line separated."""
+        parts = [self.headline]
+        if self.details:
+            parts.append(" ".join(self.details))
+        if self.limits:
+            parts.append(" ".join(self.limits))
+        return "\n\n".join(parts)
+
+
+# --------------------------------------------------------------------------- formatting
+
+
+def fmt_p(p: float | None) -> str:
+    """``p = 0.003``; ``p < 0.001`` below a thousandth; ``p not available`` for None."""
+    if p is None or (isinstance(p, float) and math.isnan(p)):
+        return "p not available"
+    if p < 0.001:
+        return "p < 0.001"
+    return f"p = {p:.3f}"
+
+
+def fmt(x: float | None, digits: int = 2) -> str:
+    """A number to ``digits`` decimals; an en dash for None."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "\u2013"
+    if isinstance(x, float) and math.isinf(x):
+        return "infinite"
+    return f"{x:.{digits}f}"
+
+
+def fmt_risk(x: float) -> str:
+    """A risk level as written in the standards: 0.05, 0.2, 0.001."""
+    return f"{x:g}"
+
+
+def _level(level: float) -> str:
+    return f"{level * 100:g} %"
+
+
+# --------------------------------------------------------------------------- forced choice
+
+_CORRECT_PHRASE = {
+    "triangle": "picked the odd sample",
+    "duo-trio": "matched the reference",
+    "2afc": "picked {target} as having more of the attribute",
+    "3afc": "picked {target} as having the most of the attribute",
+    "tetrad": "grouped the four cups into the right pairs",
+}
+
+
+def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | None) -> Decision:
+    spec = get_method(a.method)
+    ref = spec.reference
+    d = fc.difference
+    c = fc.counts
+    if d is None:
+        why = fc.note or NO_ANSWERS
+        if why.startswith(NO_ANSWERS):
+            return _no_answers(a)
+        return Decision(Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref)
+    numbers: dict[str, Any] = {
+        "correct": d.correct, "n": d.n, "p_value": d.p_value, "critical": d.critical,
+        "alpha": d.alpha, "pc": d.pc, "pd": d.pd, "pd_ci": tuple(d.pd_ci),
+        "dprime": d.dprime, "dprime_ci": tuple(d.dprime_ci), "level": d.level,
+    }
+    need = (f"{d.critical} needed at alpha {fmt_risk(d.alpha)}" if d.critical is not None
+            else f"no count of {d.n} reaches alpha {fmt_risk(d.alpha)}")
+    test_name = ("exact two-sided binomial test" if spec.sides == 2 else
+                 "exact one-sided binomial test")
+    evidence = f"({fmt_p(d.p_value)}; {need}, {test_name}, {ref})"
+    ci = d.ci_method or "exact interval"
+    details: list[str] = []
+    limits: list[str] = []
+
+    if spec.name == "paired-preference":
+        pref = c.preferred or "neither sample"
+        counts = ", ".join(f"{k} {v}" for k, v in c.counts.items())
+        folded = ""
+        if fc.preference is not None and c.no_preference:
+            folded = f" after {fc.preference.note}"
+            numbers["no_preference"] = c.no_preference
+        if d.significant and c.preferred:
+            verdict = Verdict.PREFERENCE
+            head = (f"Tasters preferred {pref}: {d.correct} of {d.n} chose it{folded} "
+                    f"{evidence}.")
+        else:
+            verdict = Verdict.NO_PREFERENCE
+            head = (f"No preference was shown: the more-chosen sample got {d.correct} of "
+                    f"{d.n}{folded} {evidence}.")
+        details.append(f"Choices: {counts}; 'no preference' answers: {c.no_preference}.")
+        details.append(
+            f"Estimated proportion of panelists with a preference {fmt(d.pd)} "
+            f"({_level(d.level)} interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}).")
+        if not d.significant:
+            limits.append("Not significant is not the same as equally liked: "
+                          + _similarity_limit(fc))
+    else:
+        phrase = _CORRECT_PHRASE[spec.name].format(target=c.target or "the target")
+        estimate = (
+            f"Estimated proportion of discriminators {fmt(d.pd)} ({_level(d.level)} "
+            f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "
+            f"(interval {fmt(d.dprime_ci[0], 1)} to {fmt(d.dprime_ci[1], 1)}, Thurstonian "
+            f"model of the {spec.label.lower()}).")
+        if d.significant:
+            verdict = Verdict.DIFFERENCE
+            head = f"Tasters told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
+        else:
+            verdict = Verdict.NO_DIFFERENCE
+            head = (f"No difference was shown: {d.correct} of {d.n} {phrase} {evidence}.")
+        details.append(estimate)
+        s = fc.similarity
+        if fc.similarity_planned and s is not None:
+            numbers.update({"similar": s.similar, "max_correct": s.max_correct,
+                            "pd_upper": s.pd_upper, "pd_max": s.pd, "beta": s.beta})
+            conf = _level(1 - s.beta)
+            allowed = (f"at most {s.max_correct} correct allowed" if s.max_correct is not None
+                       else f"no count of {s.n} can show similarity at this beta")
+            if s.similar:
+                verdict = Verdict.SIMILAR
+                head = (f"The samples are similar within the planned limit: {d.correct} of "
+                        f"{d.n} {phrase}, {allowed} for similarity at beta "
+                        f"{fmt_risk(s.beta)} and pd {fmt(s.pd)} (exact binomial, {ref}).")
+            else:
+                verdict = Verdict.NOT_SIMILAR
+                head = (f"Similarity was not shown: {d.correct} of {d.n} {phrase}, "
+                        f"{allowed} for similarity at beta {fmt_risk(s.beta)} and pd "
+                        f"{fmt(s.pd)} (exact binomial, {ref}).")
+            details.insert(0, (
+                f"Upper one-sided {conf} limit of the proportion of discriminators: "
+                f"{fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). Difference test: "
+                f"{fmt_p(d.p_value)}, {need}."))
+        elif not d.significant:
+            limits.append("Not significant is not the same as similar: " + _similarity_limit(fc))
+    limits.extend(_risks(fc, a))
+    if c.problems:
+        limits.append(f"{len(c.problems)} answer(s) were left out (see the report's problems list).")
+    if d.note:
+        limits.append(f"Note: {d.note}.")
+    return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
+
+
+def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
+    if fc.similarity_planned and fc.similarity is None:
+        return "a similarity test was planned but could not be run (" + (fc.note or "no pd") + ")."
+    out = "no similarity test with a stated beta and pd was planned for this trial."
+    d = fc.difference
+    if fc.pd is not None and d is not None:
+        try:
+            from trials.stats.discrimination import power
+
+            pw = power(d.n, method=fc.method, pd=fc.pd, alpha=fc.alpha)
+            out += (f" With {d.n} tasters this test had a {fmt(pw.power)} chance (power) of "
+                    f"detecting a proportion of discriminators of {fmt(fc.pd)}.")
+        except Exception as exc:  # noqa: BLE001 - power is an aside; say why it is missing
+            out += f" (Power not computed: {exc}.)"
+    return out
+
+
+def _risks(fc: ForcedChoiceAnalysis, a: StudyAnalysis) -> list[str]:
+    text = f"Risks planned: alpha {fmt_risk(fc.alpha)} (calling a difference that is not there)"
+    if fc.similarity_planned:
+        text += (f", beta {fmt_risk(fc.beta)} (calling the samples similar when a proportion "
+                 f"{fmt(fc.pd)} of tasters can tell them apart)")
+    elif fc.pd is not None:
+        text += (f", beta {fmt_risk(fc.beta)} (missing a proportion of discriminators of "
+                 f"{fmt(fc.pd)})")
+    else:
+        text += "; no pd was stated, so the risk of missing a difference is not controlled"
+    return [text + "."]
+
+
+# --------------------------------------------------------------------------- ratings
+
+
+_ERROR_TERMS = {
+    "error": "the residual error",
+    "sample:panelist": "the sample-by-panelist interaction",
+}
+
+
+def _attribute_line(at: AttributeAnalysis, alpha: float) -> tuple[str, bool | None, dict]:
+    r = at.anova
+    if r is None:
+        return f"{at.attribute}: not analysed ({at.note or 'no data'}).", None, {}
+    row = r.term("sample")
+    differs = row.p is not None and row.p <= alpha
+    means = sorted(r.means.items(), key=lambda kv: -kv[1])
+    listed = ", ".join(f"{s} {fmt(m, 1)} {r.groups.get(s, '')}".rstrip() for s, m in means)
+    df_test = f"{r.df_test:g}"
+    term = _ERROR_TERMS.get(r.error_term, r.error_term)
+    test = (f"F = {fmt(row.F)} on {row.df:g} and {df_test} df, {fmt_p(row.p)}; tested against "
+            f"{term}, mean square {r.ms_test:.3g}")
+    if differs:
+        head = f"{at.attribute}: the samples differ ({test})."
+    else:
+        head = f"{at.attribute}: no difference shown between the samples ({test})."
+    body = (f" Means (samples sharing a letter do not differ, Tukey HSD {fmt(r.hsd)} at alpha "
+            f"{fmt_risk(r.alpha)}): {listed}.")
+    numbers = {"F": row.F, "p_value": row.p, "df": row.df, "df_test": r.df_test,
+               "hsd": r.hsd, "means": dict(r.means), "groups": dict(r.groups),
+               "error_term": r.error_term}
+    return head + body, differs, numbers
+
+
+def _penalty_line(at: AttributeAnalysis) -> str:
+    p = at.penalty
+    if p is None:
+        return ""
+    flagged = [r for r in p.flagged() if r.drop is not None]
+    if not flagged:
+        return (f"{at.attribute} (just-about-right): no off-JAR group reached "
+                f"{fmt(p.threshold * 100, 0)} % of answers.")
+    parts = []
+    for r in flagged[:4]:
+        who = f"{r.sample}: " if r.sample else ""
+        parts.append(f"{who}'{r.group}' for {fmt(r.share * 100, 0)} % of answers, liking "
+                     f"{fmt(r.drop, 1)} lower (weighted penalty {fmt(r.penalty)}, {fmt_p(r.p_value)})")
+    return f"{at.attribute} (just-about-right, penalty analysis): " + "; ".join(parts) + "."
+
+
+def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
+    spec = get_method(a.method)
+    ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1949) HSD"
+    details, numbers = [], {}
+    differ, flat = [], []
+    for at in a.attributes:
+        line, differs, nums = _attribute_line(at, a.alpha)
+        details.append(line)
+        if nums:
+            numbers[at.attribute] = nums
+        if differs:
+            differ.append(at.attribute)
+        elif differs is False:
+            flat.append(at.attribute)
+        pl = _penalty_line(at)
+        if pl:
+            details.append(pl)
+        for rel in at.relations[:3]:
+            c, g = rel.correlation, rel.regression
+            if c.r is None or g.slope is None:
+                continue
+            unit = f" {rel.unit}" if rel.unit else ""
+            details.append(
+                f"{at.attribute} against {rel.predictor} across {len(rel.samples)} samples: "
+                f"r = {fmt(c.r)}, {fmt_p(c.p_value)}; slope {fmt(g.slope, 3)} per{unit or ' unit'} "
+                f"(Pearson correlation and least-squares line; {rel.note}).")
+    if not differ and not flat:
+        return Decision(Verdict.INCOMPLETE, "No decision: no attribute could be analysed yet.",
+                        tuple(details), (), a.method, ref, numbers)
+    if differ:
+        verdict = Verdict.DIFFERENCE
+        head = ("The samples differ on " + ", ".join(differ) + f" (alpha {fmt_risk(a.alpha)})"
+                + (f"; no difference shown on {', '.join(flat)}." if flat else "."))
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No difference was shown between the samples on any attribute (alpha {fmt_risk(a.alpha)})."
+    limits = ["Not significant is not the same as equal: a difference smaller than the test "
+              "could detect with this panel may remain."]
+    delta = study.delta if study is not None else None
+    if delta is not None:
+        limits.append(f"The smallest difference of means that matters was set at {fmt(delta)}; "
+                      "compare it with the Tukey HSD above.")
+    limits.append("Panelists are treated as a random sample of consumers or trained "
+                  "tasters; the scores are treated as interval data.")
+    if a.problems:
+        limits.append(f"{len(a.problems)} answer(s) were left out (see the report's problems list).")
+    return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
+
+
+# --------------------------------------------------------------------------- ranking
+
+
+def _ranking(a: StudyAnalysis) -> Decision:
+    spec = get_method(a.method)
+    rk = a.ranking
+    ref = spec.reference + "; Friedman (1937) rank test"
+    if rk is None or rk.result is None:
+        note = rk.note if rk is not None else NO_ANSWERS
+        if note == NO_ANSWERS:
+            return _no_answers(a)
+        return Decision(Verdict.INCOMPLETE, f"No decision: {note}.", (), (), a.method, ref)
+    r = rk.result
+    sums = sorted(r.rank_sums.items(), key=lambda kv: kv[1])
+    listed = ", ".join(f"{s} {fmt(v, 1)} {r.groups.get(s, '')}".rstrip() for s, v in sums)
+    test = (f"Friedman chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}, "
+            f"{r.panelists} panelists")
+    differs = r.p_value <= a.alpha
+    if differs:
+        verdict = Verdict.DIFFERENCE
+        head = f"The rankings differ between samples ({test}; {spec.reference})."
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No difference in rank was shown ({test}; {spec.reference})."
+    details = (f"Rank sums, rank 1 = most (samples sharing a letter do not differ by the least "
+               f"significant difference {fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, "
+               f"{r.lsd_method}): {listed}.",)
+    limits = ("Not significant is not the same as equal.",
+              "Ranks say which sample comes first, not by how much.")
+    numbers = {"statistic": r.statistic, "df": r.df, "p_value": r.p_value,
+               "rank_sums": dict(r.rank_sums), "lsd": r.lsd, "groups": dict(r.groups)}
+    return Decision(verdict, head, details, limits, a.method, ref, numbers)
+
+
+# --------------------------------------------------------------------------- entry point
+
+
+def _no_answers(a: StudyAnalysis) -> Decision:
+    spec = get_method(a.method)
+    return Decision(Verdict.NO_ANSWERS,
+                    f"No decision yet: no answers yet ({a.panelists_planned} panelists planned).",
+                    (), (), a.method, spec.reference, {})
+
+
+def decide(analysis: StudyAnalysis, *, study: Study | None = None) -> Decision:
+    """The decision for one analysed trial, in plain words with its numbers.
+
+    Parameters
+    ----------
+    analysis : trials.analysis.StudyAnalysis
+        From :func:`trials.analysis.analyse`.
+    study : trials.model.Study, optional
+        For the smallest meaningful difference of ratings (``delta``).
+
+    Returns
+    -------
+    Decision
+        ``verdict`` (see :class:`Verdict`), ``headline``, ``details``, ``limits``,
+        the method and its published source, and the unrounded ``numbers``.
+
+    Notes
+    -----
+    Forced choice: the verdict follows the exact test at the trial's alpha; when the
+    trial was planned as a similarity test (see
+    :func:`trials.analysis.planned_similarity`), it follows the similarity test at the
+    trial's beta and pd instead, and the difference test is quoted as a detail. A
+    difference test that is not significant is never reported as "similar": the text
+    says that no similarity test was planned and, when the trial states a pd, the
+    power the panel had to detect it. Ratings: per attribute, the ANOVA's F test of
+    samples against the error term named by the analysis, the Tukey HSD and the
+    letters. Ranking: Friedman's test and the rank-sum least significant difference.
+    """
+    if not analysis.has_answers:
+        return _no_answers(analysis)
+    if analysis.choice is not None:
+        return _forced_choice(analysis, analysis.choice, study)
+    if analysis.attributes:
+        return _ratings(analysis, study)
+    return _ranking(analysis)
+
+
+def decision_text(analysis: StudyAnalysis, *, study: Study | None = None) -> str:
+    """:func:`decide`'s decision as one text (headline, details, limits)."""
+    return decide(analysis, study=study).text
