@@ -359,7 +359,7 @@ def rating_anova(
     >>> round(res.term("sample").F, 3)  # the paired t of the differences 1, 2, 2 is 5
     25.0
     >>> from scipy import stats
-    >>> round(stats.ttest_rel([7, 7, 8], [6, 5, 6]).statistic ** 2, 3)
+    >>> round(float(stats.ttest_rel([7, 7, 8], [6, 5, 6]).statistic) ** 2, 3)
     25.0
     """
     alpha = _check_alpha(alpha)
