@@ -47,7 +47,8 @@ import datetime as dt
 import io
 from collections.abc import Iterable, Mapping, Sequence
 
-from reportlab.lib.colors import Color, black, white
+from reportlab.lib.colors import Color, black
+from reportlab.pdfbase import pdfmetrics
 
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, get_method
@@ -320,21 +321,17 @@ class _Ballot:
         self.text(f"Serving order: {codes}", BOLD, 11, gap=8)
 
     def rating_grid(self, attr: Attribute, row_h: float) -> None:
+        """One attribute's scale: a row per code in serving order, a box per point."""
         c = self.c
         anchors = scale_anchors(attr)
         points = list(range(attr.low, attr.high + 1))
-        code_w = 56.0
-        col_w = min(46.0, (self.inner - code_w) / len(points))
+        code_w, col_w = GRID_CODE_W, _grid_col_w(attr, self.inner)
         grid_w = code_w + col_w * len(points)
         full = len(anchors) == len(points)
-        asize = 6.5
-        if full:
-            anchor_lines = [wrap(a, SANS, asize, col_w - 2) for a in anchors]
-            anchor_h = max(len(ls) for ls in anchor_lines) * asize * 1.15
-        else:
-            anchor_lines = []
-            anchor_h = asize * 1.2
-        head_h = 14 + anchor_h + 11
+        asize = ANCHOR_SIZE
+        anchor_lines = [wrap(a, SANS, asize, col_w - 2) for a in anchors] if full else []
+        anchor_h = _grid_head_h(attr, self.inner) - 25
+        head_h = anchor_h + 25
 
         def header(label: str) -> None:
             c.setFont(BOLD, 10.5)
@@ -422,16 +419,145 @@ class _Ballot:
         self.y -= 52
 
 
-def _rating_row_height(ballot: _Ballot, attrs: Sequence[Attribute]) -> float:
-    """Rows as tall as 17 pt, shrunk to as little as 12 pt to fit one page."""
+GRID_CODE_W = 56.0
+ANCHOR_SIZE = 6.5
+COMMENTS_H = 52.0
+
+
+def _grid_col_w(attr: Attribute, inner: float) -> float:
+    return min(46.0, (inner - GRID_CODE_W) / (attr.high - attr.low + 1))
+
+
+def _grid_head_h(attr: Attribute, inner: float) -> float:
+    """Height of a per-attribute grid's header: name, anchors, point numbers."""
+    anchors = scale_anchors(attr)
+    if len(anchors) == attr.high - attr.low + 1:
+        col_w = _grid_col_w(attr, inner)
+        lines = max(len(wrap(a, SANS, ANCHOR_SIZE, col_w - 2)) for a in anchors)
+        anchor_h = lines * ANCHOR_SIZE * 1.15
+    else:
+        anchor_h = ANCHOR_SIZE * 1.2
+    return 14 + anchor_h + 11
+
+
+def _rating_layout(ballot: _Ballot, attrs: Sequence[Attribute]) -> tuple[str, float]:
+    """("grids", row height) when a grid per attribute fits the page with rows of at
+    least 14 pt; else ("matrix", row height) when one table of all scales fits the
+    width; else grids of 12 pt rows that continue on the next page."""
     n = len(ballot.group.entries)
-    available = ballot.y - ballot.bottom - 60 - 40 - 52  # text above, comment block
-    heads = 0.0
-    for attr in attrs:
-        anchors = scale_anchors(attr)
-        heads += 14 + 11 + 10 + (4 * 6.5 * 1.15 if len(anchors) > 2 else 8)
-    rows = n * len(attrs)
-    return max(12.0, min(17.0, (available - heads) / rows))
+    available = ballot.y - ballot.bottom - COMMENTS_H
+    heads = sum(_grid_head_h(a, ballot.inner) + 10 for a in attrs)
+    row = (available - heads) / (n * len(attrs))
+    if row >= 14 or len(attrs) == 1:
+        return "grids", max(12.0, min(17.0, row))
+    m = _Matrix(ballot, attrs)
+    if m.fits:
+        return "matrix", max(12.0, min(20.0, (available - m.head_h - 10) / n))
+    return "grids", 12.0
+
+
+class _Matrix:
+    """Every scale in one table: a row per code (serving order), a column group per
+    attribute, the anchors printed upright (rotated) above their points."""
+
+    CODE_W = 44.0
+    GAP = 8.0
+    MIN_COL = 19.0
+    ANCHOR_ROOM = 74.0
+
+    def __init__(self, ballot: _Ballot, attrs: Sequence[Attribute]):
+        self.b = ballot
+        self.attrs = tuple(attrs)
+        self.anchors = [scale_anchors(a) for a in attrs]
+        self.points = [list(range(a.low, a.high + 1)) for a in attrs]
+        cols = sum(len(p) for p in self.points)
+        room = ballot.inner - self.CODE_W - self.GAP * (len(attrs) - 1)
+        self.col_w = min(28.0, room / cols)
+        self.fits = self.col_w >= self.MIN_COL
+        self.name_lines = [wrap(a.name, BOLD, 8.5, len(p) * self.col_w - 2)
+                           for a, p in zip(attrs, self.points)]
+        names_h = max(len(ls) for ls in self.name_lines) * 8.5 * 1.2
+        self.anchor_lines = [[wrap(t, SANS, ANCHOR_SIZE, self.ANCHOR_ROOM) for t in an]
+                             for an in self.anchors]
+        longest = max(pdfmetrics.stringWidth(line, SANS, ANCHOR_SIZE)
+                      for group in self.anchor_lines for ls in group for line in ls)
+        self.anchor_h = min(self.ANCHOR_ROOM, longest) + 4
+        self.head_h = names_h + 4 + self.anchor_h + 12
+
+    def _x(self, g: int, j: int) -> float:
+        """Centre of point ``j`` of attribute ``g``."""
+        x = self.b.left + self.CODE_W
+        for k in range(g):
+            x += len(self.points[k]) * self.col_w + self.GAP
+        return x + self.col_w * (j + 0.5)
+
+    def header(self, continued: bool = False) -> None:
+        c, b = self.b.c, self.b
+        top = b.y
+        for g, ls in enumerate(self.name_lines):
+            left = self._x(g, 0) - self.col_w / 2
+            width = len(self.points[g]) * self.col_w
+            yy = top - 8.5
+            c.setFont(BOLD, 8.5)
+            for line in ls:
+                c.drawCentredString(left + width / 2, yy, line)
+                yy -= 8.5 * 1.2
+            c.setStrokeColor(GREY)
+            c.setLineWidth(0.5)
+            c.line(left + 2, yy + 6, left + width - 2, yy + 6)
+            c.setLineWidth(1)
+            c.setStrokeColor(black)
+        base = top - self.head_h + 12  # anchors stand on this line
+        c.setFont(SANS, ANCHOR_SIZE)
+        for g, group in enumerate(self.anchor_lines):
+            n = len(self.points[g])
+            where = range(n) if len(group) == n else (0, n - 1)
+            for j, ls in zip(where, group):
+                cx = self._x(g, j)
+                c.saveState()
+                c.translate(cx, base + 2)
+                c.rotate(90)
+                # the lines of one anchor side by side, centred on the column
+                off = (len(ls) - 1) * ANCHOR_SIZE * 0.55
+                for k, line in enumerate(ls):
+                    c.drawString(0, off - k * ANCHOR_SIZE * 1.1 - ANCHOR_SIZE * 0.35, line)
+                c.restoreState()
+        c.setFont(SANS, 7.5)
+        c.setFillColor(GREY)
+        for g, pts in enumerate(self.points):
+            for j, p in enumerate(pts):
+                c.drawCentredString(self._x(g, j), base - 8, str(p))
+        c.setFillColor(black)
+        if continued:
+            c.setFont(ITALIC, 7.5)
+            c.drawString(b.left, top - 8, "(continued)")
+        b.y = base - 11
+
+    def draw(self, row_h: float) -> None:
+        c, b = self.b.c, self.b
+        b.need(self.head_h + row_h)
+        self.header()
+        box = min(row_h - 4, 11.0)
+        right = self._x(len(self.attrs) - 1, len(self.points[-1]) - 1) + self.col_w / 2
+        for i, e in enumerate(b.group.entries):
+            if b.need(row_h):
+                self.header(continued=True)
+            y = b.y - row_h
+            if i % 2 == 0:
+                c.setFillColor(SHADE)
+                c.rect(b.left, y, right - b.left, row_h, stroke=0, fill=1)
+                c.setFillColor(black)
+            size = min(11.0, row_h - 3)
+            c.setFont(BOLD, size)
+            c.drawString(b.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
+            c.setLineWidth(0.7)
+            for g, pts in enumerate(self.points):
+                for j in range(len(pts)):
+                    bx = self._x(g, j) - box / 2
+                    c.rect(bx, y + (row_h - box) / 2, box, box, stroke=1, fill=0)
+            c.setLineWidth(1)
+            b.y = y
+        b.y -= 10
 
 
 def ballots_pdf(
@@ -568,9 +694,12 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
     elif method.family is Family.RATING:
         b.serving_order()
         scales = attrs or (OVERALL_LIKING,)
-        row_h = _rating_row_height(b, scales)
-        for attr in scales:
-            b.rating_grid(attr, row_h)
+        kind, row_h = _rating_layout(b, scales)
+        if kind == "matrix":
+            _Matrix(b, scales).draw(row_h)
+        else:
+            for attr in scales:
+                b.rating_grid(attr, row_h)
     else:  # ranking
         b.serving_order()
         for attr in attrs or (None,):

@@ -14,7 +14,7 @@ against the maker's template of the stock in use, and print one test sheet):
 
 - ``A4_3X8``: A4 (210 x 297 mm), 3 x 8 = 24 labels of 70 x 37 mm, edge to edge
   (no side margins, 0.5 mm top and bottom, no gaps);
-- ``A4_3X7``: A4, 3 x 7 = 21 labels of 63.5 x 38.1 mm, side margins 7.2 mm, top and
+- ``A4_3X7``: A4, 3 x 7 = 21 labels of 63.5 x 38.1 mm, side margins 7.25 mm, top and
   bottom 15.15 mm, 2.5 mm between columns;
 - ``LETTER_3X10``: US Letter (8.5 x 11 in), 3 x 10 = 30 labels of 2.625 x 1 in
   (66.7 x 25.4 mm), side margins 3/16 in, top and bottom 1/2 in, 1/8 in between columns.
@@ -119,7 +119,7 @@ class LabelLayout(Record):
 
 
 A4_3X8 = LabelLayout("A4", 8, 3, (0.5, 0.0, 0.5, 0.0), (0.0, 0.0))
-A4_3X7 = LabelLayout("A4", 7, 3, (15.15, 7.2, 15.15, 7.2), (2.5, 0.0))
+A4_3X7 = LabelLayout("A4", 7, 3, (15.15, 7.25, 15.15, 7.25), (2.5, 0.0))
 LETTER_3X10 = LabelLayout("Letter", 10, 3, (12.7, 4.7625, 12.7, 4.7625), (3.175, 0.0))
 PRESETS: dict[str, LabelLayout] = {"a4-3x8": A4_3X8, "a4-3x7": A4_3X7,
                                    "letter-3x10": LETTER_3X10}

@@ -88,9 +88,12 @@ def page_size(page: str) -> tuple[float, float]:
 def new_canvas(buffer, page: tuple[float, float], *, title: str, canvasmaker=Canvas) -> Canvas:
     """A canvas with invariant output (no time stamp, same bytes for the same input)."""
     register_fonts()
-    c = canvasmaker(buffer, pagesize=page, invariant=1, pageCompression=1)
+    # initialFontName: otherwise reportlab lists Helvetica, a font not embedded, on every page
+    c = canvasmaker(buffer, pagesize=page, invariant=1, pageCompression=1,
+                    initialFontName=SANS, initialFontSize=10)
     c.setTitle(title)
     c.setAuthor("")
+    c.setSubject("")
     c.setCreator("Kitchen Trials")
     return c
 
@@ -182,7 +185,7 @@ class Ticker:
     def __init__(self, progress: Progress | None, total: int):
         self.progress = progress
         self.total = total
-        self.step = max(1, total // 100)
+        self.step = max(1, -(-total // 100))  # ceil: at most 100 steps
         self.done = 0
         if progress is not None:
             progress(0, total)

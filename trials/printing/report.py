@@ -1,0 +1,577 @@
+"""A trial's report: one self-contained HTML file, and a short printable PDF.
+
+:func:`report_html` writes everything a panel leader files with a decision: objective,
+method and risks, the plan and the panel (counts only: no personal data), results
+tables and charts, the batches' measured variables by sample, the decision with its
+rationale, a tidy data appendix and the usual food-safety caution.
+
+The HTML works offline: styles are inline, the plotly.js bundle is embedded once
+(``plotly.io.to_html(..., include_plotlyjs=True)`` for the first chart, ``False`` for
+the rest), and no tag loads anything from the network. Every text that comes from a
+user (names, objectives, comments) is HTML-escaped.
+
+:func:`report_pdf` prints the summary (objective, method, risks, decision, main
+results, caution) with reportlab and the embedded fonts of :mod:`trials.printing.layout`.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import html
+import io
+from collections import Counter
+from collections.abc import Iterable, Sequence
+from typing import Any
+
+import pandas as pd
+
+from trials.analysis import StudyAnalysis, analyse, decode_responses
+from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
+from trials.methods import get_method
+from trials.model import Batch, PlanEntry, Response, Study
+
+CAUTION = (
+    "Samples are food served to people. Before any tasting: declare every sample's "
+    "allergens and check them against each panelist's declared allergens and "
+    "restrictions; obtain informed consent; prepare, hold and serve the samples "
+    "following your local food code and licensed practice. This report does not "
+    "replace that code or a food-safety professional's advice."
+)
+
+_CSS = """
+body{font-family:system-ui,-apple-system,"Segoe UI",Roboto,"DejaVu Sans",Arial,sans-serif;
+ margin:0;color:#1d2327;background:#fafaf7;line-height:1.45}
+main{max-width:1050px;margin:0 auto;padding:1.5rem 1.5rem 3rem}
+h1{font-size:1.7rem;margin:.2rem 0 .3rem}h2{font-size:1.25rem;margin:2rem 0 .6rem;
+ border-bottom:2px solid #d6d3c4;padding-bottom:.2rem}h3{font-size:1.05rem;margin:1.2rem 0 .4rem}
+.sub{color:#5b6166;margin:0 0 1rem}
+table{border-collapse:collapse;margin:.4rem 0 1rem;font-size:.92rem;background:#fff}
+th,td{border:1px solid #d6d3c4;padding:.28rem .55rem;text-align:left;vertical-align:top}
+th{background:#efede4;font-weight:600}td.num{text-align:right;font-variant-numeric:tabular-nums}
+.decision{background:#fff;border-left:6px solid #2f6f4f;padding:.8rem 1rem;margin:.6rem 0}
+.decision.neutral{border-left-color:#8a6d1d}.decision.none{border-left-color:#8a8f94}
+.decision .head{font-size:1.08rem;font-weight:600;margin:0 0 .5rem}
+.limits{color:#3f4549}.caution{background:#fff6e0;border:1px solid #e8cf8a;padding:.7rem 1rem}
+.note{color:#5b6166;font-size:.9rem}.kv th{width:14rem}
+.appendix{max-height:32rem;overflow:auto;border:1px solid #d6d3c4}
+.appendix table{margin:0;font-size:.82rem}
+.problems li{color:#7a2e1d}
+@media print{.appendix{max-height:none;overflow:visible}body{background:#fff}}
+"""
+
+
+def e(value: Any) -> str:
+    """HTML-escaped text of any value (quotes too); an en dash for None."""
+    if value is None:
+        return "\u2013"
+    return html.escape(str(value), quote=True)
+
+
+# --------------------------------------------------------------------------- charts
+
+
+class _Charts:
+    """Plotly figures as HTML fragments; the plotly.js bundle goes in the first only."""
+
+    def __init__(self) -> None:
+        self.count = 0
+
+    def html(self, fig) -> str:
+        import plotly.io as pio
+
+        fig.update_layout(template="plotly_white", margin=dict(l=60, r=20, t=50, b=50),
+                          font=dict(size=13), height=fig.layout.height or 360)
+        first = self.count == 0
+        self.count += 1
+        return pio.to_html(fig, include_plotlyjs=True if first else False, full_html=False,
+                           config={"displaylogo": False, "responsive": True,
+                                   "modeBarButtonsToRemove": ["sendDataToCloud"]},
+                           div_id=f"chart-{self.count}")
+
+
+def _proportion_chart(a: StudyAnalysis) -> Any:
+    import plotly.graph_objects as go
+    from scipy import stats as sps
+
+    d = a.choice.difference
+    spec = get_method(a.method)
+    ci = sps.binomtest(d.correct, d.n, spec.guess).proportion_ci(d.level, method="exact")
+    fig = go.Figure(go.Bar(
+        x=["proportion correct" if spec.sides == 1 else "share of the more-chosen sample"],
+        y=[d.pc], width=[0.4], marker_color="#2f6f4f", name="observed",
+        error_y=dict(type="data", symmetric=False, array=[ci.high - d.pc],
+                     arrayminus=[d.pc - ci.low]),
+        text=[f"{d.correct} of {d.n}"], textposition="inside",
+        hovertemplate="%{y:.3f}<extra></extra>"))
+    fig.add_hline(y=spec.guess, line_dash="dot", line_color="#8a8f94",
+                  annotation_text=f"chance {spec.guess:.2f}", annotation_position="right")
+    if d.critical is not None:
+        fig.add_hline(y=d.critical / d.n, line_dash="dash", line_color="#b04a2f",
+                      annotation_text=f"critical {d.critical} of {d.n}",
+                      annotation_position="left")
+    fig.update_layout(title=f"Observed proportion with {d.level * 100:g} % Clopper-Pearson "
+                            f"interval, chance and critical proportion (alpha {fmt_risk(d.alpha)})",
+                      yaxis=dict(range=[0, 1], title="proportion"), showlegend=False,
+                      height=380)
+    return fig
+
+
+def _preference_chart(a: StudyAnalysis) -> Any:
+    import plotly.graph_objects as go
+
+    c = a.choice.counts
+    names = list(c.counts) + (["no preference"] if c.no_preference else [])
+    values = list(c.counts.values()) + ([c.no_preference] if c.no_preference else [])
+    fig = go.Figure(go.Bar(x=names, y=values, marker_color="#2f6f4f", text=values,
+                           textposition="outside"))
+    fig.update_layout(title="Choices per sample", yaxis_title="panelists", height=340)
+    return fig
+
+
+def _means_chart(at) -> Any:
+    import plotly.graph_objects as go
+
+    r = at.anova
+    order = sorted(r.samples, key=lambda s: -r.means[s])
+    means = [r.means[s] for s in order]
+    lo = [r.means[s] - r.ci[s][0] for s in order]
+    hi = [r.ci[s][1] - r.means[s] for s in order]
+    fig = go.Figure(go.Bar(
+        x=order, y=means, marker_color="#3d6f8f",
+        error_y=dict(type="data", symmetric=False, array=hi, arrayminus=lo),
+        text=[r.groups.get(s, "") for s in order], textposition="outside",
+        hovertemplate="%{x}: %{y:.2f}<extra></extra>"))
+    fig.update_layout(
+        title=f"{at.attribute}: means with {r.level * 100:g} % intervals; letters: Tukey at "
+              f"alpha {fmt_risk(r.alpha)}",
+        yaxis=dict(range=[at.low - 0.5 if at.low > 0 else 0, at.high + 0.8],
+                   title=f"score ({at.low} to {at.high})"), height=360)
+    return fig
+
+
+def _ranks_chart(a: StudyAnalysis) -> Any:
+    import plotly.graph_objects as go
+
+    r = a.ranking.result
+    order = sorted(r.rank_sums, key=lambda s: r.rank_sums[s])
+    fig = go.Figure(go.Bar(x=order, y=[r.rank_sums[s] for s in order], marker_color="#3d6f8f",
+                           text=[r.groups.get(s, "") for s in order], textposition="outside"))
+    fig.update_layout(title=f"Rank sums (rank 1 = most); least significant difference "
+                            f"{r.lsd:.1f}", yaxis_title="rank sum", height=340)
+    return fig
+
+
+def _relation_chart(rel) -> Any:
+    import plotly.graph_objects as go
+
+    g = rel.regression
+    fig = go.Figure(go.Scatter(x=list(rel.x), y=list(rel.y), mode="markers+text",
+                               text=list(rel.samples), textposition="top center",
+                               marker=dict(size=11, color="#3d6f8f"), name="samples"))
+    if g.slope is not None:
+        xs = [min(rel.x), max(rel.x)]
+        fig.add_trace(go.Scatter(x=xs, y=[g.intercept + g.slope * x for x in xs],
+                                 mode="lines", line=dict(dash="dash", color="#8a8f94"),
+                                 name="least-squares line"))
+    unit = f" ({rel.unit})" if rel.unit else ""
+    fig.update_layout(title=f"{rel.outcome} against {rel.predictor}: a descriptive trend over "
+                            f"{len(rel.samples)} samples", xaxis_title=f"{rel.predictor}{unit}",
+                      yaxis_title=f"mean {rel.outcome}", showlegend=False, height=340)
+    return fig
+
+
+# --------------------------------------------------------------------------- tables
+
+
+def _table(header: Sequence[str], rows: Iterable[Sequence[Any]], *, numeric: Sequence[int] = (),
+           cls: str = "") -> str:
+    head = "".join(f"<th>{e(h)}</th>" for h in header)
+    body = []
+    for row in rows:
+        cells = []
+        for i, v in enumerate(row):
+            klass = ' class="num"' if i in numeric else ""
+            cells.append(f"<td{klass}>{e(v)}</td>")
+        body.append("<tr>" + "".join(cells) + "</tr>")
+    c = f' class="{cls}"' if cls else ""
+    return f"<table{c}><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+
+
+def _kv(rows: Iterable[tuple[str, Any]]) -> str:
+    body = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in rows)
+    return f'<table class="kv"><tbody>{body}</tbody></table>'
+
+
+def _g(x: Any, digits: int = 3) -> str:
+    if x is None:
+        return "\u2013"
+    if isinstance(x, float):
+        return f"{x:.{digits}g}" if abs(x) < 1e-3 and x != 0 else f"{x:.{digits}f}"
+    return str(x)
+
+
+# --------------------------------------------------------------------------- sections
+
+
+def _risks(study: Study) -> list[tuple[str, Any]]:
+    rows = [("alpha (risk of a false difference)", fmt_risk(study.alpha)),
+            ("beta (risk of a missed difference, or of a false similarity)", fmt_risk(study.beta))]
+    if study.pd is not None:
+        rows.append(("pd (proportion of discriminators that matters)", fmt(study.pd)))
+    if study.delta is not None:
+        rows.append(("smallest difference of means that matters", fmt(study.delta)))
+    if study.aim:
+        rows.append(("aim", study.aim))
+    return rows
+
+
+def _plan_section(study: Study, plan: Sequence[PlanEntry], spec) -> str:
+    if not plan:
+        return "<p>No serving plan has been drawn yet.</p>"
+    sessions = list(dict.fromkeys(e.session for e in plan))
+    panelists = {e.panelist_code for e in plan}
+    cups = Counter(e.sample_name for e in plan)
+    out = [_kv([("sessions", ", ".join(sessions)), ("panelists planned", len(panelists)),
+                ("cups served", len(plan))])]
+    out.append(_table(["sample", "cups in the plan"], [(s, n) for s, n in cups.items()],
+                      numeric=(1,)))
+    if spec.is_forced_choice:
+        sets: dict[tuple[str, str, int], list[PlanEntry]] = {}
+        for p in plan:
+            sets.setdefault((p.session, p.panelist_code, p.set_index), []).append(p)
+        patterns = Counter("".join(c.role or "?" for c in sorted(v, key=lambda c: c.position))
+                           for v in sets.values())
+        out.append("<h3>Set patterns (serving order; R = reference)</h3>")
+        out.append(_table(["pattern", "sets"], sorted(patterns.items()), numeric=(1,)))
+    else:
+        first = Counter(e.sample_name for e in plan if e.position == 1)
+        out.append("<h3>Samples served first</h3>")
+        out.append(_table(["sample", "panelists served it first"], first.items(), numeric=(1,)))
+    return "".join(out)
+
+
+def _samples_section(study: Study) -> str:
+    if not study.samples:
+        return "<p>No samples listed.</p>"
+    rows = [(s.name, "yes" if s.is_control else "", ", ".join(s.allergens) or "none declared",
+             s.description) for s in study.samples]
+    return _table(["sample", "control", "allergens", "description"], rows)
+
+
+def _panel_section(a: StudyAnalysis, responses: Sequence[Response]) -> str:
+    modes = Counter(str(r.mode) for r in responses)
+    rows = [("panelists planned", a.panelists_planned),
+            ("panelists who answered", a.panelists_answered),
+            ("answers analysed", a.answers)]
+    rows += [(f"responses entered by {m}", n) for m, n in sorted(modes.items())]
+    return (_kv(rows) + '<p class="note">Panelists are known by their codes only; this '
+            "report holds no personal data.</p>")
+
+
+def _decision_section(d: Decision, study: Study) -> str:
+    kind = {"difference": "", "similar": "", "preference": ""}.get(d.verdict, "neutral")
+    if d.verdict in ("no answers yet", "not enough data"):
+        kind = "none"
+    parts = [f'<div class="decision {kind}"><p class="head">{e(d.headline)}</p>']
+    for line in d.details:
+        parts.append(f"<p>{e(line)}</p>")
+    if d.limits:
+        parts.append('<p class="limits">' + " ".join(e(x) for x in d.limits) + "</p>")
+    parts.append(f'<p class="note">Method: {e(d.method)}; source: {e(d.reference)}. '
+                 f"Verdict code: {e(d.verdict)}.</p></div>")
+    if study.decision or study.rationale:
+        parts.append("<h3>Decision recorded by the panel leader</h3>")
+        parts.append(_kv([("decision", study.decision), ("rationale", study.rationale)]))
+    return "".join(parts)
+
+
+def _forced_choice_results(a: StudyAnalysis, charts: _Charts) -> str:
+    fc = a.choice
+    d = fc.difference
+    out = []
+    if d is None:
+        return f"<p>{e(fc.note or 'No result.')}</p>"
+    rows = [("answers (n)", d.n), ("correct" if d.sides == 1 else "more-chosen sample", d.correct),
+            ("critical count at alpha", d.critical), ("p-value (exact binomial)", _g(d.p_value)),
+            ("significant at alpha " + fmt_risk(d.alpha), "yes" if d.significant else "no"),
+            ("proportion correct pc", _g(d.pc)), ("proportion of discriminators pd", _g(d.pd)),
+            (f"pd {d.level * 100:g} % interval", f"{_g(d.pd_ci[0])} to {_g(d.pd_ci[1])}"),
+            ("d'", _g(d.dprime)),
+            (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}"),
+            ("interval method", d.ci_method)]
+    if d.note:
+        rows.append(("note", d.note))
+    out.append("<h3>Difference test</h3>" + _kv(rows))
+    if fc.counts.preferred or a.method == "paired-preference":
+        out.append(_table(["sample", "chosen"], fc.counts.counts.items(), numeric=(1,)))
+        out.append(f"<p>'No preference' answers: {fc.counts.no_preference}"
+                   + (f" ({e(fc.preference.note)})" if fc.preference is not None else "")
+                   + ".</p>")
+    if fc.similarity is not None:
+        s = fc.similarity
+        out.append("<h3>Similarity test</h3>" + _kv([
+            ("largest pd that does not matter", _g(s.pd)), ("beta", fmt_risk(s.beta)),
+            ("most correct answers allowed", s.max_correct),
+            (f"upper {(1 - s.beta) * 100:g} % limit of pd", _g(s.pd_upper)),
+            ("similar", "yes" if s.similar else "no")] + ([("note", s.note)] if s.note else [])))
+    if a.method == "paired-preference":
+        out.append(charts.html(_preference_chart(a)))
+    out.append(charts.html(_proportion_chart(a)))
+    return "".join(out)
+
+
+def _rating_results(a: StudyAnalysis, charts: _Charts) -> str:
+    out = []
+    for at in a.attributes:
+        out.append(f"<h3>{e(at.attribute)} ({e(at.kind)}, {at.low} to {at.high})</h3>")
+        r = at.anova
+        if r is None:
+            out.append(f"<p>{e(at.note or 'Not analysed.')}</p>")
+        else:
+            out.append(_table(["term", "df", "SS", "MS", "F", "p"],
+                              [(x.term, _g(x.df, 4), _g(x.ss), _g(x.ms), _g(x.F), _g(x.p))
+                               for x in r.anova], numeric=(1, 2, 3, 4, 5)))
+            out.append(f'<p class="note">{e(r.method)}. The sample effect is tested against '
+                       f"{e(r.error_term)} (MS {_g(r.ms_test)} on {_g(r.df_test, 4)} df); "
+                       f"Tukey HSD {_g(r.hsd)}, Fisher LSD {_g(r.lsd)} at alpha "
+                       f"{fmt_risk(r.alpha)}.</p>")
+            order = sorted(r.samples, key=lambda s: -r.means[s])
+            out.append(_table(
+                ["sample", "mean", "n", f"{r.level * 100:g} % interval", "letters"],
+                [(s, _g(r.means[s]), r.n[s], f"{_g(r.ci[s][0])} to {_g(r.ci[s][1])}",
+                  r.groups.get(s, "")) for s in order], numeric=(1, 2)))
+            out.append(charts.html(_means_chart(at)))
+            if at.note:
+                out.append(f'<p class="note">{e(at.note)}</p>')
+        if at.penalty is not None:
+            rows = [(x.sample, x.group, x.n, _g(x.share), _g(x.mean_liking), _g(x.drop),
+                     _g(x.penalty), _g(x.p_value), "yes" if x.flagged else "")
+                    for x in at.penalty.rows]
+            out.append("<p>Penalty analysis against liking:</p>")
+            out.append(_table(["sample", "group", "n", "share", "mean liking", "drop",
+                               "weighted penalty", "p (Welch)", "flagged"], rows,
+                              numeric=(2, 3, 4, 5, 6, 7)))
+            out.append(f'<p class="note">{e(at.penalty.method)}</p>')
+    return "".join(out)
+
+
+def _ranking_results(a: StudyAnalysis, charts: _Charts) -> str:
+    rk = a.ranking
+    if rk is None or rk.result is None:
+        return f"<p>{e(rk.note if rk else 'No result.')}</p>"
+    r = rk.result
+    out = [_kv([("test", r.test), ("method", r.method), ("chi-square", _g(r.statistic)),
+                ("df", r.df), ("p-value", _g(r.p_value)), ("panelists", r.panelists),
+                ("least significant difference of rank sums", _g(r.lsd)),
+                ("LSD method", r.lsd_method)])]
+    order = sorted(r.rank_sums, key=lambda s: r.rank_sums[s])
+    out.append(_table(["sample", "rank sum", "mean rank", "letters"],
+                      [(s, _g(r.rank_sums[s]), _g(r.mean_ranks.get(s)), r.groups.get(s, ""))
+                       for s in order], numeric=(1, 2)))
+    out.append(charts.html(_ranks_chart(a)))
+    return "".join(out)
+
+
+def _measures_section(a: StudyAnalysis, batches: Sequence[Batch], charts: _Charts) -> str:
+    m = a.measures
+    out = []
+    if batches:
+        rows = []
+        for b in batches:
+            settings = "; ".join(f"{s.name} {s.value} {s.unit}".strip() for s in b.settings)
+            measures = "; ".join(f"{s.name} {s.value} {s.unit}".strip() for s in b.measures)
+            rows.append((b.sample_name, b.label, b.prepared_on, settings, measures,
+                         b.safety_signed_by or "not signed off"))
+        out.append(_table(["sample", "batch", "prepared on", "process settings",
+                           "measured", "food safety sign-off"], rows))
+    if m.empty:
+        out.append("<p>No numeric measured variables or settings recorded.</p>")
+        return "".join(out)
+    out.append(_table(["variable", "kind", "unit", "sample", "n", "mean", "sd"],
+                      [(s.variable, s.kind, s.unit, s.sample, s.n, _g(s.mean), _g(s.sd))
+                       for s in m.summaries], numeric=(4, 5, 6)))
+    out.append("<h3>Do the samples differ? (one-way ANOVA across batches)</h3>")
+    out.append(_table(["variable", "F", "df", "p", "note"],
+                      [(x.variable, _g(x.statistic), f"{x.df_between}, {x.df_within}",
+                        _g(x.p_value), x.note) for x in m.anovas], numeric=(1, 3)))
+    rels = [rel for at in a.attributes for rel in at.relations]
+    if rels:
+        out.append("<h3>Sensory means against measured variables and settings</h3>")
+        out.append(_table(["outcome", "predictor", "samples", "r", "p", "slope", "intercept", "r\u00b2"],
+                          [(r.outcome, r.predictor, len(r.samples), _g(r.correlation.r),
+                            _g(r.correlation.p_value), _g(r.regression.slope),
+                            _g(r.regression.intercept), _g(r.regression.r2)) for r in rels],
+                          numeric=(2, 3, 4, 5, 6, 7)))
+        out.append('<p class="note">One point per sample: with so few points this is a '
+                   "descriptive trend over the samples tried, not proof that a variable "
+                   "causes the difference (Pearson correlation; least-squares line).</p>")
+        for rel in rels[:4]:
+            out.append(charts.html(_relation_chart(rel)))
+    return "".join(out)
+
+
+def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> str:
+    if not responses:
+        return "<p>No answers yet.</p>"
+    frame = decode_responses(plan, responses)
+    cols = ["session", "panelist", "position", "code", "sample", "role", "attribute", "value",
+            "comment", "mode"]
+    rows = []
+    for rec in frame[cols].itertuples(index=False):
+        rows.append(["" if (v is None or (isinstance(v, float) and pd.isna(v))) else
+                     (int(v) if isinstance(v, float) and float(v).is_integer() else v)
+                     for v in rec])
+    return ('<div class="appendix">' + _table(cols, rows, numeric=(2,)) + "</div>"
+            '<p class="note">One row per answer (a tetrad choice: one row per chosen cup); '
+            "the sample column is the decoding key.</p>")
+
+
+# --------------------------------------------------------------------------- entry points
+
+
+def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
+                plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
+                batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
+                generated_on: dt.date | None = None) -> str:
+    """The trial's report as one self-contained HTML document.
+
+    Parameters
+    ----------
+    study : trials.model.Study
+    analysis : trials.analysis.StudyAnalysis, optional
+        Computed from ``plan``, ``responses`` and ``batches`` when not given.
+    plan, responses, batches : sequences of records
+        For the plan summary, the panel counts, the batch table and the appendix.
+    decision_text : Decision or str, optional
+        The decision to print; by default :func:`trials.decision.decide` of the analysis.
+        A plain string is printed as the headline.
+    generated_on : date, optional
+        Printed in the header (default: today).
+
+    Returns
+    -------
+    str
+        A complete HTML document (UTF-8), viewable offline.
+    """
+    plan, responses, batches = list(plan), list(responses), list(batches)
+    if analysis is None:
+        analysis = analyse(study, plan, responses, batches=batches)
+    if decision_text is None:
+        decision = decide(analysis, study=study)
+    elif isinstance(decision_text, str):
+        decision = Decision("", decision_text, (), (), study.method,
+                            get_method(study.method).reference)
+    else:
+        decision = decision_text
+    spec = get_method(study.method)
+    charts = _Charts()
+    today = generated_on or dt.date.today()
+    sub = " \u00b7 ".join(x for x in (
+        f"product: {study.product}" if study.product else "",
+        f"status: {study.status}", f"report of {today.isoformat()}") if x)
+    body = [f"<h1>{e(study.name)}</h1>", f'<p class="sub">{e(sub)}</p>']
+    if not analysis.has_answers:
+        body.append('<div class="decision none"><p class="head">No answers yet: this '
+                    "report shows the plan only.</p></div>")
+    body.append("<h2>Objective</h2>")
+    body.append(f"<p>{e(study.objective) if study.objective else 'No objective stated.'}</p>")
+    body.append("<h2>Method and risks</h2>")
+    body.append(_kv([("method", spec.label), ("published source", spec.reference),
+                     ("question asked", spec.question)] + _risks(study)))
+    body.append("<h2>Decision</h2>")
+    body.append(_decision_section(decision, study))
+    body.append("<h2>Samples</h2>" + _samples_section(study))
+    body.append("<h2>Plan</h2>" + _plan_section(study, plan, spec))
+    body.append("<h2>Panel</h2>" + _panel_section(analysis, responses))
+    body.append("<h2>Results</h2>")
+    if not analysis.has_answers:
+        body.append("<p>No answers yet.</p>")
+    elif analysis.choice is not None:
+        body.append(_forced_choice_results(analysis, charts))
+    elif analysis.attributes:
+        body.append(_rating_results(analysis, charts))
+    else:
+        body.append(_ranking_results(analysis, charts))
+    if analysis.problems:
+        body.append("<h3>Answers left out</h3><ul class=\"problems\">"
+                    + "".join(f"<li>{e(p)}</li>" for p in analysis.problems) + "</ul>")
+    body.append("<h2>Batches and measured variables</h2>")
+    body.append(_measures_section(analysis, batches, charts))
+    body.append("<h2>Food safety</h2>" + f'<p class="caution">{e(CAUTION)}</p>')
+    body.append("<h2>Appendix: the answers</h2>" + _appendix(plan, responses))
+    body.append('<p class="note">Made with Kitchen Trials. Every figure above is computed '
+                "from the answers in the appendix.</p>")
+    title = e(f"{study.name} \u2013 trial report")
+    return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
+            f"<title>{title}</title><style>{_CSS}</style></head><body><main>"
+            + "\n".join(body) + "</main></body></html>\n")
+
+
+def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
+               plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
+               batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
+               page: str = "A4") -> bytes:
+    """A printable summary of the report as PDF bytes (reportlab, embedded fonts).
+
+    Objective, method and risks, the decision with its evidence and limits, the main
+    result table, the panel counts and the food-safety caution. Charts and the data
+    appendix stay in the HTML report.
+    """
+    from reportlab.lib import colors
+    from reportlab.lib.styles import ParagraphStyle
+    from reportlab.lib.units import mm
+    from reportlab.platypus import Paragraph, SimpleDocTemplate, Spacer, Table, TableStyle
+
+    from trials.printing.layout import BOLD, SANS, page_size, printable, register_fonts
+
+    plan, responses, batches = list(plan), list(responses), list(batches)
+    register_fonts()
+    if analysis is None:
+        analysis = analyse(study, plan, responses, batches=batches)
+    if decision_text is None:
+        decision = decide(analysis, study=study)
+    elif isinstance(decision_text, str):
+        decision = Decision("", decision_text, (), (), study.method,
+                            get_method(study.method).reference)
+    else:
+        decision = decision_text
+    spec = get_method(study.method)
+
+    def p(text: Any) -> str:  # reportlab paragraphs take mini-markup: escape
+        return html.escape(printable(text), quote=False)
+
+    body = ParagraphStyle("body", fontName=SANS, fontSize=9.5, leading=12.5, spaceAfter=4)
+    head = ParagraphStyle("head", parent=body, fontName=BOLD, fontSize=15, leading=19)
+    h2 = ParagraphStyle("h2", parent=body, fontName=BOLD, fontSize=11.5, leading=15,
+                        spaceBefore=8)
+    strong = ParagraphStyle("strong", parent=body, fontName=BOLD)
+
+    def kv(rows):
+        t = Table([[Paragraph(p(k), body), Paragraph(p(v), body)] for k, v in rows],
+                  colWidths=[60 * mm, 110 * mm])
+        t.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
+                               ("VALIGN", (0, 0), (-1, -1), "TOP")]))
+        return t
+
+    flow = [Paragraph(p(study.name), head),
+            Paragraph(p(f"Trial report \u2013 {spec.label}"), body), Spacer(1, 4)]
+    flow += [Paragraph("Objective", h2), Paragraph(p(study.objective or "No objective stated."), body)]
+    flow += [Paragraph("Method and risks", h2),
+             kv([("method", spec.label), ("published source", spec.reference)] + _risks(study))]
+    flow += [Paragraph("Decision", h2), Paragraph(p(decision.headline), strong)]
+    flow += [Paragraph(p(x), body) for x in decision.details]
+    flow += [Paragraph(p(" ".join(decision.limits)), body)] if decision.limits else []
+    flow += [Paragraph("Panel", h2),
+             kv([("panelists planned", analysis.panelists_planned),
+                 ("panelists who answered", analysis.panelists_answered),
+                 ("answers analysed", analysis.answers)])]
+    flow += [Paragraph("Food safety", h2), Paragraph(p(CAUTION), body)]
+    buf = io.BytesIO()
+    w, h = page_size(page)
+    doc = SimpleDocTemplate(buf, pagesize=(w, h), leftMargin=18 * mm, rightMargin=18 * mm,
+                            topMargin=16 * mm, bottomMargin=16 * mm,
+                            title=printable(f"{study.name} trial report"), author="",
+                            creator="Kitchen Trials", invariant=1)
+    doc.build(flow)
+    return buf.getvalue()
