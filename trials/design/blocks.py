@@ -250,6 +250,86 @@ def _greedy_blocks(t, k, n, lam, rep, gen) -> list[list[int]]:
     return blocks
 
 
+def _swap_delta(lam, blk1, blk2, x, y, set1, set2) -> int:
+    """Change of the sum of squared concurrences when ``x`` (in block 1) and ``y``
+    (in block 2) change places. Samples in both blocks keep their concurrences; for
+    the others, ``(l - 1)^2 - l^2 + (m + 1)^2 - m^2 = 2 (m - l + 1)``."""
+    lx, ly = lam[x], lam[y]
+    delta = 0
+    for o in blk1:
+        if o != x and o not in set2:
+            delta += ly[o] - lx[o] + 1
+    for o in blk2:
+        if o != y and o not in set1:
+            delta += lx[o] - ly[o] + 1
+    return 2 * delta
+
+
+def _apply_swap(lam, blk1, blk2, x, y, set1, set2) -> None:
+    for o in blk1:
+        if o != x and o not in set2:
+            lam[x][o] -= 1
+            lam[o][x] -= 1
+            lam[y][o] += 1
+            lam[o][y] += 1
+    for o in blk2:
+        if o != y and o not in set1:
+            lam[y][o] -= 1
+            lam[o][y] -= 1
+            lam[x][o] += 1
+            lam[o][x] += 1
+    blk1[blk1.index(x)] = y
+    blk2[blk2.index(y)] = x
+    set1.discard(x)
+    set1.add(y)
+    set2.discard(y)
+    set2.add(x)
+
+
+def _components(blocks, t: int) -> list[int]:
+    """Union-find label of each sample, linking samples that share a block."""
+    parent = list(range(t))
+
+    def find(a: int) -> int:
+        while parent[a] != a:
+            parent[a] = parent[parent[a]]
+            a = parent[a]
+        return a
+
+    for b in blocks:
+        for s in b[1:]:
+            ra, rb = find(b[0]), find(s)
+            if ra != rb:
+                parent[rb] = ra
+    return [find(s) for s in range(t)]
+
+
+def _connect(blocks, lam, gen, t: int) -> None:
+    """Make the design connected (every difference of samples estimable).
+
+    While samples fall into separate groups that never share a panelist, exchange
+    one sample between a block of one group and a block of another (the exchange
+    that raises the sum of squared concurrences least); each exchange joins the two
+    groups. Only samples that appear in some block are considered.
+    """
+    served = {s for b in blocks for s in b}
+    for _ in range(t):
+        label = _components(blocks, t)
+        groups = {label[s] for s in served}
+        if len(groups) <= 1:
+            return
+        first = label[blocks[0][0]]
+        b1 = 0
+        others = [i for i, b in enumerate(blocks) if label[b[0]] != first]
+        b2 = others[int(gen.integers(len(others)))]
+        set1, set2 = set(blocks[b1]), set(blocks[b2])
+        x, y = min(
+            ((x, y) for x in blocks[b1] for y in blocks[b2]),
+            key=lambda xy: _swap_delta(lam, blocks[b1], blocks[b2], xy[0], xy[1], set1, set2),
+        )
+        _apply_swap(lam, blocks[b1], blocks[b2], x, y, set1, set2)
+
+
 def _swap_search(blocks, lam, gen, proposals: int, stall: int = 10000) -> None:
     """Exchange samples between two blocks when that does not raise the sum of squared
     concurrences (sideways moves allowed); replication never changes. Stops at the
@@ -281,43 +361,27 @@ def _swap_search(blocks, lam, gen, proposals: int, stall: int = 10000) -> None:
         if i % 2:
             # directed: move out the member of b1 that shares most with the rest of
             # b1, bring in the member of b2 that shares least with it
-            x = max(blk1, key=lambda s: (sum(lam[s][o] for o in blk1), d2 % (s + 7)))
+            j = d2 % len(blk1)
+            x = max(blk1[j:] + blk1[:j], key=lambda s: sum(map(lam[s].__getitem__, blk1)))
             if x in members[b2]:
                 continue
-            outside = [s for s in blk2 if s not in members[b1]]
+            j = d3 % len(blk2)
+            outside = [s for s in blk2[j:] + blk2[:j] if s not in members[b1]]
             if not outside:
                 continue
-            y = min(outside, key=lambda s: (sum(lam[s][o] for o in blk1 if o != x),
-                                            d3 % (s + 7)))
+            y = min(outside, key=lambda s: sum(map(lam[s].__getitem__, blk1)) - lam[s][x])
         else:
             x = blk1[d2 % len(blk1)]
             y = blk2[d3 % len(blk2)]
             if x in members[b2] or y in members[b1]:
                 continue
-        change: dict[tuple[int, int], int] = {}
-        for o in blocks[b1]:
-            if o != x:
-                change[(x, o)] = change.get((x, o), 0) - 1
-                change[(y, o)] = change.get((y, o), 0) + 1
-        for o in blocks[b2]:
-            if o != y:
-                change[(y, o)] = change.get((y, o), 0) - 1
-                change[(x, o)] = change.get((x, o), 0) + 1
-        delta = sum(2 * lam[a][b] * d + d * d for (a, b), d in change.items() if d)
+        delta = _swap_delta(lam, blk1, blk2, x, y, members[b1], members[b2])
         if delta > 0:
             continue
         if delta < 0:
             last_gain = i
-        for (a, b), d in change.items():
-            lam[a][b] += d
-            lam[b][a] += d
+        _apply_swap(lam, blk1, blk2, x, y, members[b1], members[b2])
         cost += delta
-        blocks[b1][blocks[b1].index(x)] = y
-        blocks[b2][blocks[b2].index(y)] = x
-        members[b1].discard(x)
-        members[b1].add(y)
-        members[b2].discard(y)
-        members[b2].add(x)
 
 
 def _fix_positions(blocks, pos, k: int) -> None:
@@ -581,7 +645,9 @@ def incomplete_blocks(
     kept and the remaining blocks are built greedily (least served sample first,
     then fewest shared panelists) and improved by exchanging samples between
     blocks, keeping an exchange when it does not raise the sum of squared
-    concurrences. For equal replication and block size that sum fixes
+    concurrences; a plan that falls apart into groups of samples never tasted by
+    the same panelist is then joined by exchanges. For equal replication and
+    block size that sum fixes
     ``trace(C^2)``, so the search minimises it (the S-criterion of Shah 1960 and
     Eccleston and Hedayat 1974; from memory) as a stand-in for A-efficiency, which
     is then computed exactly and reported.
@@ -643,6 +709,8 @@ def incomplete_blocks(
         lam = [[0 if i == j else int(lam_arr[i, j]) for j in range(t)] for i in range(t)]
         extra = _greedy_blocks(t, k, n - len(blocks), lam, rep, gen)
         _swap_search(extra, lam, gen, proposals=min(60000, 400 * len(extra) * k))
+        if not blocks:
+            _connect(extra, lam, gen, t)
         blocks += extra
 
     _order_blocks(blocks, t, gen)
