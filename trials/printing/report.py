@@ -67,6 +67,13 @@ def e(value: Any) -> str:
     return html.escape(str(value), quote=True)
 
 
+def pt(value: Any) -> str:
+    """User text for a plotly label: plotly reads a subset of HTML in labels, and the
+    figure's JSON sits inside a script element, so ``<``, ``>`` and ``&`` are escaped
+    (plotly shows the entities as the characters)."""
+    return html.escape(str(value), quote=False)
+
+
 # --------------------------------------------------------------------------- charts
 
 
@@ -122,7 +129,7 @@ def _preference_chart(a: StudyAnalysis) -> Any:
     c = a.choice.counts
     names = list(c.counts) + (["no preference"] if c.no_preference else [])
     values = list(c.counts.values()) + ([c.no_preference] if c.no_preference else [])
-    fig = go.Figure(go.Bar(x=names, y=values, marker_color="#2f6f4f", text=values,
+    fig = go.Figure(go.Bar(x=[pt(n) for n in names], y=values, marker_color="#2f6f4f", text=values,
                            textposition="outside"))
     fig.update_layout(title="Choices per sample", yaxis_title="panelists", height=340)
     return fig
@@ -136,16 +143,19 @@ def _means_chart(at) -> Any:
     means = [r.means[s] for s in order]
     lo = [r.means[s] - r.ci[s][0] for s in order]
     hi = [r.ci[s][1] - r.means[s] for s in order]
-    fig = go.Figure(go.Bar(
-        x=order, y=means, marker_color="#3d6f8f",
-        error_y=dict(type="data", symmetric=False, array=hi, arrayminus=lo),
-        text=[r.groups.get(s, "") for s in order], textposition="outside",
+    fig = go.Figure(go.Scatter(
+        x=[pt(s) for s in order], y=means, mode="markers", marker=dict(size=13, color="#3d6f8f"),
+        error_y=dict(type="data", symmetric=False, array=hi, arrayminus=lo, thickness=2,
+                     width=8),
         hovertemplate="%{x}: %{y:.2f}<extra></extra>"))
+    for s in order:
+        fig.add_annotation(x=pt(s), y=r.ci[s][1], text=f"<b>{html.escape(r.groups.get(s, ''))}</b>",
+                           showarrow=False, yshift=14, font=dict(size=14))
     fig.update_layout(
-        title=f"{at.attribute}: means with {r.level * 100:g} % intervals; letters: Tukey at "
-              f"alpha {fmt_risk(r.alpha)}",
-        yaxis=dict(range=[at.low - 0.5 if at.low > 0 else 0, at.high + 0.8],
-                   title=f"score ({at.low} to {at.high})"), height=360)
+        title=f"{pt(at.attribute)}: means with {r.level * 100:g} % intervals; samples sharing a "
+              f"letter do not differ (Tukey, alpha {fmt_risk(r.alpha)})",
+        yaxis=dict(range=[at.low - 0.3, at.high + 0.3], title=f"score ({at.low} to {at.high})",
+                   dtick=1), xaxis=dict(type="category"), showlegend=False, height=360)
     return fig
 
 
@@ -154,7 +164,7 @@ def _ranks_chart(a: StudyAnalysis) -> Any:
 
     r = a.ranking.result
     order = sorted(r.rank_sums, key=lambda s: r.rank_sums[s])
-    fig = go.Figure(go.Bar(x=order, y=[r.rank_sums[s] for s in order], marker_color="#3d6f8f",
+    fig = go.Figure(go.Bar(x=[pt(s) for s in order], y=[r.rank_sums[s] for s in order], marker_color="#3d6f8f",
                            text=[r.groups.get(s, "") for s in order], textposition="outside"))
     fig.update_layout(title=f"Rank sums (rank 1 = most); least significant difference "
                             f"{r.lsd:.1f}", yaxis_title="rank sum", height=340)
@@ -166,17 +176,21 @@ def _relation_chart(rel) -> Any:
 
     g = rel.regression
     fig = go.Figure(go.Scatter(x=list(rel.x), y=list(rel.y), mode="markers+text",
-                               text=list(rel.samples), textposition="top center",
+                               text=[pt(s) for s in rel.samples], textposition="top center",
                                marker=dict(size=11, color="#3d6f8f"), name="samples"))
     if g.slope is not None:
         xs = [min(rel.x), max(rel.x)]
         fig.add_trace(go.Scatter(x=xs, y=[g.intercept + g.slope * x for x in xs],
                                  mode="lines", line=dict(dash="dash", color="#8a8f94"),
                                  name="least-squares line"))
-    unit = f" ({rel.unit})" if rel.unit else ""
-    fig.update_layout(title=f"{rel.outcome} against {rel.predictor}: a descriptive trend over "
-                            f"{len(rel.samples)} samples", xaxis_title=f"{rel.predictor}{unit}",
-                      yaxis_title=f"mean {rel.outcome}", showlegend=False, height=340)
+    unit = f" ({pt(rel.unit)})" if rel.unit else ""
+    span = (max(rel.y) - min(rel.y)) or 1.0
+    fig.update_yaxes(range=[min(rel.y) - 0.2 * span, max(rel.y) + 0.25 * span])
+    xspan = (max(rel.x) - min(rel.x)) or 1.0
+    fig.update_xaxes(range=[min(rel.x) - 0.1 * xspan, max(rel.x) + 0.1 * xspan])
+    fig.update_layout(title=f"{pt(rel.outcome)} against {pt(rel.predictor)}: a descriptive trend over "
+                            f"{len(rel.samples)} samples", xaxis_title=f"{pt(rel.predictor)}{unit}",
+                      yaxis_title=f"mean {pt(rel.outcome)}", showlegend=False, height=340)
     return fig
 
 
@@ -329,12 +343,9 @@ def _rating_results(a: StudyAnalysis, charts: _Charts) -> str:
             out.append(f"<p>{e(at.note or 'Not analysed.')}</p>")
         else:
             out.append(_table(["term", "df", "SS", "MS", "F", "p"],
-                              [(x.term, _g(x.df, 4), _g(x.ss), _g(x.ms), _g(x.F), _g(x.p))
+                              [(x.term, f"{x.df:g}", _g(x.ss), _g(x.ms), _g(x.F), _g(x.p))
                                for x in r.anova], numeric=(1, 2, 3, 4, 5)))
-            out.append(f'<p class="note">{e(r.method)}. The sample effect is tested against '
-                       f"{e(r.error_term)} (MS {_g(r.ms_test)} on {_g(r.df_test, 4)} df); "
-                       f"Tukey HSD {_g(r.hsd)}, Fisher LSD {_g(r.lsd)} at alpha "
-                       f"{fmt_risk(r.alpha)}.</p>")
+            out.append(f'<p class="note">{e(r.method)}</p>')
             order = sorted(r.samples, key=lambda s: -r.means[s])
             out.append(_table(
                 ["sample", "mean", "n", f"{r.level * 100:g} % interval", "letters"],
