@@ -105,3 +105,11 @@ def test_the_same_seed_gives_the_same_plan():
     a = _plan("tetrad", ["x", "y"], PANEL[:5], rng=6)
     assert a == _plan("tetrad", ["x", "y"], PANEL[:5], rng=6)
     assert a != _plan("tetrad", ["x", "y"], PANEL[:5], rng=7)
+
+
+def test_a_panel_too_large_for_session_wide_codes_gets_codes_unique_within_each_set():
+    panel = [f"P{i:03d}" for i in range(300)]  # 900 cups > 786 usable codes
+    entries = _plan("triangle", ["Control", "Test"], panel, rng=8)
+    groups = _by_panelist(entries)
+    assert len(groups) == 300
+    assert all(len({c.code for c in cups}) == 3 for cups in groups.values())
