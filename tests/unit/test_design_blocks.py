@@ -50,7 +50,7 @@ def _quiet(fn, *args, **kwargs):
 
 @pytest.mark.parametrize("t, k, lam, b", [
     (7, 3, 1, 7),  # Cochran and Cox 1957, ch. 11 (from memory); PG(2,2)
-    (9, 3, 1, 12),  # Cochran and Cox 1957, ch. 11, a balanced lattice (from memory)
+    (9, 3, 1, 12),  # a balanced lattice, Cochran and Cox 1957 (from memory)
     (13, 4, 1, 13),  # PG(2,3), difference set {0,1,3,9} mod 13
     (16, 6, 2, 16),  # a symmetric (16,6,2) design (from memory: 4x4 grid rows+columns)
 ], ids=["cochran-cox-7-3-1", "cochran-cox-9-3-1", "pg23-13-4-1", "grid-16-6-2"])

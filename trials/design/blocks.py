@@ -81,8 +81,8 @@ def affine_plane(q: int) -> list[list[int]]:
 
     Points are pairs ``(x, y)`` of GF(q), numbered ``x * q + y``. The lines
     ``y = m x + c`` (one parallel class per slope ``m``) and ``x = c`` give
-    ``q^2 + q`` blocks in ``q + 1`` parallel classes (Cochran and Cox 1957, ch. 11,
-    lattice designs; from memory).
+    ``q^2 + q`` blocks in ``q + 1`` parallel classes (the balanced lattice of
+    Cochran and Cox 1957; from memory).
     """
     add, mul = _field(q)
     lines = []
