@@ -1,18 +1,83 @@
-"""Home: the trials on file with their status."""
+"""Home: the trials on file with their status, and a way to start a new one."""
 
 import streamlit as st
 
 from trials import service, ui
+from trials.errors import TrialsError
+from trials.methods import METHODS
+from trials.model import Sample, Status
 
 ui.require_leader()
 st.title("Trials")
+
 studies = service.list_studies(ui.store())
+
+STATUS_HELP = {
+    Status.PLANNING: "set-up in progress",
+    Status.READY: "plan drawn, ready to serve",
+    Status.TASTING: "answers coming in",
+    Status.ANALYSED: "results read",
+    Status.DECIDED: "decision on file",
+}
+
 if not studies:
-    st.info("No trials on file yet. Start one under Trial set-up, or run `trials demo`.")
+    st.info("No trials on file yet. Start one below, or run `trials demo` for the invented examples.")
 else:
-    st.dataframe(
-        [s.to_dict() for s in studies],
+    counts = {s: sum(1 for x in studies if x.status == s) for s in Status}
+    cols = st.columns(len(Status))
+    for col, status in zip(cols, Status):
+        col.metric(status.value.capitalize(), counts[status], help=STATUS_HELP[status])
+    table = [
+        {
+            "id": s.id,
+            "trial": s.name,
+            "product": s.product,
+            "method": s.method,
+            "status": s.status.value,
+            "created": s.created_on,
+            "decision": s.decision,
+        }
+        for s in studies
+    ]
+    picked = st.dataframe(
+        table,
         hide_index=True,
         width="stretch",
+        on_select="rerun",
+        selection_mode="single-row",
+        key="trial_table",
+        column_config={"id": st.column_config.NumberColumn("id", width="small")},
     )
+    rows = picked.selection.rows if picked else []
+    if rows:
+        chosen = studies[rows[0]]
+        ui.select_study(chosen.id)
+        st.success(f"Working on trial #{chosen.id} {chosen.name}: the other screens open it.")
+
+labels = {m.name: m.label for m in METHODS}
+with st.expander("Start a new trial", expanded=not studies, icon=":material/add:"):
+    with st.form("new_trial", clear_on_submit=False):
+        name = st.text_input("Name", placeholder="e.g. Sourdough, 20 % rye against 10 %")
+        product = st.text_input("Product", placeholder="what the samples are variants of")
+        method = st.selectbox("Method", list(labels), format_func=labels.get)
+        objective = st.text_area("Objective", placeholder="the question this trial answers")
+        first = st.text_input("First sample (the control)", value="Control")
+        second = st.text_input("Second sample", value="Variant")
+        made = st.form_submit_button("Create the trial", type="primary")
+    if made:
+        try:
+            study = service.create_study(
+                ui.store(), name=name, method=method, objective=objective, product=product,
+                samples=[
+                    Sample(name=first.strip(), is_control=True),
+                    Sample(name=second.strip()),
+                ] if first.strip() and second.strip() else [],
+                by=ui.who(),
+            )
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.changed()
+            ui.select_study(study.id)
+            st.success(f"Trial #{study.id} {study.name} created. Go on with Trial set-up.")
 ui.food_caution()

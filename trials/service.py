@@ -2081,26 +2081,28 @@ def check_paper_sheet(store: Store, study_id: int, session: str,
     """Problems of a paper grid, one message per bad cell, naming the grid row (1-based),
     the panelist and what was expected; empty when every answer would be accepted.
     Also flags a rank given twice by one panelist in one set."""
+    problems: list[str] = []
+    ranks: dict[tuple[str, int], dict[str, str]] = defaultdict(dict)
     with store.read() as s:
         study_row = _study_row(s, study_id)
         ctx = _Context.load(s, study_row)
         study = _study_record(study_row)
-    spec = ctx.spec
-    problems: list[str] = []
-    ranks: dict[tuple[str, int], dict[str, int]] = defaultdict(dict)
-    for i, a in _sheet_answers(study, spec, str(session), frame):
-        try:
-            ans = ctx.check(a["session"], a["panelist"], a["code"], a["attribute"], a["value"])
-        except _Bad as bad:
-            problems.append(f"row {i + 1} (panelist {a['panelist']!r}), {bad.column}: {bad.text}")
-            continue
-        if spec.family == Family.RANKING:
-            k = ctx.plan[(a["session"], a["panelist"])][ans.code].set_index
-            given = ranks[(a["panelist"], k)]
-            if ans.value in given:
-                problems.append(f"row {i + 1} (panelist {a['panelist']!r}): rank {ans.value} "
-                                f"is also given to code {given[ans.value]!r}")
-            given[ans.value] = ans.code
+        spec = ctx.spec
+        for i, a in _sheet_answers(study, spec, str(session), frame):
+            try:
+                ans = ctx.check(a["session"], a["panelist"], a["code"], a["attribute"],
+                                a["value"])
+            except _Bad as bad:
+                problems.append(
+                    f"row {i + 1} (panelist {a['panelist']!r}), {bad.column}: {bad.text}")
+                continue
+            if spec.family == Family.RANKING:
+                k = ctx.plan[(a["session"], a["panelist"])][ans.code].set_index
+                given = ranks[(a["panelist"], k)]
+                if ans.value in given:
+                    problems.append(f"row {i + 1} (panelist {a['panelist']!r}): rank "
+                                    f"{ans.value} is also given to code {given[ans.value]!r}")
+                given[ans.value] = ans.code
     return problems
 
 
@@ -2124,3 +2126,56 @@ def save_paper_sheet(store: Store, study_id: int, session: str, frame: pd.DataFr
         return len(items)
 
     return store.write(work)
+
+
+if "print_bytes" not in globals():
+
+    def print_bytes(store: Store, study_id: int, kind: str, *, progress=None,
+                    base_url: str = "") -> bytes:
+        """A printed document of the trial as PDF bytes: ``ballots``, ``sheet`` (the
+        serving sheet with the key, kitchen only) or ``labels`` (cup labels).
+
+        ``progress(done, total)`` is called as the work goes on; ``base_url`` (the app's
+        address) puts each panelist's tasting link on their ballot as a QR code.
+        """
+        from trials import printing
+
+        study = get_study(store, study_id)
+        entries = plan(store, study_id)
+        if not entries:
+            raise TrialsError(f"trial {study_id} has no serving plan yet; draw one first")
+        if kind == "ballots":
+            links = panelist_links(store, study_id)
+            result = printing.ballots_pdf(study, entries, panelists=list_panelists(store),
+                                          base_url=base_url, tokens=links if base_url else None,
+                                          today=_today(), progress=progress)
+        elif kind == "sheet":
+            result = printing.serving_sheet_pdf(
+                study, entries, batches=list_batches(store, study_id),
+                conflicts=allergen_conflicts(store, study_id),
+                panelists=list_panelists(store), progress=progress)
+        elif kind == "labels":
+            result = printing.labels_pdf(entries, progress=progress)
+        else:
+            raise TrialsError(f"unknown document {kind!r}; expected ballots, sheet or labels")
+        return result.data
+
+
+def study_decision(store: Store, study_id: int, analysis=None):
+    """The decision text for the trial's results (:func:`trials.decision.decide`), from
+    a given analysis or a fresh one."""
+    from trials.decision import decide
+
+    if analysis is None:
+        analysis = analyse_study(store, study_id)
+    return decide(analysis, study=get_study(store, study_id))
+
+
+def export_bytes(store: Store, study_id: int, *, fmt: str = "csv") -> bytes:
+    """:func:`export_responses` as bytes, for a download button."""
+    import tempfile
+
+    with tempfile.TemporaryDirectory(prefix="trials-export-") as folder:
+        path = Path(folder) / f"answers.{fmt}"
+        export_responses(store, study_id, path, fmt=fmt)
+        return path.read_bytes()

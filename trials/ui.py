@@ -24,6 +24,13 @@ PAGES_DIR = Path(__file__).resolve().parent.parent / "pages"
 LEADER_PAGES: tuple[tuple[str, str, str], ...] = (
     ("home", "Trials", ":material/list_alt:"),
     ("trial", "Trial set-up", ":material/science:"),
+    ("samples", "Samples and batches", ":material/bakery_dining:"),
+    ("panel", "Panel", ":material/groups:"),
+    ("plan", "Serving plan", ":material/grid_on:"),
+    ("printing", "Printing", ":material/print:"),
+    ("entry", "Paper entry", ":material/edit_note:"),
+    ("results", "Results", ":material/monitoring:"),
+    ("decision", "Decision and report", ":material/gavel:"),
 )
 
 
@@ -76,8 +83,13 @@ def require_leader() -> None:
 
     A panelist link never opens a leader screen. With a passcode configured the visitor
     must give it once per browser session; without one the app is a single-user tool
-    and says so.
+    and says so. Past the gate, the sidebar asks for the leader's name for the audit log.
     """
+    _leader_gate()
+    leader_sidebar()
+
+
+def _leader_gate() -> None:
     if panelist_token():
         st.error("This link opens a tasting ballot only.")
         st.stop()
@@ -115,10 +127,231 @@ def require_panelist():
         st.stop()
 
 
-def food_caution() -> None:
-    """The standing caution on screens where food is prepared or served."""
+def food_caution(study_id: int | None = None) -> None:
+    """The standing caution on screens where food is prepared or served.
+
+    With a trial, also its open food-safety points: panelists whose declared allergens a
+    sample holds, and batches not yet signed off.
+    """
+    if study_id is not None:
+        conflicts = service.allergen_conflicts(store(), study_id)
+        if conflicts:
+            lines = "\n".join(
+                f"- panelist **{c.panelist_code}**: {c.sample_name} holds {', '.join(c.allergens)}"
+                for c in conflicts
+            )
+            st.warning(f"Allergen conflicts: do not serve these cups.\n{lines}",
+                       icon=":material/warning:")
+        unsigned = [b for b in service.list_batches(store(), study_id) if not b.signed_off]
+        if unsigned:
+            names = ", ".join(f"{b.sample_name} / {b.label}" for b in unsigned)
+            st.warning(f"Batches not signed off for food safety yet (do not serve): {names}",
+                       icon=":material/health_and_safety:")
     st.caption(
         ":material/warning: Samples are food served to people: check declared allergens "
         "against every sample, obtain informed consent, and prepare and hold samples as "
         "your local food code and licensed practice require."
     )
+
+
+def who() -> str:
+    """The name written to the audit log for the leader's changes."""
+    return (st.session_state.get("leader_name") or "").strip() or "leader"
+
+
+def leader_sidebar() -> None:
+    """The leader's name for the audit log, kept for the session."""
+    st.sidebar.text_input("Your name (for the audit log)", key="leader_name",
+                          placeholder="leader", persist_state="session")
+
+
+# ---------------------------------------------------------------- the trial in hand
+
+
+STUDY_KEY = "study_id"
+
+
+def _study_label(study) -> str:
+    return f"#{study.id} {study.name} ({study.status})"
+
+
+def pick_study(*, required: bool = True):
+    """The trial the leader works on: a picker in the sidebar, shared by every screen.
+
+    The choice lives in the session and in the address (``?study=ID``), so that a
+    reload or a copied link opens the same trial. Returns the study id, or None when
+    ``required`` is false and none is on file (with ``required`` the page stops).
+    """
+    studies = list(service.list_studies(store()))
+    if not studies:
+        if required:
+            st.info("No trials on file yet. Start one on the Trials screen.")
+            st.stop()
+        return None
+    ids = [s.id for s in studies]
+    wanted = st.session_state.get(STUDY_KEY)
+    if wanted is None:
+        try:
+            wanted = int(st.query_params.get("study", ""))
+        except ValueError:
+            wanted = None
+    index = ids.index(wanted) if wanted in ids else 0
+    by_id = {s.id: s for s in studies}
+    chosen = st.sidebar.selectbox(
+        "Trial", ids, index=index, format_func=lambda i: _study_label(by_id[i]),
+    )
+    select_study(chosen)
+    return chosen
+
+
+def select_study(study_id: int) -> None:
+    """Make ``study_id`` the trial in hand (the session and the address)."""
+    st.session_state[STUDY_KEY] = study_id
+    if st.query_params.get("study") != str(study_id):
+        st.query_params["study"] = str(study_id)
+
+
+def changed() -> None:
+    """Call after a write: drops cached reads so that every screen shows the new state."""
+    st.session_state["rev"] = st.session_state.get("rev", 0) + 1
+    _analysis.clear()
+
+
+def show_problem(exc: Exception) -> None:
+    """A bad input, said plainly (the message names the value and what was expected)."""
+    st.error(str(exc))
+
+
+@st.cache_resource(show_spinner="Analysing...", max_entries=16)
+def _analysis(url: str | None, study_id: int, stamp: tuple):
+    del stamp  # part of the cache key only: it changes whenever the trial changes
+    s = _open_store(url)
+    result = service.analyse_study(s, study_id)
+    return result, service.study_decision(s, study_id, result)
+
+
+def analysis(study_id: int):
+    """The trial's analysis and decision text, computed once per state of the trial
+    (the cache key is :func:`trials.service.change_stamp`: every write moves it)."""
+    stamp = service.change_stamp(store(), study_id)
+    return _analysis(os.environ.get("TRIALS_DB"), study_id, stamp)
+
+
+# ---------------------------------------------------------------- looks
+
+
+TABLET_CSS = """
+<style>
+html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
+[data-testid="stMarkdownContainer"] p { font-size: 1.35rem; line-height: 1.5; }
+.stButton button, .stFormSubmitButton button {
+    min-height: 4.25rem; font-size: 1.6rem; font-weight: 600; border-radius: 0.9rem;
+}
+.stButton button p, .stFormSubmitButton button p { font-size: 1.6rem; }
+.kt-code { font-size: 3.2rem; font-weight: 700; letter-spacing: 0.3rem; text-align: center; }
+.kt-step { font-size: 1.1rem; opacity: 0.75; }
+[data-testid="stSidebar"], [data-testid="stSidebarCollapsedControl"] { display: none; }
+header[data-testid="stHeader"] { display: none; }
+</style>
+"""
+
+
+def tablet_look() -> None:
+    """Large text and large touch targets for the tasting screen."""
+    st.html(TABLET_CSS)
+
+
+# ---------------------------------------------------------------- charts
+
+
+def power_chart(method: str, *, pd: float, alpha: float, n_needed: int, beta: float) -> None:
+    """Exact power of the difference test against the number of assessors."""
+    import plotly.graph_objects as go
+
+    top = max(20, int(n_needed * 1.6))
+    step = max(1, top // 120)
+    curve = service.power_curve(method, pd=pd, alpha=alpha, ns=range(5, top + 1, step))
+    fig = go.Figure(go.Scatter(x=curve["n"], y=curve["power"], mode="lines",
+                               name="power", line={"shape": "hv"}))
+    fig.add_hline(y=1 - beta, line_dash="dot", annotation_text=f"1 - beta = {1 - beta:.2f}")
+    fig.add_vline(x=n_needed, line_dash="dot", annotation_text=f"n = {n_needed}")
+    fig.update_layout(xaxis_title="assessors", yaxis_title="power", yaxis_range=[0, 1],
+                      height=320, margin={"l": 10, "r": 10, "t": 30, "b": 10})
+    st.plotly_chart(fig, width="stretch")
+
+
+def means_chart(means: dict, ci: dict, *, title: str, low: float, high: float,
+                groups: dict | None = None) -> None:
+    """Sample means with their confidence intervals (and letters) on the scale."""
+    import plotly.graph_objects as go
+
+    names = list(means)
+    y = [means[n] for n in names]
+    lo = [y[i] - ci[n][0] for i, n in enumerate(names)]
+    hi = [ci[n][1] - y[i] for i, n in enumerate(names)]
+    text = [(groups or {}).get(n, "") for n in names]
+    fig = go.Figure(go.Scatter(
+        x=names, y=y, mode="markers+text", text=text, textposition="middle right",
+        error_y={"type": "data", "symmetric": False, "array": hi, "arrayminus": lo},
+        marker={"size": 12},
+    ))
+    fig.update_layout(title=title, yaxis_title="mean score", yaxis_range=[low - 0.5, high + 0.5],
+                      height=340, margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    st.plotly_chart(fig, width="stretch")
+
+
+def panel_chart(frame, *, title: str) -> None:
+    """Panel performance: agreement against repeatability, flagged panelists marked."""
+    import plotly.graph_objects as go
+
+    data = frame.reset_index()
+    flagged = data["flags"].astype(str).str.len() > 0
+    y = data["mse"] if data["mse"].notna().any() else data["n"]
+    fig = go.Figure()
+    for mask, name in ((~flagged, "in line"), (flagged, "stands apart")):
+        fig.add_trace(go.Scatter(x=data.loc[mask, "agreement"], y=y[mask], mode="markers+text",
+                                 text=data.loc[mask, "panelist"], textposition="top center",
+                                 name=name, marker={"size": 10}))
+    fig.update_layout(title=title, xaxis_title="agreement with the panel (r)",
+                      yaxis_title="repeatability (MSE)" if data["mse"].notna().any()
+                      else "scores", height=360, margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    st.plotly_chart(fig, width="stretch")
+
+
+def upload_path(upload) -> Path:
+    """An uploaded file written to a private temporary folder under its own name (the
+    service reads files by path and tells CSV from Excel by the extension)."""
+    import tempfile
+
+    folder = Path(tempfile.mkdtemp(prefix="trials-upload-"))
+    path = folder / Path(upload.name).name
+    path.write_bytes(upload.getvalue())
+    return path
+
+
+def app_address() -> str:
+    """The app's address as the browser sees it (scheme, host and port), for tasting
+    links; empty when unknown (then printed ballots carry no QR code)."""
+    from urllib.parse import urlsplit
+
+    try:
+        url = st.context.url or ""
+    except Exception:  # older runtimes, or a test without a browser
+        url = ""
+    parts = urlsplit(url)
+    return f"{parts.scheme}://{parts.netloc}" if parts.scheme and parts.netloc else ""
+
+
+def count_chart(correct: int, n: int, critical: int | None, *, guess: float, label: str) -> None:
+    """The observed count against the count expected by chance and the critical value."""
+    import plotly.graph_objects as go
+
+    fig = go.Figure(go.Bar(x=[correct, n - correct], y=[label, "other"], orientation="h",
+                           marker_color=["#2e7d32", "#9e9e9e"], text=[correct, n - correct],
+                           textposition="auto"))
+    fig.add_vline(x=n * guess, line_dash="dot", annotation_text="expected by chance")
+    if critical is not None:
+        fig.add_vline(x=critical, line_dash="dash", annotation_text=f"critical = {critical}")
+    fig.update_layout(height=200, xaxis_range=[0, n], xaxis_title="answers",
+                      margin={"l": 10, "r": 10, "t": 30, "b": 10}, showlegend=False)
+    st.plotly_chart(fig, width="stretch")

@@ -1,0 +1,72 @@
+"""Decision and report: record the decision with its rationale, download the report."""
+
+import pandas as pd
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+
+st.title(f"Decision: {study.name}")
+result, suggested = ui.analysis(study_id)
+
+with st.container(border=True):
+    st.markdown("**What the results say**")
+    st.markdown(suggested.text if result.has_answers else f"No results yet: {result.message}.")
+
+if study.decision:
+    st.success(f"On file: **{study.decision}**" + (f"  \n{study.rationale}" if study.rationale
+                                                      else ""))
+
+with st.form("decide"):
+    decision = st.text_input("Decision", value=study.decision,
+                             placeholder="e.g. Switch to the short proof from next week.")
+    rationale = st.text_area(
+        "Rationale", value=study.rationale or (suggested.text if result.has_answers else ""),
+        height=180, help="Why: the evidence, the risks accepted and anything outside the test.")
+    done = st.form_submit_button("Record the decision", type="primary")
+if done:
+    try:
+        service.record_decision(store, study_id, decision, rationale, by=ui.who())
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        ui.changed()
+        st.toast("Decision recorded.", icon=":material/check:")
+        st.rerun()
+
+st.subheader("Report")
+made = st.session_state.setdefault("reports", {})
+stamp = service.change_stamp(store, study_id)
+key = (study_id, stamp)
+report = getattr(service, "report_html", None)
+if report is None:
+    st.info("The report is not available in this build yet.")
+elif key in made:
+    st.download_button("Download the report (HTML)", made[key],
+                       file_name=f"trial-{study_id}-report.html", mime="text/html",
+                       on_click="ignore", type="primary", icon=":material/download:")
+elif st.button("Prepare the report", icon=":material/description:"):
+    try:
+        with st.spinner("Writing the report..."):
+            made[key] = report(store, study_id)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        st.rerun()
+
+with st.expander("Export the answers", icon=":material/table_view:"):
+    st.caption("Every answer with the sample behind each code (leader only); the file "
+               "imports back.")
+    st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, study_id),
+                       file_name=f"trial-{study_id}-answers.csv", mime="text/csv",
+                       on_click="ignore")
+
+with st.expander("Audit log", icon=":material/history:"):
+    log = service.audit_log(store, study_id)
+    st.dataframe(pd.DataFrame([e.to_dict() for e in log[-500:]]), hide_index=True,
+                 width="stretch")

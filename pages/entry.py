@@ -1,0 +1,110 @@
+"""Paper entry: type the answers of paper ballots into a grid that checks as you type.
+
+Tab and Enter move between cells. Every answer is checked against the serving plan
+(codes must be ones served to that panelist) and the scales before anything is saved.
+"""
+
+import pandas as pd
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import ImportRowsError, TrialsError
+from trials.methods import Family, get_method
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+spec = get_method(study.method)
+overview = service.study_overview(store, study_id)
+
+st.title(f"Paper entry: {study.name}")
+if not overview.plan_size:
+    st.info("Draw the serving plan first (Serving plan).")
+    st.stop()
+
+sessions = list(overview.sessions)
+c1, c2 = st.columns([1, 3])
+session = c1.selectbox("Session", sessions, index=len(sessions) - 1) if len(sessions) > 1 \
+    else sessions[0]
+base = service.paper_sheet(store, study_id, session)
+panelists = sorted(base["panelist"].unique())
+who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}")
+if who_filter:
+    base = base[base["panelist"].isin(who_filter)].reset_index(drop=True)
+
+config = {
+    "panelist": st.column_config.TextColumn("panelist", disabled=True),
+    "position": st.column_config.NumberColumn("position", disabled=True, width="small"),
+}
+if spec.is_forced_choice:
+    st.caption(f"{spec.question} Type the circled code"
+               + (" (tetrad: the two codes of the group, separated by a space)."
+                  if spec.name == "tetrad" else "."))
+    config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
+    config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
+    config["chosen"] = st.column_config.TextColumn(
+        "chosen code", validate=r"^\s*\d{3}(\s+\d{3})?\s*$", max_chars=7,
+        help="The code the panelist circled.")
+    if spec.name == "paired-preference":
+        config["no_preference"] = st.column_config.CheckboxColumn("no preference")
+elif spec.family == Family.RATING:
+    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
+    for a in study.attributes:
+        config[a.name] = st.column_config.NumberColumn(
+            a.name, min_value=a.low, max_value=a.high, step=1,
+            help=f"{a.kind}, whole points {a.low} to {a.high}")
+else:
+    k = len(study.samples)
+    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
+    config["rank"] = st.column_config.NumberColumn("rank", min_value=1, max_value=k, step=1,
+                                                   help="1 = most")
+
+edited = st.data_editor(
+    base, column_config=config, hide_index=True, width="stretch",
+    key=f"paper_{study_id}_{session}_{'-'.join(who_filter)}_{st.session_state.get('paper_gen', 0)}",
+    num_rows="fixed",
+    height=min(36 * (len(base) + 1) + 3, 560),
+)
+
+problems = service.check_paper_sheet(store, study_id, session, edited)
+changed_rows = int((edited.astype("string").fillna("") != base.astype("string").fillna(""))
+                   .any(axis=1).sum())
+if problems:
+    st.error(f"{len(problems)} problem(s); nothing is saved until they are fixed:\n\n"
+             + "\n".join(f"- {p}" for p in problems[:30]))
+elif changed_rows:
+    st.success(f"{changed_rows} row(s) changed; every answer checks out.")
+save = st.button("Save the answers", type="primary", disabled=bool(problems) or not changed_rows,
+                 icon=":material/save:")
+if save:
+    try:
+        n = service.save_paper_sheet(store, study_id, session, edited, entered_by=ui.who())
+    except ImportRowsError as exc:
+        ui.show_problem(exc)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        ui.changed()
+        st.session_state["paper_gen"] = st.session_state.get("paper_gen", 0) + 1
+        st.toast(f"{n} answers on file.", icon=":material/check:")
+        st.rerun()
+
+progress = service.answer_progress(store, study_id)
+if not progress.empty:
+    done = progress[progress["answered"] >= progress["expected"]]
+    st.caption(f"{len(done)} of {len(progress)} ballots complete.")
+
+with st.expander("Import answers from a file", icon=":material/upload_file:"):
+    st.caption("Tidy CSV or Excel: session, panelist, code, attribute, value (see the "
+               "README). Every row is checked; on any bad row nothing is imported.")
+    up = st.file_uploader("Response file", type=["csv", "txt", "xlsx"], key="resp_file")
+    if up is not None and st.button("Import the answers"):
+        try:
+            n = service.import_responses(store, study_id, up.getvalue(), entered_by=ui.who(),
+                                         name=up.name)
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.changed()
+            st.success(f"{n} answers imported.")

@@ -1,0 +1,80 @@
+"""The serving plan: draw it with a seed, see its balance, allergen conflicts and links."""
+
+import pandas as pd
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+from trials.methods import get_method
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+spec = get_method(study.method)
+overview = service.study_overview(store, study_id)
+
+st.title(f"Serving plan: {study.name}")
+ui.food_caution(study_id)
+
+roster = service.list_panelists(store)
+ready = [p.code for p in roster if p.consented]
+planned = {p.code for p in service.list_panelists(store, study_id)}
+
+with st.form("draw"):
+    st.markdown(f"**Draw the plan** ({spec.label}, {len(study.samples)} samples)")
+    chosen = st.multiselect(
+        "Panelists (consent recorded)", ready, default=sorted(planned & set(ready)) or ready,
+        help="Panelists without a consent date cannot be served.",
+    )
+    c1, c2, c3 = st.columns(3)
+    sessions = list(overview.sessions) or ["1"]
+    session = c1.text_input("Session", value=sessions[-1])
+    seed = c2.number_input("Seed (the same seed draws the same plan)", 0, 2**31 - 1, 1, 1)
+    per = None
+    if not spec.is_forced_choice and len(study.samples) > 3:
+        per = c3.number_input("Samples per panelist (fewer than all: incomplete blocks)", 2,
+                              len(study.samples), len(study.samples), 1)
+    drawn = st.form_submit_button("Draw the plan", type="primary")
+
+if drawn:
+    kwargs = {}
+    if per is not None and int(per) < len(study.samples):
+        kwargs["per_panelist"] = int(per)
+    try:
+        with st.spinner("Drawing the plan..."):
+            entries = service.draw_plan(store, study_id, panelist_codes=chosen, session=session,
+                                        seed=int(seed), by=ui.who(), **kwargs)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        ui.changed()
+        st.success(f"Plan drawn: {len(entries)} cups for {len(chosen)} panelists "
+                   f"(session {session}, seed {int(seed)}).")
+        overview = service.study_overview(store, study_id)
+
+if not overview.plan_size:
+    st.info("No plan drawn yet.")
+    st.stop()
+
+balance = service.plan_balance(store, study_id)
+st.subheader("Balance")
+c1, c2 = st.columns(2)
+with c1:
+    st.markdown("Cups of each sample at each position")
+    st.dataframe(balance["positions"], width="stretch")
+with c2:
+    if not balance["patterns"].empty:
+        st.markdown("Sets of each pattern (A, B: the two samples; R: the reference)")
+        st.dataframe(balance["patterns"], hide_index=True, width="stretch")
+
+st.subheader("Tasting links")
+st.caption("Hand each panelist their own link (the app's address followed by the path). "
+           "A link opens that panelist's ballot only.")
+links = pd.DataFrame({"panelist": list(overview.links), "path": list(overview.links.values())})
+st.dataframe(links, hide_index=True, width="stretch",
+             column_config={"path": st.column_config.LinkColumn("path")})
+
+with st.expander("The plan with the decoding key (kitchen only)", icon=":material/key:"):
+    entries = service.plan(store, study_id)
+    st.dataframe(pd.DataFrame([e.to_dict() for e in entries]), hide_index=True, width="stretch")

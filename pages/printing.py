@@ -1,0 +1,62 @@
+"""Printing: ballots, the serving sheet (with the key, kitchen only) and cup labels."""
+
+import inspect
+
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+overview = service.study_overview(store, study_id)
+
+st.title(f"Printing: {study.name}")
+ui.food_caution(study_id)
+if not overview.plan_size:
+    st.info("Draw the serving plan first (Serving plan).")
+    st.stop()
+
+DOCS = {
+    "ballots": ("Ballots", "one ballot per panelist and session, blinding codes only"),
+    "sheet": ("Serving sheet", "the decoding key, for the kitchen only: never hand it out"),
+    "labels": ("Cup labels", "in serving order, grouped per panelist"),
+}
+stamp = service.change_stamp(store, study_id)
+made = st.session_state.setdefault("printed", {})
+
+
+def _build(kind: str) -> bytes:
+    bar = st.progress(0.0, text=f"Preparing the {DOCS[kind][0].lower()}...")
+
+    def tick(done: int, total: int) -> None:
+        bar.progress(min(1.0, done / max(total, 1)), text=f"{DOCS[kind][0]}: {done} of {total}")
+
+    kwargs = {"progress": tick}
+    if "base_url" in inspect.signature(service.print_bytes).parameters:
+        kwargs["base_url"] = ui.app_address()
+    data = service.print_bytes(store, study_id, kind, **kwargs)
+    bar.empty()
+    return data
+
+
+for kind, (title, help_text) in DOCS.items():
+    with st.container(border=True):
+        c1, c2 = st.columns([3, 2], vertical_alignment="center")
+        c1.markdown(f"**{title}**  \n{help_text}")
+        key = (study_id, kind, stamp)
+        if key not in made:
+            if c2.button(f"Prepare the {title.lower()}", key=f"prep_{kind}", width="stretch"):
+                try:
+                    made[key] = _build(kind)
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+        if key in made:
+            c2.download_button(
+                f"Download the {title.lower()} (PDF)", made[key],
+                file_name=f"trial-{study_id}-{kind}.pdf", mime="application/pdf",
+                on_click="ignore", type="primary", width="stretch", key=f"dl_{kind}",
+                icon=":material/download:",
+            )

@@ -1,0 +1,172 @@
+"""Results: the decision and the numbers behind it, per method."""
+
+import pandas as pd
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+from trials.methods import Family, get_method
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+spec = get_method(study.method)
+
+st.title(f"Results: {study.name}")
+result, decision = ui.analysis(study_id)
+st.caption(f"{spec.label} · {result.panelists_answered} of {result.panelists_planned} panelists "
+           f"answered · {result.answers} answers · alpha = {study.alpha:g}")
+
+if not result.has_answers:
+    st.info(f"No results: {result.message}.")
+    st.stop()
+
+with st.container(border=True):
+    st.markdown(f"### {decision.headline}")
+    for line in decision.details:
+        st.markdown(f"- {line}")
+    if decision.limits:
+        st.caption(" ".join(decision.limits))
+    st.caption(f"Method: {decision.method}. Source: {decision.reference}.")
+
+
+def _fmt_p(p) -> str:
+    if p is None:
+        return "-"
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
+def _interval(ci) -> str:
+    return f"[{ci[0]:.2f}, {ci[1]:.2f}]"
+
+
+# ------------------------------------------------------------------ forced choice
+if result.choice is not None:
+    fc = result.choice
+    counts = fc.counts
+    diff = fc.difference
+    if spec.family == Family.PREFERENCE:
+        st.subheader("Choices")
+        cols = st.columns(len(counts.counts) + 1)
+        for col, (name, k) in zip(cols, counts.counts.items()):
+            col.metric(name, k)
+        cols[-1].metric("No preference", counts.no_preference)
+    else:
+        st.subheader("Correct answers")
+    if diff is not None:
+        c1, c2, c3, c4 = st.columns(4)
+        label = "more-chosen count" if spec.family == Family.PREFERENCE else "correct"
+        c1.metric(label.capitalize(), f"{diff.correct} of {diff.n}")
+        c2.metric("Critical value", "-" if diff.critical is None else diff.critical,
+                  help=f"Fewest {label} answers that conclude a difference at alpha = "
+                       f"{diff.alpha:g} ({'two' if diff.sides == 2 else 'one'}-sided exact "
+                       "binomial; the published critical-value tables give the same counts).")
+        c3.metric("p-value", _fmt_p(diff.p_value))
+        c4.metric("Significant", "yes" if diff.significant else "no")
+        if spec.family == Family.DISCRIMINATION:
+            e1, e2, e3 = st.columns(3)
+            e1.metric("Proportion correct", f"{diff.pc:.2f}")
+            e2.metric("pd (discriminators)", f"{diff.pd:.2f}",
+                      help=f"{diff.level:.0%} interval {_interval(diff.pd_ci)}")
+            e3.metric("d'", f"{diff.dprime:.2f}",
+                      help=f"{diff.level:.0%} interval {_interval(diff.dprime_ci)}")
+            st.dataframe(pd.DataFrame([
+                {"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0], "high": diff.pd_ci[1]},
+                {"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
+                 "high": diff.dprime_ci[1]},
+            ]), hide_index=True, width="stretch")
+            st.caption(f"Intervals: {diff.ci_method}, {diff.level:.0%}.")
+        ui.count_chart(diff.correct, diff.n, diff.critical, guess=diff.guess,
+                       label=label)
+    if fc.similarity is not None:
+        sim = fc.similarity
+        st.subheader("Similarity")
+        s1, s2, s3 = st.columns(3)
+        s1.metric("Similar", "yes" if sim.similar else "no")
+        s2.metric("Largest count for similarity", "-" if sim.max_correct is None
+                  else sim.max_correct)
+        s3.metric(f"Upper limit of pd (1 - beta = {1 - sim.beta:.2f})", f"{sim.pd_upper:.2f}")
+    if fc.note:
+        st.caption(fc.note)
+
+# ------------------------------------------------------------------ ratings
+if result.attributes:
+    st.subheader("Ratings")
+    tabs = st.tabs([a.attribute for a in result.attributes])
+    for tab, at in zip(tabs, result.attributes):
+        with tab:
+            if at.note:
+                st.caption(at.note)
+            av = at.anova
+            if av is None:
+                st.info("Not enough scores for an analysis of variance yet.")
+                continue
+            ui.means_chart(av.means, av.ci, title=f"{at.attribute}: means with "
+                           f"{av.level:.0%} intervals and letters", low=at.low, high=at.high,
+                           groups=av.groups)
+            c1, c2 = st.columns(2)
+            with c1:
+                st.markdown("**Analysis of variance**")
+                st.dataframe(pd.DataFrame([r.to_dict() for r in av.anova]), hide_index=True,
+                             width="stretch",
+                             column_config={"p": st.column_config.NumberColumn(format="%.4f")})
+            with c2:
+                st.markdown("**Means**")
+                st.dataframe(pd.DataFrame([{
+                    "sample": s, "mean": av.means[s], "low": av.ci[s][0], "high": av.ci[s][1],
+                    "n": av.n[s], "group": av.groups.get(s, ""),
+                } for s in av.samples]).sort_values("mean", ascending=False),
+                    hide_index=True, width="stretch")
+            st.caption(f"{av.method}. Tukey HSD = {av.hsd:.3f}; samples sharing a letter do "
+                       "not differ at alpha.")
+            if at.penalty is not None:
+                st.markdown("**Just-about-right: penalty analysis**")
+                st.dataframe(pd.DataFrame([r.to_dict() for r in at.penalty.rows]),
+                             hide_index=True, width="stretch")
+                st.caption(at.penalty.method)
+            if at.relations:
+                with st.expander("Means against the batches' measures", icon=":material/scale:"):
+                    st.dataframe(pd.DataFrame([{
+                        "measure": r.predictor, "unit": r.unit, "r": r.correlation.r,
+                        "p": r.correlation.p_value, "slope": r.regression.slope,
+                    } for r in at.relations]), hide_index=True, width="stretch")
+                    st.caption(at.relations[0].note)
+            with st.expander("Panel performance", icon=":material/groups:"):
+                try:
+                    perf = service.panel_performance_of(store, study_id, at.attribute)
+                except TrialsError as exc:
+                    st.caption(str(exc))
+                else:
+                    frame = perf.to_frame()
+                    ui.panel_chart(frame, title=f"{at.attribute}: agreement and repeatability")
+                    st.dataframe(frame, width="stretch")
+                    st.caption(perf.rule)
+
+# ------------------------------------------------------------------ ranking
+if result.ranking is not None:
+    rk = result.ranking
+    st.subheader("Ranks")
+    if rk.note:
+        st.caption(rk.note)
+    fr = rk.result
+    if fr is not None:
+        c1, c2, c3 = st.columns(3)
+        c1.metric(f"{fr.test} statistic", f"{fr.statistic:.2f}", help=f"df = {fr.df}")
+        c2.metric("p-value", _fmt_p(fr.p_value))
+        c3.metric("LSD of rank sums", f"{fr.lsd:.2f}", help=fr.lsd_method)
+        st.dataframe(pd.DataFrame([{
+            "sample": s, "rank sum": fr.rank_sums[s], "mean rank": fr.mean_ranks[s],
+            "group": fr.groups.get(s, ""),
+        } for s in fr.rank_sums]).sort_values("rank sum"), hide_index=True, width="stretch")
+        st.caption(fr.method)
+
+# ------------------------------------------------------------------ batches and problems
+if result.measures.summaries:
+    with st.expander("Batch measures by sample", icon=":material/science:"):
+        st.dataframe(pd.DataFrame([s.to_dict() for s in result.measures.summaries]),
+                     hide_index=True, width="stretch")
+if result.problems:
+    with st.expander(f"{len(result.problems)} answer(s) left out", icon=":material/info:"):
+        for p in result.problems:
+            st.markdown(f"- {p}")

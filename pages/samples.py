@@ -1,0 +1,170 @@
+"""Samples, rated attributes and test batches (process settings, measures, sign-off)."""
+
+import datetime as dt
+
+import pandas as pd
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+from trials.methods import Family, get_method
+from trials.model import AttributeKind
+
+ui.require_leader()
+study_id = ui.pick_study()
+store = ui.store()
+study = service.get_study(store, study_id)
+spec = get_method(study.method)
+overview = service.study_overview(store, study_id)
+
+st.title(f"Samples and batches: {study.name}")
+ui.food_caution(study_id)
+
+# ------------------------------------------------------------------ samples
+st.subheader("Samples")
+if study.samples:
+    st.dataframe(
+        pd.DataFrame([{"sample": x.name, "control": x.is_control,
+                       "allergens": ", ".join(x.allergens), "description": x.description}
+                      for x in study.samples]),
+        hide_index=True, width="stretch",
+    )
+if overview.plan_size:
+    st.caption("The plan is drawn: samples are fixed.")
+else:
+    with st.form("add_sample", clear_on_submit=True):
+        c1, c2 = st.columns([2, 1])
+        s_name = c1.text_input("Sample name")
+        s_control = c2.checkbox("This is the control")
+        s_allergens = st.text_input("Allergens it holds (comma-separated)",
+                                    placeholder="gluten, egg, milk")
+        s_desc = st.text_input("Description")
+        if st.form_submit_button("Add the sample"):
+            try:
+                service.add_sample(store, study_id, s_name, is_control=s_control,
+                                   allergens=s_allergens, description=s_desc, by=ui.who())
+            except TrialsError as exc:
+                ui.show_problem(exc)
+            else:
+                ui.changed()
+                st.rerun()
+
+# ------------------------------------------------------------------ attributes
+if spec.family == Family.RATING:
+    st.subheader("Rated attributes")
+    if study.attributes:
+        st.dataframe(
+            pd.DataFrame([{"attribute": a.name, "kind": str(a.kind), "scale": f"{a.low}..{a.high}",
+                           "anchors": " / ".join(a.anchors)} for a in study.attributes]),
+            hide_index=True, width="stretch",
+        )
+    if overview.responses:
+        st.caption("Answers are on file: attributes are fixed.")
+    else:
+        with st.form("add_attribute", clear_on_submit=True):
+            c1, c2, c3, c4 = st.columns([2, 1, 1, 1])
+            a_name = c1.text_input("Attribute", placeholder="overall liking")
+            a_kind = c2.selectbox("Kind", [k.value for k in AttributeKind])
+            a_low = c3.number_input("Lowest point", 0, 10, 1)
+            a_high = c4.number_input("Highest point", 1, 15, 9)
+            a_anchors = st.text_input("Anchors (the two ends, or every point, separated by ;)",
+                                      placeholder="dislike extremely; like extremely")
+            if st.form_submit_button("Add the attribute"):
+                anchors = [x.strip() for x in a_anchors.split(";") if x.strip()]
+                try:
+                    service.add_attribute(store, study_id, a_name, kind=a_kind, low=int(a_low),
+                                          high=int(a_high), anchors=anchors, by=ui.who())
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+                else:
+                    ui.changed()
+                    st.rerun()
+
+# ------------------------------------------------------------------ batches
+st.subheader("Test batches")
+batches = service.list_batches(store, study_id)
+if batches:
+    rows = []
+    for b in batches:
+        rows.append({
+            "sample": b.sample_name, "batch": b.label, "prepared on": b.prepared_on,
+            "by": b.prepared_by,
+            "settings": "; ".join(f"{m.name} {m.value} {m.unit}".strip() for m in b.settings),
+            "measured": "; ".join(f"{m.name} {m.value} {m.unit}".strip() for m in b.measures),
+            "signed off": (f"{b.safety_signed_by} on {b.safety_signed_on}" if b.signed_off
+                           else "not yet"),
+        })
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    waiting = [b for b in batches if not b.signed_off]
+    if waiting:
+        with st.form("sign_off"):
+            st.markdown("**Food-safety sign-off** (before any cup is served)")
+            pick = st.selectbox("Batch", range(len(waiting)),
+                                format_func=lambda i: f"{waiting[i].sample_name} / {waiting[i].label}")
+            signer = st.text_input("Signed off by", value=ui.who() if ui.who() != "leader" else "")
+            st.caption("Sign off only what was prepared, cooled and held as your local food "
+                       "code requires.")
+            if st.form_submit_button("Sign off"):
+                b = waiting[pick]
+                try:
+                    service.sign_off_batch(store, study_id, b.sample_name, b.label, by=signer)
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+                else:
+                    ui.changed()
+                    st.rerun()
+else:
+    st.info("No batches recorded yet.")
+
+if study.samples:
+    with st.expander("Record a batch", icon=":material/add:"):
+        with st.form("add_batch", clear_on_submit=True):
+            c1, c2 = st.columns(2)
+            b_sample = c1.selectbox("Sample", [x.name for x in study.samples])
+            b_label = c2.text_input("Batch label", placeholder="B1")
+            c3, c4 = st.columns(2)
+            b_on = c3.date_input("Prepared on", value=dt.date.today())
+            b_by = c4.text_input("Prepared by")
+            st.markdown("Process settings and measured variables (name, value, unit):")
+            blank = pd.DataFrame({"kind": pd.Series(["setting", "measure"], dtype="string"),
+                                  "name": pd.Series(["", ""], dtype="string"),
+                                  "value": pd.Series(["", ""], dtype="string"),
+                                  "unit": pd.Series(["", ""], dtype="string")})
+            values = st.data_editor(
+                blank, num_rows="dynamic", hide_index=True, key="batch_values",
+                column_config={
+                    "kind": st.column_config.SelectboxColumn("kind", options=["setting", "measure"],
+                                                             required=True),
+                    "name": st.column_config.TextColumn("name", help="e.g. oven temperature"),
+                    "value": st.column_config.TextColumn("value"),
+                    "unit": st.column_config.TextColumn("unit", help="e.g. °C, min, g"),
+                },
+            )
+            b_notes = st.text_input("Notes")
+            if st.form_submit_button("Record the batch"):
+                filled = values[values["name"].fillna("").str.strip() != ""]
+                settings = [(r["name"], r["value"], r["unit"] or "")
+                            for r in filled.to_dict("records") if r["kind"] == "setting"]
+                measures = [(r["name"], r["value"], r["unit"] or "")
+                            for r in filled.to_dict("records") if r["kind"] == "measure"]
+                try:
+                    service.add_batch(store, study_id, b_sample, b_label, prepared_on=b_on,
+                                      prepared_by=b_by, settings=settings, measures=measures,
+                                      notes=b_notes, by=ui.who())
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+                else:
+                    ui.changed()
+                    st.rerun()
+    with st.expander("Import batch values from a file", icon=":material/upload_file:"):
+        st.caption("Columns: sample, batch, kind (setting or measure), name, value, unit; "
+                   "optional prepared_on, prepared_by. All rows or none.")
+        up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"], key="batch_file")
+        if up is not None and st.button("Import the batch values"):
+            try:
+                n = service.import_batches(store, study_id, ui.upload_path(up), by=ui.who())
+            except TrialsError as exc:
+                ui.show_problem(exc)
+            else:
+                ui.changed()
+                st.success(f"{n} values imported.")

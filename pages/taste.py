@@ -1,0 +1,147 @@
+"""The panelist's tasting screen, opened by ``/taste?t=<token>``.
+
+Sized for a tablet: one step at a time, large buttons. It shows blinding codes only, in
+this panelist's serving order; every answer is saved at once, and the current step is
+worked out from the answers on file, so a reload picks up where the panelist was.
+"""
+
+import streamlit as st
+
+from trials import service, ui
+
+ballot = ui.require_panelist()
+ui.tablet_look()
+token = ui.panelist_token()
+
+NO_PREFERENCE = "no preference"
+method = ballot.method
+given = {(a.session, a.code, a.attribute): a.value for a in ballot.answers}
+chosen = {}  # (session, set_index) -> chosen codes, forced choice
+for a in ballot.answers:
+    if a.attribute == "choice":
+        for s in ballot.sets:
+            if s.session == a.session and (set(a.code.split()) & set(s.codes)
+                                           or (not a.code and a.value == NO_PREFERENCE)):
+                chosen[(s.session, s.set_index)] = a.code or NO_PREFERENCE
+
+
+def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
+    try:
+        service.record_answer(ui.store(), token, code=code, attribute=attribute, value=value,
+                              session=session)
+    except Exception as exc:  # shown to the panelist plainly; nothing else is revealed
+        st.session_state["taste_problem"] = str(exc)
+    else:
+        st.session_state.pop("taste_problem", None)
+
+
+def _steps():
+    """Every step of the ballot in serving order, with whether it is answered."""
+    steps = []
+    if method in ("rating",):
+        for s in ballot.sets:
+            for pos, code in enumerate(s.codes):
+                done = all((s.session, code, a.name) in given for a in ballot.attributes)
+                steps.append(("rate", s, pos, code, done))
+    elif method == "ranking":
+        for s in ballot.sets:
+            done = all((s.session, code, "rank") in given for code in s.codes)
+            steps.append(("rank", s, None, None, done))
+    else:
+        for s in ballot.sets:
+            steps.append(("choose", s, None, None, (s.session, s.set_index) in chosen))
+    return steps
+
+
+steps = _steps()
+open_steps = [i for i, step in enumerate(steps) if not step[4]]
+
+st.markdown(f"## {ballot.title}")
+if st.session_state.get("taste_problem"):
+    st.error(st.session_state["taste_problem"])
+
+if not steps:
+    st.info("Your ballot has no cups yet. Please ask the panel leader.")
+    st.stop()
+
+if not open_steps:
+    st.success("## Thank you, you are done.\n\nAll your answers are saved. "
+               "Please hand the tablet back to the panel leader.", icon=":material/check_circle:")
+    st.stop()
+
+index = open_steps[0]
+kind, current, pos, code, _ = steps[index]
+st.progress(index / len(steps), text=f"Step {index + 1} of {len(steps)}")
+st.markdown(f'<p class="kt-step">Panelist {ballot.panelist_code}</p>', unsafe_allow_html=True)
+
+if kind == "choose":
+    st.markdown(ballot.instructions)
+    st.markdown(f"### {ballot.question}")
+    codes = current.codes
+    if method == "duo-trio":
+        st.markdown(f"Reference first: **{codes[0]}**. Then taste the two coded cups.")
+        options = codes[1:]
+    else:
+        st.markdown("Taste in this order, left to right: "
+                    + " → ".join(f"**{c}**" for c in codes))
+        options = codes
+    if method == "tetrad":
+        group = st.pills("The two cups that belong together", options, selection_mode="multi",
+                         key=f"tetrad_{current.session}_{current.set_index}")
+        picked = sorted(group or [], key=options.index)
+        if st.button("Save my choice", type="primary", width="stretch",
+                     disabled=len(picked) != 2):
+            _save(" ".join(picked), "choice", session=current.session)
+            st.rerun()
+    else:
+        cols = st.columns(len(options))
+        for col, c in zip(cols, options):
+            if col.button(c, key=f"pick_{current.session}_{current.set_index}_{c}",
+                          type="primary", width="stretch"):
+                _save(c, "choice", session=current.session)
+                st.rerun()
+        if method == "paired-preference":
+            if st.button("No preference", width="stretch",
+                         key=f"nopref_{current.session}_{current.set_index}"):
+                _save("", "choice", NO_PREFERENCE, session=current.session)
+                st.rerun()
+
+elif kind == "rate":
+    st.markdown(f'<p class="kt-code">{code}</p>', unsafe_allow_html=True)
+    st.markdown(f"Cup {pos + 1} of {len(current.codes)}. Taste the cup marked **{code}**, "
+                "then tap one box on each scale.")
+    for attr in ballot.attributes:
+        have = given.get((current.session, code, attr.name))
+        st.markdown(f"#### {attr.name}" + (f" · you gave **{have}**" if have else ""))
+        points = list(range(attr.low, attr.high + 1))
+        anchors = attr.anchors
+        if len(anchors) == 2:
+            left, right = st.columns(2)
+            left.caption(f"{attr.low} = {anchors[0]}")
+            right.caption(f"{attr.high} = {anchors[1]}")
+        cols = st.columns(len(points))
+        for col, p in zip(cols, points):
+            label = str(p)
+            if col.button(label, key=f"score_{current.session}_{code}_{attr.name}_{p}",
+                          type="primary" if have == label else "secondary", width="stretch",
+                          help=anchors[p - attr.low] if len(anchors) == len(points) else None):
+                _save(code, attr.name, label, session=current.session)
+                st.rerun()
+
+else:  # rank
+    st.markdown(ballot.instructions)
+    st.markdown(f"### {ballot.question}")
+    codes = current.codes
+    k = len(codes)
+    used = {given.get((current.session, c, "rank")): c for c in codes}
+    for c in codes:
+        have = given.get((current.session, c, "rank"))
+        st.markdown(f'<p class="kt-code">{c}</p>', unsafe_allow_html=True)
+        cols = st.columns(k)
+        for col, r in zip(cols, range(1, k + 1)):
+            taken = used.get(str(r)) not in (None, c)
+            if col.button(str(r), key=f"rank_{current.session}_{c}_{r}", width="stretch",
+                          type="primary" if have == str(r) else "secondary", disabled=taken):
+                _save(c, "rank", str(r), session=current.session)
+                st.rerun()
+    st.caption("Rank 1 = most. Each rank once.")

@@ -1,0 +1,103 @@
+"""Trial set-up: objective, method, risks and the planning answer."""
+
+import streamlit as st
+
+from trials import service, ui
+from trials.errors import TrialsError
+from trials.methods import METHODS, get_method
+from trials.model import Status
+
+ui.require_leader()
+study_id = ui.pick_study()
+study = service.get_study(ui.store(), study_id)
+spec = get_method(study.method)
+overview = service.study_overview(ui.store(), study_id)
+
+st.title(f"Trial set-up: {study.name}")
+st.caption(f"Trial #{study.id} · {spec.label} · status **{study.status}** · "
+           f"{overview.plan_size} cups planned · {overview.responses} answers")
+
+labels = {m.name: m.label for m in METHODS}
+names = list(labels)
+with st.form("setup"):
+    name = st.text_input("Name", value=study.name)
+    product = st.text_input("Product", value=study.product)
+    objective = st.text_area("Objective", value=study.objective,
+                             help="The question the trial answers, in the kitchen's words.")
+    method = st.selectbox(
+        "Method", names, index=names.index(study.method), format_func=labels.get,
+        disabled=overview.plan_size > 0,
+        help="Fixed once a serving plan is drawn." if overview.plan_size else spec.reference,
+    )
+    c1, c2, c3 = st.columns(3)
+    alpha = c1.number_input("alpha (risk of a false difference)", 0.001, 0.5,
+                            float(study.alpha), 0.01, format="%.3f")
+    beta = c2.number_input("beta (risk of missing the difference)", 0.001, 0.5,
+                           float(study.beta), 0.01, format="%.3f")
+    if get_method(method).is_forced_choice:
+        pd_value = c3.number_input(
+            "pd: proportion of discriminators that matters", 0.01, 0.99,
+            float(study.pd or 0.30), 0.05, format="%.2f",
+        )
+        delta = study.delta
+    else:
+        delta = c3.number_input(
+            "Smallest difference of means that matters (scale points)", 0.05, 10.0,
+            float(study.delta or 1.0), 0.25, format="%.2f",
+        )
+        pd_value = study.pd
+    saved = st.form_submit_button("Save the set-up", type="primary")
+
+if saved:
+    changes = dict(name=name, product=product, objective=objective, alpha=alpha, beta=beta,
+                   pd=pd_value, delta=delta)
+    if not overview.plan_size:
+        changes["method"] = method
+    try:
+        study = service.update_study(ui.store(), study_id, by=ui.who(), **changes)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        ui.changed()
+        st.toast("Set-up saved.", icon=":material/check:")
+        spec = get_method(study.method)
+
+st.subheader("How many assessors")
+if spec.is_forced_choice:
+    answer = service.planning_answer(ui.store(), study_id)
+    if answer is None:
+        st.info("Give pd (the proportion of discriminators that matters) to get the panel size.")
+    else:
+        st.metric("You need", f"{answer.n} assessors",
+                  help=f"Exact binomial; definition: {answer.definition}")
+        st.write(
+            f"With **{answer.n}** assessors a {spec.label.lower()} concludes a difference from "
+            f"**{answer.critical}** correct answers, with alpha = {study.alpha:g}, and detects "
+            f"pd = {study.pd:g} with power {answer.power:.2f} (beta = {study.beta:g})."
+        )
+        if answer.note:
+            st.caption(answer.note)
+        with st.expander("Power against the number of assessors", icon=":material/show_chart:"):
+            ui.power_chart(study.method, pd=study.pd, alpha=study.alpha, n_needed=answer.n,
+                           beta=study.beta)
+else:
+    st.write(
+        "For ratings and rankings the panel size follows from the smallest difference that "
+        "matters and the panel's spread; with no earlier trial on file, 24 to 40 assessors is "
+        "common practice for hedonic ratings."
+    )
+
+st.subheader("Status")
+statuses = [s.value for s in Status]
+cols = st.columns([2, 1])
+new_status = cols[0].segmented_control("Where the trial stands", statuses,
+                                       default=str(study.status), key="status_pick")
+if cols[1].button("Set status", disabled=new_status in (None, str(study.status))):
+    try:
+        service.set_status(ui.store(), study_id, new_status, by=ui.who())
+    except TrialsError as exc:
+        ui.show_problem(exc)
+    else:
+        ui.changed()
+        st.rerun()
+ui.food_caution()
