@@ -227,3 +227,14 @@ def test_the_result_dict_and_table():
     d = result.to_dict()
     assert {"blocks", "balanced", "lambda_min", "lambda_max", "efficiency"} <= set(d)
     assert len(result.to_frame()) == 21
+
+
+@pytest.mark.parametrize("t", [8, 13, 25])
+def test_pairs_served_twice_each_form_one_cycle_with_the_cycle_efficiency(t):
+    # k = 2, r = 2: the only connected plan is a single cycle of pairs; its efficiency
+    # follows from the cycle's eigenvalues 1 - cos(2 pi j / t), j = 1..t-1 (computed
+    # here in closed form, independently of the module).
+    result = _quiet(incomplete_blocks, t, 2, rng=2)
+    assert result.panelists == t and result.connected
+    mu = 1 - np.cos(2 * np.pi * np.arange(1, t) / t)
+    assert result.efficiency == pytest.approx((t - 1) / (2 * np.sum(1 / mu)), rel=1e-9)
