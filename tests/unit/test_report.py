@@ -157,3 +157,56 @@ def test_the_pdf_summary_holds_the_decision_and_the_caution():
     assert NASTY in " ".join(p.extract_text() for p in
                              PdfReader(io.BytesIO(report_pdf(weird, plan=plan,
                                                              responses=responses))).pages)
+
+
+def _serving_plan_trial(method, n=12):
+    from trials.design.plan import serving_plan
+
+    plan = serving_plan(method, ["Old crumb", "New crumb"], [f"P{i:02d}" for i in range(n)], rng=7)
+    answers = []
+    for p in dict.fromkeys(e.panelist_code for e in plan):
+        cups = [e for e in plan if e.panelist_code == p]
+        codes = [c.code for c in cups if c.sample_name == "New crumb"]
+        if method == "tetrad":
+            answers.append(Response("1", p, " ".join(codes[:2]), "choice", ""))
+        elif method == "duo-trio":
+            ref = next(c for c in cups if c.role == "R")
+            match = next(c for c in cups if c is not ref and c.sample_name == ref.sample_name)
+            answers.append(Response("1", p, match.code, "choice", ""))
+        elif method == "triangle":
+            names = [c.sample_name for c in cups]
+            odd = next(c for c in cups if names.count(c.sample_name) == 1)
+            answers.append(Response("1", p, odd.code, "choice", ""))
+        else:
+            answers.append(Response("1", p, codes[0], "choice", ""))
+    return study(method, pd=0.3), plan, answers
+
+
+@pytest.mark.parametrize("method", ["triangle", "duo-trio", "2afc", "3afc", "tetrad",
+                                    "paired-preference"])
+def test_every_forced_choice_method_reports_on_a_plan_from_the_design_module(method):
+    s, plan, answers = _serving_plan_trial(method)
+    a = analyse(s, plan, answers)
+    # every answer above is the correct one (or, for preference, the new crumb)
+    assert (a.choice.counts.correct, a.choice.counts.n, a.problems) == (12, 12, ())
+    doc = report_html(s, a, plan=plan, responses=answers)
+    text = " ".join(parse(doc).text)
+    assert decide(a).headline in text and "Plotly.newPlot" in doc
+
+
+def test_a_ranking_report_shows_the_rank_sums():
+    from trials.model import PlanEntry
+
+    s = Study(name="Ranks", method="ranking", samples=SAMPLES3)
+    plan, responses, code = [], [], 600
+    for p in range(6):
+        for pos, sample in enumerate(SAMPLES3, start=1):
+            plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
+            responses.append(Response("S1", f"P{p}", str(code), "rank", str(pos if p % 3 else 4 - pos)))
+            code += 1
+    a = analyse(s, plan, responses)
+    doc = report_html(s, a, plan=plan, responses=responses)
+    text = " ".join(parse(doc).text)
+    assert "Rank sums" in doc and "Friedman chi-square" in text
+    for sample, total in a.ranking.result.rank_sums.items():
+        assert f"{sample} {fmt(total, 1)}" in text

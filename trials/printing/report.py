@@ -52,7 +52,7 @@ th{background:#efede4;font-weight:600}td.num{text-align:right;font-variant-numer
 .decision.neutral{border-left-color:#8a6d1d}.decision.none{border-left-color:#8a8f94}
 .decision .head{font-size:1.08rem;font-weight:600;margin:0 0 .5rem}
 .limits{color:#3f4549}.caution{background:#fff6e0;border:1px solid #e8cf8a;padding:.7rem 1rem}
-.note{color:#5b6166;font-size:.9rem}.kv th{width:14rem}
+.note{color:#5b6166;font-size:.9rem}.kv th{width:19rem}
 .appendix{max-height:32rem;overflow:auto;border:1px solid #d6d3c4}
 .appendix table{margin:0;font-size:.82rem}
 .problems li{color:#7a2e1d}
@@ -103,19 +103,20 @@ def _proportion_chart(a: StudyAnalysis) -> Any:
     d = a.choice.difference
     spec = get_method(a.method)
     ci = sps.binomtest(d.correct, d.n, spec.guess).proportion_ci(d.level, method="exact")
+    label = "correct" if spec.sides == 1 else "chose the more-chosen sample"
     fig = go.Figure(go.Bar(
-        x=["proportion correct" if spec.sides == 1 else "share of the more-chosen sample"],
-        y=[d.pc], width=[0.4], marker_color="#2f6f4f", name="observed",
+        x=[f"{d.correct} of {d.n} {label}"], y=[d.pc], width=[0.35], marker_color="#2f6f4f",
+        name="observed",
         error_y=dict(type="data", symmetric=False, array=[ci.high - d.pc],
-                     arrayminus=[d.pc - ci.low]),
-        text=[f"{d.correct} of {d.n}"], textposition="inside",
+                     arrayminus=[d.pc - ci.low], thickness=2, width=10),
         hovertemplate="%{y:.3f}<extra></extra>"))
-    fig.add_hline(y=spec.guess, line_dash="dot", line_color="#8a8f94",
-                  annotation_text=f"chance {spec.guess:.2f}", annotation_position="right")
+    fig.add_hline(y=spec.guess, line_dash="dot", line_color="#5b6166",
+                  annotation_text=f"chance {spec.guess:.2f}", annotation_position="bottom left")
     if d.critical is not None:
         fig.add_hline(y=d.critical / d.n, line_dash="dash", line_color="#b04a2f",
-                      annotation_text=f"critical {d.critical} of {d.n}",
-                      annotation_position="left")
+                      annotation_text=f"critical {d.critical} of {d.n} "
+                                      f"({d.critical / d.n:.2f})",
+                      annotation_position="top left")
     fig.update_layout(title=f"Observed proportion with {d.level * 100:g} % Clopper-Pearson "
                             f"interval, chance and critical proportion (alpha {fmt_risk(d.alpha)})",
                       yaxis=dict(range=[0, 1], title="proportion"), showlegend=False,
