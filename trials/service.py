@@ -1211,7 +1211,7 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
     """
     with store.read() as s:
         study, panelist = _token_owner(s, token)
-        ctx = _Context.load(s, study)
+        ctx = _Context.load(s, study, panelist_id=panelist.id)
         spec = ctx.spec
         sets: list[BallotSet] = []
         for (sess, code), cups in sorted(ctx.plan.items(), key=lambda kv: (
@@ -1287,10 +1287,11 @@ class _Context:
     existing: dict[tuple[int, int, str], tuple[str, str, int]] = field(default_factory=dict)
 
     @classmethod
-    def load(cls, s: Session, study: StudyRow, *, with_existing: bool = False) -> _Context:
+    def load(cls, s: Session, study: StudyRow, *, with_existing: bool = False,
+             panelist_id: int | None = None) -> _Context:
         sessions = {x.name: x.id for x in study.sessions}
         order = {x.name: i for i, x in enumerate(study.sessions)}
-        rows = s.execute(
+        q = (
             sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.code,
                       PlanEntryRow.position, PlanEntryRow.set_index, SampleRow.name,
                       PlanEntryRow.role)
@@ -1299,7 +1300,10 @@ class _Context:
             .join(PanelistRow, PlanEntryRow.panelist_id == PanelistRow.id)
             .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
             .where(SessionRow.study_id == study.id)
-        ).all()
+        )
+        if panelist_id is not None:  # one panelist's answers need only their own cups
+            q = q.where(PlanEntryRow.panelist_id == panelist_id)
+        rows = s.execute(q).all()
         plan: dict[tuple[str, str], dict[str, _Cup]] = defaultdict(dict)
         panelists: dict[str, int] = {}
         for sess, pcode, pid, code, pos, k, sample, role in rows:
@@ -1470,7 +1474,7 @@ def record_answer(
 
     def work(s: Session) -> Response:
         study, panelist = _token_owner(s, token)
-        ctx = _Context.load(s, study)
+        ctx = _Context.load(s, study, panelist_id=panelist.id)
         sess = session
         if sess is None:
             mine = [k[0] for k in ctx.plan if k[1] == panelist.code]
@@ -1927,11 +1931,13 @@ def planning_answer(store: Store, study_id: int):
 def power_curve(method: str, *, pd: float, alpha: float, ns: Sequence[int]) -> pd.DataFrame:
     """Exact power of the difference test against the number of assessors
     (:func:`trials.stats.discrimination.power`); columns ``n power critical``."""
+    from pandas import DataFrame  # the name ``pd`` is the proportion here
+
     from trials.stats.discrimination import power
 
     rows = [power(int(n), method=method, pd=pd, alpha=alpha) for n in ns]
-    return pd.DataFrame({"n": [r.n for r in rows], "power": [r.power for r in rows],
-                         "critical": [r.critical for r in rows]})
+    return DataFrame({"n": [r.n for r in rows], "power": [r.power for r in rows],
+                      "critical": [r.critical for r in rows]})
 
 
 def plan_balance(store: Store, study_id: int) -> dict[str, pd.DataFrame]:
@@ -2179,3 +2185,16 @@ def export_bytes(store: Store, study_id: int, *, fmt: str = "csv") -> bytes:
         path = Path(folder) / f"answers.{fmt}"
         export_responses(store, study_id, path, fmt=fmt)
         return path.read_bytes()
+
+
+if "report_html" not in globals():
+
+    def report_html(store: Store, study_id: int) -> str:
+        """The trial's report as one self-contained HTML document
+        (:func:`trials.printing.report.report_html`)."""
+        from trials.printing.report import report_html as build
+
+        study = get_study(store, study_id)
+        return build(study, analyse_study(store, study_id), plan=plan(store, study_id),
+                     responses=responses(store, study_id),
+                     batches=list_batches(store, study_id))
