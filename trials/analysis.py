@@ -488,6 +488,12 @@ def _ratings(study: Study, plan, responses, measures: MeasuresSummary
         frame, probs = _score_frame(study, plan, responses, a.name)
         problems += probs
         frames[a.name] = frame
+    declared = {a.name for a in study.attributes}
+    undeclared = sorted({r.attribute for r in responses
+                         if r.attribute not in declared and r.attribute not in (CHOICE, RANK)})
+    if undeclared:
+        problems.append(f"answers for attribute(s) {undeclared!r} that the trial does not "
+                        "declare; left out")
     hedonic = next((a for a in study.attributes if a.kind == AttributeKind.HEDONIC), None)
     out: list[AttributeAnalysis] = []
     for a in study.attributes:

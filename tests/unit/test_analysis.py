@@ -415,3 +415,11 @@ def test_jar_attributes_get_a_penalty_analysis_against_the_hedonic_attribute():
     assert got.rows == ref.rows
     assert result.attribute("liking").penalty is None
     assert result.attribute("liking").anova is not None
+
+
+def test_scores_for_an_attribute_the_trial_does_not_declare_are_named():
+    s, plan, responses, _ = rating_trial(n_panelists=3)
+    extra = Response("S1", "P01", responses[0].code, "aroma", "5")
+    result = analyse(s, plan, list(responses) + [extra])
+    assert any("'aroma'" in p for p in result.problems)
+    assert result.answers == 18
