@@ -83,6 +83,39 @@ PUBLISHED = [
 ]
 
 
+# Triangle table read from a public copy of a handbook: FAO, "Appendix A. Triangle Test
+# for Difference: Critical Number (Minimum) of Correct Answers", fao.org/docrep/v7180e
+# (columns: significance 10 %, 5 %, 1 %, 0.1 %; "-" = no count reaches it).
+FAO_TRIANGLE_ALPHAS = (0.10, 0.05, 0.01, 0.001)
+FAO_TRIANGLE = {
+    3: (3, 3, None, None), 5: (4, 4, 5, None), 7: (5, 5, 6, 7), 8: (5, 6, 7, 8),
+    12: (7, 8, 9, 10), 18: (10, 10, 12, 13), 24: (12, 13, 15, 16), 30: (14, 15, 17, 19),
+    33: (15, 17, 18, 21), 36: (17, 18, 20, 22), 42: (19, 20, 22, 25), 48: (21, 22, 25, 27),
+    54: (23, 25, 27, 30), 60: (26, 27, 30, 33), 66: (28, 29, 32, 35), 72: (30, 32, 34, 38),
+    78: (32, 34, 37, 40), 84: (35, 36, 39, 43), 90: (37, 38, 42, 45), 96: (39, 41, 44, 48),
+}
+# Duo-trio table read from a public copy of GOST ISO 10399-2015, annex A, table A.1 (the
+# identical national adoption of ISO 10399; its note says the values are exact binomial).
+# Columns alpha 0.20, 0.10, 0.05, 0.01, 0.001. Row n = 22 is left out: in the copy read,
+# its text repeats row 21 and is not legible.
+ISO10399_ALPHAS = (0.20, 0.10, 0.05, 0.01, 0.001)
+ISO10399_DUOTRIO = {
+    6: (5, 6, 6, None, None), 7: (6, 6, 7, 7, None), 10: (7, 8, 9, 10, 10),
+    11: (8, 9, 9, 10, 11), 12: (8, 9, 10, 11, 12), 13: (9, 10, 10, 12, 13),
+    16: (11, 12, 12, 14, 15), 21: (13, 14, 15, 17, 18), 25: (16, 17, 18, 19, 21),
+    26: (16, 17, 18, 20, 22), 30: (18, 20, 20, 22, 24), 32: (19, 21, 22, 24, 26),
+    36: (22, 23, 24, 26, 28), 40: (24, 25, 26, 28, 31), 48: (28, 29, 31, 33, 36),
+    60: (34, 36, 37, 40, 43), 72: (41, 42, 44, 47, 50), 88: (49, 51, 53, 56, 59),
+}
+PUBLISHED += [
+    pytest.param("triangle", n, a, row[j], id=f"FAO-V7180E-AppendixA-triangle-n{n}-a{a}")
+    for n, row in FAO_TRIANGLE.items() for j, a in enumerate(FAO_TRIANGLE_ALPHAS)
+] + [
+    pytest.param("duo-trio", n, a, row[j], id=f"GOST-ISO10399-2015-A1-duotrio-n{n}-a{a}")
+    for n, row in ISO10399_DUOTRIO.items() for j, a in enumerate(ISO10399_ALPHAS)
+]
+
+
 @pytest.mark.parametrize(("method", "n", "alpha", "expected"), PUBLISHED)
 def test_critical_value_matches_the_published_table_row(method, n, alpha, expected):
     assert brute_critical(n, method, alpha) == expected  # the row itself is exact binomial
