@@ -20,11 +20,26 @@ def app_db(tmp_path, monkeypatch) -> str:
     return url
 
 
-@pytest.fixture
-def demo_db(app_db) -> str:
+@pytest.fixture(scope="session")
+def _demo_template(tmp_path_factory) -> Path:
+    """The demo store, seeded once per test run (seeding takes seconds here)."""
     from trials import service
 
-    service.seed_demo(service.open_store(app_db))
+    path = tmp_path_factory.mktemp("demo") / "demo.db"
+    store = service.open_store(f"sqlite:///{path}")
+    service.seed_demo(store)
+    with store.engine.begin() as conn:
+        conn.exec_driver_sql("PRAGMA wal_checkpoint(TRUNCATE)")
+    store.close()
+    return path
+
+
+@pytest.fixture
+def demo_db(app_db, _demo_template) -> str:
+    """A private copy of the seeded demo store for one test."""
+    import shutil
+
+    shutil.copyfile(_demo_template, app_db.removeprefix("sqlite:///"))
     return app_db
 
 
@@ -39,3 +54,48 @@ def entry_test():
     from streamlit.testing.v1 import AppTest
 
     return AppTest.from_file(str(ENTRY), default_timeout=TIMEOUT)
+
+
+def by_label(widgets, label: str):
+    """The one widget of ``widgets`` whose label is ``label``."""
+    found = [w for w in widgets if w.label == label]
+    assert len(found) == 1, f"expected one widget labelled {label!r}, found {[w.label for w in widgets]}"
+    return found[0]
+
+
+def page_text(at) -> str:
+    """Every piece of text a page shows (markdown, titles, captions, alerts, metrics, tables)."""
+    parts = []
+    for kind in ("title", "header", "subheader", "markdown", "caption", "text", "error",
+                 "warning", "info", "success"):
+        parts += [str(getattr(x, "value", "")) for x in getattr(at, kind)]
+    parts += [f"{m.label} {m.value}" for m in at.metric]
+    parts += [b.label for b in at.button]
+    for df in at.dataframe:
+        parts.append(df.value.to_string())
+    return "\n".join(parts)
+
+
+@pytest.fixture
+def small_trials(app_db):
+    """Two small invented trials made through the service: a triangle (six panelists,
+    plan drawn, no answers) and a rating of two samples on one scale (three panelists,
+    plan drawn, no answers)."""
+    import datetime as dt
+
+    from trials import service
+    from trials.model import Attribute, Sample
+
+    store = service.open_store(app_db)
+    for i in range(1, 7):
+        service.add_panelist(store, f"T{i:02d}", consent_on=dt.date(2026, 1, 5))
+    tri = service.create_study(store, name="Pancake: buttermilk vs yoghurt", method="triangle",
+                               pd=0.3, samples=[Sample("Buttermilk batter", is_control=True),
+                                                Sample("Yoghurt batter")])
+    service.draw_plan(store, tri.id, panelist_codes=[f"T{i:02d}" for i in range(1, 7)], seed=3)
+    rat = service.create_study(store, name="Flatbread: two flours", method="rating",
+                               samples=[Sample("Spelt flatbread", is_control=True),
+                                        Sample("Einkorn flatbread")],
+                               attributes=[Attribute("overall liking", low=1, high=9)])
+    service.draw_plan(store, rat.id, panelist_codes=["T01", "T02", "T03"], seed=5)
+    return {"store": store, "triangle": tri.id, "rating": rat.id}

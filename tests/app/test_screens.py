@@ -1,0 +1,213 @@
+"""Every screen under AppTest: it renders on the demo data, its main flow changes the
+store as expected, and it keeps its own gate when run alone (as a deep link would)."""
+
+from __future__ import annotations
+
+import pytest
+
+from tests.app.conftest import by_label, entry_test, page_test, page_text
+from trials import service, ui
+
+LEADER = [name for name, _, _ in ui.LEADER_PAGES]
+
+
+def _run(name: str, *, study: int | None = None, **params):
+    at = page_test(name)
+    if study is not None:
+        at.query_params["study"] = str(study)
+    for k, v in params.items():
+        at.query_params[k] = v
+    return at.run()
+
+
+def _ids(db: str) -> dict[str, int]:
+    store = service.open_store(db)
+    return {s.method: s.id for s in service.list_studies(store)}
+
+
+# ------------------------------------------------------------------ rendering
+
+
+@pytest.mark.parametrize("name", LEADER)
+def test_every_leader_screen_renders_on_the_demo_data(demo_db, name):
+    at = _run(name, study=_ids(demo_db)["rating"])
+    assert not at.exception, [e.message for e in at.exception]
+    assert at.title, "a screen has a title"
+    assert "Single-user mode" in page_text(at)
+
+
+@pytest.mark.parametrize("method", ["triangle", "rating", "paired-preference"])
+def test_the_results_screen_renders_each_demo_trial_with_its_decision(demo_db, method):
+    study_id = _ids(demo_db)[method]
+    at = _run("results", study=study_id)
+    assert not at.exception, [e.message for e in at.exception]
+    expected = service.study_decision(service.open_store(demo_db), study_id)
+    assert expected.headline in page_text(at)
+
+
+def test_the_results_screen_shows_the_exact_test_of_the_demo_triangle(demo_db):
+    store = service.open_store(demo_db)
+    study_id = _ids(demo_db)["triangle"]
+    diff = service.analyse_study(store, study_id).choice.difference
+    at = _run("results", study=study_id)
+    metrics = {m.label: m.value for m in at.metric}
+    assert metrics["Correct"] == f"{diff.correct} of {diff.n}"
+    # ISO 4120:2021 table of critical values (from memory: n = 27, alpha 0.05 -> 14);
+    # the screen shows the exact binomial count the stats layer computes.
+    assert diff.n != 27 or diff.critical == 14
+    assert metrics["Critical value"] == str(diff.critical)
+    assert metrics["p-value"] == ("< 0.001" if diff.p_value < 0.001 else f"{diff.p_value:.3f}")
+    assert f"{diff.dprime:.2f}" == metrics["d'"]
+
+
+def test_the_entry_script_offers_the_leader_screens(demo_db):
+    at = entry_test().run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert at.title[0].value == "Trials"
+
+
+# ------------------------------------------------------------------ flows
+
+
+def test_a_new_trial_is_created_from_the_home_screen(app_db):
+    at = _run("home")
+    by_label(at.text_input, "Name").input("Croissant: two butters")
+    by_label(at.selectbox, "Method").select("duo-trio")
+    by_label(at.text_input, "First sample (the control)").input("Cultured butter")
+    by_label(at.text_input, "Second sample").input("Sweet cream butter")
+    by_label(at.button, "Create the trial").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    studies = service.list_studies(service.open_store(app_db))
+    assert [(s.name, s.method) for s in studies] == [("Croissant: two butters", "duo-trio")]
+    study = service.get_study(service.open_store(app_db), studies[0].id)
+    assert [(x.name, x.is_control) for x in study.samples] == [
+        ("Cultured butter", True), ("Sweet cream butter", False)]
+
+
+def test_the_set_up_screen_answers_how_many_assessors(small_trials):
+    at = _run("trial", study=small_trials["triangle"])
+    assert not at.exception, [e.message for e in at.exception]
+    answer = service.planning_answer(small_trials["store"], small_trials["triangle"])
+    assert by_label(at.metric, "You need").value == f"{answer.n} assessors"
+
+
+def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
+    store = small_trials["store"]
+    study = service.create_study(store, name="Rice: rinsed or not", method="2afc",
+                                 samples=["Unrinsed rice", "Rinsed rice"])
+    at = _run("plan", study=study.id)
+    assert "No plan drawn yet." in page_text(at)
+    by_label(at.number_input, "Seed (the same seed draws the same plan)").set_value(11)
+    by_label(at.button, "Draw the plan").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    entries = service.plan(store, study.id)
+    assert len(entries) == 6 * 2  # six consented panelists, two cups each
+    assert {e.panelist_code for e in entries} == {f"T{i:02d}" for i in range(1, 7)}
+    assert "Tasting links" in page_text(at)
+
+
+def test_a_paper_ballot_entered_in_the_grid_is_stored_as_paper_answers(small_trials):
+    store, study_id = small_trials["store"], small_trials["rating"]
+    at = _run("entry", study=study_id)
+    grid = at.data_editor[0].value
+    first = grid[grid["panelist"] == "T01"].index.tolist()
+    at.session_state[f"paper_{study_id}_1__0"] = {
+        "edited_rows": {str(first[0]): {"overall liking": 7}, str(first[1]): {"overall liking": 4}},
+        "added_rows": [], "deleted_rows": [],
+    }
+    at.run()
+    assert not at.error, [e.value for e in at.error]
+    by_label(at.button, "Save the answers").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    got = sorted((r.panelist_code, r.code, r.value, r.mode.value)
+                 for r in service.responses(store, study_id))
+    cups = [e.code for e in service.plan(store, study_id) if e.panelist_code == "T01"]
+    assert got == sorted([("T01", cups[0], "7", "paper"), ("T01", cups[1], "4", "paper")])
+
+
+def test_the_paper_grid_refuses_a_score_off_the_scale_and_saves_nothing(small_trials):
+    store, study_id = small_trials["store"], small_trials["rating"]
+    at = _run("entry", study=study_id)
+    at.session_state[f"paper_{study_id}_1__0"] = {
+        "edited_rows": {"0": {"overall liking": 12}}, "added_rows": [], "deleted_rows": [],
+    }
+    at.run()
+    assert any("expected a whole number from 1 to 9" in e.value for e in at.error)
+    assert by_label(at.button, "Save the answers").disabled
+    assert service.responses(store, study_id) == []
+
+
+def test_the_paper_grid_refuses_a_code_not_served_to_that_panelist(small_trials):
+    store, study_id = small_trials["store"], small_trials["triangle"]
+    served = {e.code for e in service.plan(store, study_id)}
+    foreign = next(f"{n:03d}" for n in range(100, 1000) if f"{n:03d}" not in served)
+    at = _run("entry", study=study_id)
+    at.session_state[f"paper_{study_id}_1__0"] = {
+        "edited_rows": {"0": {"chosen": foreign}}, "added_rows": [], "deleted_rows": [],
+    }
+    at.run()
+    assert any("is not a code served to panelist" in e.value for e in at.error)
+    assert service.responses(store, study_id) == []
+
+
+def test_recording_a_decision_stores_it_with_its_rationale(demo_db):
+    store = service.open_store(demo_db)
+    study_id = _ids(demo_db)["paired-preference"]
+    at = _run("decision", study=study_id)
+    by_label(at.text_input, "Decision").input("Serve the roasted-tomato soup.")
+    by_label(at.text_area, "Rationale").input("More guests chose it; cost is the same.")
+    by_label(at.button, "Record the decision").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    study = service.get_study(store, study_id)
+    assert (study.decision, study.rationale, study.status.value) == (
+        "Serve the roasted-tomato soup.", "More guests chose it; cost is the same.", "decided")
+
+
+def test_the_printing_screen_prepares_a_download_of_the_labels(demo_db):
+    at = _run("printing", study=_ids(demo_db)["triangle"])
+    by_label(at.button, "Prepare the cup labels").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert [b.label for b in at.download_button] == ["Download the cup labels (PDF)"]
+
+
+# ------------------------------------------------------------------ access
+
+
+@pytest.mark.parametrize("name", LEADER)
+def test_a_leader_screen_run_alone_with_a_passcode_shows_the_gate_and_nothing_else(
+        demo_db, monkeypatch, name):
+    monkeypatch.setenv("TRIALS_PASSCODE", "rye-and-caraway")
+    at = _run(name, study=_ids(demo_db)["rating"])
+    assert not at.exception, [e.message for e in at.exception]
+    assert [t.value for t in at.title] == ["Kitchen Trials"]
+    assert [w.label for w in at.text_input] == ["Leader passcode"]
+    assert not at.dataframe and not at.metric and not at.markdown
+    assert len(at.button) == 1  # the gate's own button
+
+
+def test_the_right_passcode_opens_a_leader_screen_and_a_wrong_one_does_not(
+        demo_db, monkeypatch):
+    monkeypatch.setenv("TRIALS_PASSCODE", "rye-and-caraway")
+    at = _run("home")
+    by_label(at.text_input, "Leader passcode").input("rye")
+    at.button[0].click()
+    at.run()
+    assert [e.value for e in at.error] == ["That passcode does not open the leader screens."]
+    by_label(at.text_input, "Leader passcode").input("rye-and-caraway")
+    at.button[0].click()
+    at.run()
+    assert [t.value for t in at.title] == ["Trials"]
+    assert at.dataframe
+
+
+def test_a_panelist_link_does_not_open_a_leader_screen(demo_db):
+    store = service.open_store(demo_db)
+    token = next(iter(service.study_overview(store, 1).links.values())).split("t=")[1]
+    at = _run("results", study=1, t=token)
+    assert [e.value for e in at.error] == ["This link opens a tasting ballot only."]
+    assert not at.metric and not at.dataframe
