@@ -138,11 +138,28 @@ _MODEL_NOTES = {
 
 
 def model_name(method: str) -> str:
-    """The psychometric model used for ``method`` (paired preference uses 2-AFC).
+    """The psychometric model used for ``method``.
 
+    Parameters
+    ----------
+    method : str
+        A method of the registry.
+
+    Returns
+    -------
+    str
+        The registry name whose model applies (paired preference: ``"2afc"``).
+
+    Notes
+    -----
     Raises :class:`~trials.errors.TrialsError` for a method without a forced-choice
     model (ratings, rankings) and :class:`~trials.errors.UnknownMethodError` for a name
-    the registry does not hold.
+    the registry does not hold. Preference as 2-AFC: Thurstonian model of paired
+    preference (see the module docstring).
+
+    References
+    ----------
+    Ennis, D. M. (1993). J. Sensory Stud. 8:353-370.
     """
     spec = get_method(method)
     if spec.family is Family.PREFERENCE:
@@ -197,7 +214,32 @@ def pc_from_dprime(d, *, method: str):
 
 
 def pc_slope(d, *, method: str):
-    """Derivative ``dpc/dd'`` of the psychometric function (for the delta method)."""
+    """Derivative ``dpc/dd'`` of the psychometric function (for the delta method).
+
+    Parameters
+    ----------
+    d : float or array-like
+        d' values (the sign is ignored).
+    method : str
+        A forced-choice method of the registry.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        The slope at each d'.
+
+    Notes
+    -----
+    Analytic derivatives of the formulas of the module docstring, differentiated under
+    the integral sign (2-AFC: ``phi(d'/sqrt 2)/sqrt 2``; 3-AFC: ``integral 2 phi(t)
+    Phi(t + d') phi(t + d') dt``; tetrad: ``4 integral phi(z) phi(z - d') [Phi(z) -
+    Phi(z - d')] dz``; triangle and duo-trio likewise). Tested against central
+    differences. The slope is 0 at d' = 0 for the triangle, duo-trio and tetrad.
+
+    References
+    ----------
+    Bi, J., Ennis, D. M. and O'Mahony, M. (1997). J. Sensory Stud. 12:87-104.
+    """
     fn = _MODELS[model_name(method)]
     arr, scalar = _as_array(d, "d'")
     shape = np.shape(d)
