@@ -4,6 +4,7 @@ and independent computations (scipy.stats.binomtest, statsmodels, brute force)."
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pytest
@@ -154,6 +155,13 @@ def test_critical_table_rows_agree_with_critical_value_and_frame():
     assert frame.loc[24, "0.05"] == 13
     assert frame.shape == (36, 5)
     assert table.to_dict()["critical"][0][4] is None  # n = 5 cannot reach 0.001
+
+
+@pytest.mark.parametrize(("ns", "quoted"), [([0, 5], "[0]"), ([2.5], "[2.5]"), (["a"], "'a'"),
+                                            ([], "[]")])
+def test_critical_table_refuses_bad_panel_sizes(ns, quoted):
+    with pytest.raises(TrialsError, match=re.escape(quoted)):
+        critical_table(ns, method="triangle")
 
 
 def test_critical_table_defaults_are_the_app_table():

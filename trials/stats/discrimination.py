@@ -256,7 +256,13 @@ def critical_array(ns: Sequence[int], alphas: Sequence[float], *, method: str) -
     """The vectorised core of :func:`critical_table`: an int array (len(ns), len(alphas))
     with ``n + 1`` where no count reaches alpha."""
     spec = _forced_choice(method)
-    ns_arr = np.asarray([_count(n, "n", low=1) for n in ns], dtype=np.int64)
+    raw = np.asarray(ns)
+    if raw.ndim != 1 or raw.size == 0 or raw.dtype.kind not in "iuf" or not np.all(
+            np.mod(raw, 1) == 0) or raw.min() < 1:
+        bad = [n for n in np.atleast_1d(raw).tolist()
+               if isinstance(n, bool) or not isinstance(n, (int, float)) or n < 1 or n % 1]
+        raise TrialsError(f"ns must be whole numbers >= 1, got {bad[:5] or ns!r}")
+    ns_arr = raw.astype(np.int64)
     al = np.asarray([_prob(a, "alpha") for a in alphas], dtype=float)
     return _critical_array(ns_arr[:, None], al[None, :], spec.guess, spec.sides)
 
@@ -291,9 +297,10 @@ def critical_table(ns: Iterable[int] = range(5, 201),
     ----------
     ISO 4120:2021, annex A; Roessler, E. B. et al. (1978). J. Food Sci. 43:940-943.
     """
+    ns, alphas = list(ns), tuple(alphas)
+    arr = critical_array(ns, alphas, method=method)
     ns = tuple(int(n) for n in ns)
     alphas = tuple(float(a) for a in alphas)
-    arr = critical_array(ns, alphas, method=method)
     limit = np.asarray(ns)[:, None]
     rows = np.where(arr > limit, -1, arr).tolist()
     table = tuple(tuple(None if v < 0 else v for v in row) for row in rows)
