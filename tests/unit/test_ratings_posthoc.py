@@ -132,3 +132,33 @@ def test_letters_are_shared_exactly_by_the_pairs_not_declared_different(case):
     letters = compact_letter_display(names, different)
     _check_display(names, different, letters)
     assert all(letters[n] for n in names)
+
+
+# ---------------------------------------------------------------- the quadrature
+
+
+@pytest.mark.parametrize("k", [2, 3, 5, 10, 20])
+@pytest.mark.parametrize("df", [1, 2, 5, 15, 60, 1000, 99_999, 1e6])
+def test_studentized_range_quadrature_agrees_with_scipy(k, df):
+    from trials.stats.posthoc import studentized_range_cdf
+
+    q = np.linspace(0.2, 8.0, 25)
+    # observed: 4e-10 or less below df = 1e5; above it scipy uses its infinite-df form, whose
+    # error shrinks as 1/df (observed 2.3e-6 at k = 20, df = 1e6), so allow 5 / df there
+    tol = 1e-9 if df < 1e5 else 5.0 / df
+    assert np.abs(studentized_range_cdf(q, k, df) - stats.studentized_range.cdf(q, k, df)).max() < tol
+
+
+@pytest.mark.parametrize("df", [1, 3, 10, 100, 1e5, 1e7, 1e9, np.inf])
+def test_studentized_range_of_two_means_is_root_two_times_abs_t(df):
+    # exact independent check: the range of two means is sqrt(2) |t|
+    from trials.stats.posthoc import studentized_range_cdf
+
+    q = np.linspace(0.1, 9.0, 30)
+    exact = 1 - 2 * stats.t.sf(q / np.sqrt(2), df)
+    assert np.abs(studentized_range_cdf(q, 2, df) - exact).max() < 1e-8
+
+
+@pytest.mark.parametrize(("k", "df"), [(3, 10), (4, 21), (10, 1791), (6, 4), (2, 30)])
+def test_tukey_q_agrees_with_scipy_ppf(k, df):
+    assert tukey_q(0.05, k, df) == pytest.approx(stats.studentized_range.ppf(0.95, k, df), abs=1e-6)

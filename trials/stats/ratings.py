@@ -499,10 +499,10 @@ def rating_anova(
         rows.append(AnovaRow("error", float(df_e), ss_e, ms_e, None, None))
 
     mean_map = {s_names[i]: float(means[i]) for i in range(t)}
-    pairs = pairwise_comparisons(mean_map, v, ms=ms_test, df=df_test, alpha=alpha)
+    q_crit = tukey_q(alpha, t, df_test)
+    pairs = pairwise_comparisons(mean_map, v, ms=ms_test, df=df_test, alpha=alpha, q_critical=q_crit)
     order = sorted(s_names, key=lambda s: -mean_map[s])
     groups = compact_letter_display(order, [(p.first, p.second) for p in pairs if p.different])
-    q_crit = tukey_q(alpha, t, df_test)
     t_crit = float(stats.t.ppf(1 - alpha / 2, df_test))
     vd = np.array([v[i, i] + v[k, k] - 2 * v[i, k] for i in range(t) for k in range(t) if k != i])
     avg_vd = float(vd.mean())
@@ -521,7 +521,7 @@ def rating_anova(
 
     method = (
         f"{design}; {ss_type}; sample effect tested against {error_term} "
-        f"(MS = {ms_test:.6g}, df = {df_test:g}); Tukey HSD (scipy.stats.studentized_range) "
+        f"(MS = {ms_test:.6g}, df = {df_test:g}); Tukey HSD (studentized range by quadrature, checked against scipy) "
         f"and Fisher LSD at alpha = {alpha:g} from that term; letters by Piepho (2004)"
     )
     if not balanced and not with_reps:
