@@ -8,6 +8,8 @@ import re
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import stats
 from statsmodels.stats.proportion import proportion_confint
 
@@ -400,3 +402,29 @@ def test_bad_input_raises_a_trials_error_quoting_the_value(call, quoted):
 def test_unknown_method_is_a_trials_error():
     with pytest.raises(UnknownMethodError, match="pentad"):
         difference_test(3, 10, method="pentad")
+
+
+# ------------------------------------------------------------- properties (hypothesis)
+
+@settings(max_examples=60, deadline=None)
+@given(method=st.sampled_from(FORCED_CHOICE), n=st.integers(1, 3000),
+       alpha=st.floats(1e-4, 0.5), share=st.floats(0.0, 1.0))
+def test_a_count_is_significant_exactly_when_it_reaches_the_critical_value(method, n, alpha, share):
+    spec = get_method(method)
+    correct = round(share * n)
+    if spec.sides == 2:
+        correct = max(correct, n - correct)
+    res = difference_test(correct, n, method=method, alpha=alpha)
+    crit = critical_value(n, method=method, alpha=alpha).critical
+    assert res.critical == crit
+    assert res.significant == (crit is not None and correct >= crit)
+
+
+@settings(max_examples=50, deadline=None)
+@given(method=st.sampled_from(FORCED_CHOICE), n=st.integers(1, 500),
+       a1=st.floats(1e-4, 0.5), a2=st.floats(1e-4, 0.5))
+def test_a_smaller_alpha_never_needs_fewer_correct_answers(method, n, a1, a2):
+    lo, hi = sorted((a1, a2))
+    c_lo = critical_value(n, method=method, alpha=lo).critical
+    c_hi = critical_value(n, method=method, alpha=hi).critical
+    assert c_lo is None or (c_hi is not None and c_hi <= c_lo)
