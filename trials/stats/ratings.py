@@ -74,8 +74,11 @@ def numeric_column(
         values = col.to_numpy(dtype=float, na_value=np.nan)
         bad = np.flatnonzero(~np.isfinite(values))
     else:
-        text = col.astype("string").str.strip()
-        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+        try:  # fast path: pyarrow's cast of clean text (it accepts surrounding spaces)
+            values = col.astype("float64").to_numpy(dtype=float, na_value=np.nan)
+        except (ValueError, TypeError):  # find the bad cells one by one
+            text = col.astype("string").str.strip()
+            values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
         bad = np.flatnonzero(~np.isfinite(values))
     if len(bad):
         shown = [str(col.iloc[i]) for i in bad[:5]]
@@ -105,13 +108,16 @@ def label_codes(data: pd.DataFrame, column: str) -> tuple[np.ndarray, list[str]]
         bad = np.flatnonzero(col.isna().to_numpy())
         raise TrialsError(f"column {column!r}: empty at line(s) {_lines(bad)}; {LINE_RULE}")
     codes, uniques = pd.factorize(col, sort=False)
-    names = [str(u).strip() for u in uniques]
-    if any(n == "" for n in names):
-        empty = np.flatnonzero(np.asarray([names[c] == "" for c in codes]))
-        raise TrialsError(f"column {column!r}: empty at line(s) {_lines(empty)}; {LINE_RULE}")
-    if len(set(names)) != len(names):  # e.g. "A" and "A " or 1 and "1"
+    text = pd.Index(uniques).astype("string").str.strip()
+    empty = np.asarray(text == "", dtype=bool)
+    if empty.any():
+        raise TrialsError(
+            f"column {column!r}: empty at line(s) {_lines(np.flatnonzero(empty[codes]))}; {LINE_RULE}"
+        )
+    if text.has_duplicates:  # e.g. "A" and "A ", or 1 and "1"
         codes, uniques = pd.factorize(col.astype("string").str.strip(), sort=False)
-        names = [str(u) for u in uniques]
+        text = pd.Index(uniques).astype("string")
+    names = [str(u) for u in text.to_numpy(dtype=object).tolist()]
     return codes.astype(np.int64), names
 
 
