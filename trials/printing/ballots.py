@@ -63,6 +63,8 @@ from trials.printing.layout import (
     Ticker,
     draw_lines,
     draw_qr,
+    finish,
+    literal_rects,
     fit_size,
     group_plan,
     join_url,
@@ -92,7 +94,8 @@ OVERALL_LIKING = Attribute("Overall liking", AttributeKind.HEDONIC, 1, 9, HEDONI
 
 GREY = Color(0.45, 0.45, 0.45)
 LIGHT = Color(0.93, 0.93, 0.93)
-SHADE = Color(0.965, 0.965, 0.965)
+SHADE_GRAY = 0.965
+SHADE = Color(SHADE_GRAY, SHADE_GRAY, SHADE_GRAY)
 MARGIN = 36.0
 MAX_POINTS = 21
 
@@ -159,8 +162,9 @@ class _Ballot:
     """Draws one ballot, page by page, keeping a cursor ``y``."""
 
     def __init__(self, c, size, *, heading, method, group, study, date_text, url,
-                 cautions):
+                 cautions, forms):
         self.c = c
+        self.forms = forms
         self.width, self.height = size
         self.heading = heading
         self.method = method
@@ -236,21 +240,41 @@ class _Ballot:
         self.y -= 16
         self.draw_footer()
 
+    def cached(self, key, draw) -> None:
+        """Draw ``draw()`` once as a form (PDF XObject) and reuse it on every page with
+        the same ``key``: ballots repeat most of their content, and reportlab's number
+        formatting is pure Python here. ``draw`` leaves colours and widths at black/1."""
+        name = self.forms.get(key)
+        if name is None:
+            name = f"KT{len(self.forms)}"
+            self.c.beginForm(name)
+            draw()
+            self.c.endForm()
+            self.forms[key] = name
+        self.c.doForm(name)
+
     def draw_footer(self) -> None:
         c = self.c
         x = self.left
         y0 = MARGIN
-        c.setFillColor(SHADE)
-        c.setStrokeColor(GREY)
-        c.roundRect(x, y0 + 10, self.inner, self.footer_h - 10, 4, stroke=1, fill=1)
-        c.setFillColor(black)
-        c.setStrokeColor(black)
-        y = y0 + self.footer_h - 12
-        for lines, (_, font, size) in zip(self.caution_lines, self.cautions):
-            y = draw_lines(c, lines, x + 6, y - size + 9, font, size)
+
+        def static() -> None:
+            c.setFillColor(SHADE)
+            c.setStrokeColor(GREY)
+            c.roundRect(x, y0 + 10, self.inner, self.footer_h - 10, 4, stroke=1, fill=1)
+            c.setFillColor(black)
+            c.setStrokeColor(black)
+            y = y0 + self.footer_h - 12
+            for lines, (_, font, size) in zip(self.caution_lines, self.cautions):
+                y = draw_lines(c, lines, x + 6, y - size + 9, font, size)
+            c.setFont(SANS, 7)
+            c.setFillColor(GREY)
+            c.drawString(x, y0, "Please return this ballot to the panel leader.")
+            c.setFillColor(black)
+
+        self.cached(("footer", self.width, self.height, tuple(self.cautions)), static)
         c.setFont(SANS, 7)
         c.setFillColor(GREY)
-        c.drawString(x, y0, "Please return this ballot to the panel leader.")
         c.drawRightString(self.right, y0,
                           printable(f"{self.group.panelist_code} · session {self.group.session}"
                                     f" · page {self.pages}"))
@@ -333,10 +357,10 @@ class _Ballot:
         anchor_h = _grid_head_h(attr, self.inner) - 25
         head_h = anchor_h + 25
 
-        def header(label: str) -> None:
+        def draw_header(label: str, y0: float) -> None:
             c.setFont(BOLD, 10.5)
-            c.drawString(self.left, self.y - 10, printable(label))
-            top = self.y - 14
+            c.drawString(self.left, y0 - 10, printable(label))
+            top = y0 - 14
             c.setFont(SANS, asize)
             if full:
                 for i, ls in enumerate(anchor_lines):
@@ -354,27 +378,28 @@ class _Ballot:
             for i, p in enumerate(points):
                 c.drawCentredString(self.left + code_w + col_w * (i + 0.5), top - 8, str(p))
             c.setFillColor(black)
-            self.y = top - 10
+
+        def header(label: str) -> None:
+            y0 = self.y
+            key = ("grid", y0, label, repr(attr.to_dict()), col_w, anchor_h)
+            self.cached(key, lambda: draw_header(label, y0))
+            self.y = y0 - 14 - anchor_h - 1 - 10
 
         self.need(head_h + row_h)
         header(attr.name)
         box = min(row_h - 4, 11.0)
+        xs = [self.left + code_w + col_w * (j + 0.5) - box / 2 for j in range(len(points))]
         for i, e in enumerate(self.group.entries):
             if self.need(row_h):
                 header(f"{attr.name} (continued)")
             y = self.y - row_h
             if i % 2 == 0:
-                c.setFillColor(SHADE)
-                c.rect(self.left, y, grid_w, row_h, stroke=0, fill=1)
-                c.setFillColor(black)
-            c.setFont(BOLD, min(11.0, row_h - 3))
-            c.drawString(self.left + 4, y + (row_h - min(11.0, row_h - 3)) / 2 + 1.5,
-                         printable(e.code))
-            c.setLineWidth(0.7)
-            for j in range(len(points)):
-                bx = self.left + code_w + col_w * (j + 0.5) - box / 2
-                c.rect(bx, y + (row_h - box) / 2, box, box, stroke=1, fill=0)
-            c.setLineWidth(1)
+                literal_rects(c, [(self.left, y, grid_w, row_h)], op="f", gray=SHADE_GRAY)
+            size = min(11.0, row_h - 3)
+            c.setFont(BOLD, size)
+            c.drawString(self.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
+            by = y + (row_h - box) / 2
+            literal_rects(c, [(bx, by, box, box) for bx in xs], op="S", width=0.7)
             self.y = y
         self.y -= 10
 
@@ -492,8 +517,15 @@ class _Matrix:
         return x + self.col_w * (j + 0.5)
 
     def header(self, continued: bool = False) -> None:
-        c, b = self.b.c, self.b
+        b = self.b
         top = b.y
+        key = ("matrix", top, continued, self.col_w, self.head_h,
+               tuple(a.to_dict().__repr__() for a in self.attrs))
+        b.cached(key, lambda: self._header(top, continued))
+        b.y = top - self.head_h + 1
+
+    def _header(self, top: float, continued: bool) -> None:
+        c, b = self.b.c, self.b
         for g, ls in enumerate(self.name_lines):
             left = self._x(g, 0) - self.col_w / 2
             width = len(self.points[g]) * self.col_w
@@ -531,7 +563,6 @@ class _Matrix:
         if continued:
             c.setFont(ITALIC, 7.5)
             c.drawString(b.left, top - 8, "(continued)")
-        b.y = base - 11
 
     def draw(self, row_h: float) -> None:
         c, b = self.b.c, self.b
@@ -539,23 +570,19 @@ class _Matrix:
         self.header()
         box = min(row_h - 4, 11.0)
         right = self._x(len(self.attrs) - 1, len(self.points[-1]) - 1) + self.col_w / 2
+        xs = [self._x(g, j) - box / 2 for g, pts in enumerate(self.points)
+              for j in range(len(pts))]
         for i, e in enumerate(b.group.entries):
             if b.need(row_h):
                 self.header(continued=True)
             y = b.y - row_h
             if i % 2 == 0:
-                c.setFillColor(SHADE)
-                c.rect(b.left, y, right - b.left, row_h, stroke=0, fill=1)
-                c.setFillColor(black)
+                literal_rects(c, [(b.left, y, right - b.left, row_h)], op="f", gray=SHADE_GRAY)
             size = min(11.0, row_h - 3)
             c.setFont(BOLD, size)
             c.drawString(b.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
-            c.setLineWidth(0.7)
-            for g, pts in enumerate(self.points):
-                for j in range(len(pts)):
-                    bx = self._x(g, j) - box / 2
-                    c.rect(bx, y + (row_h - box) / 2, box, box, stroke=1, fill=0)
-            c.setLineWidth(1)
+            by = y + (row_h - box) / 2
+            literal_rects(c, [(bx, by, box, box) for bx in xs], op="S", width=0.7)
             b.y = y
         b.y -= 10
 
@@ -628,13 +655,14 @@ def ballots_pdf(
     c = new_canvas(buffer, size, title=printable(heading))
     ticker = Ticker(progress, len(groups))
     pages = 0
+    forms: dict = {}
     for g in groups:
         url = ""
         if base_url and g.panelist_code in tokens:
             url = join_url(base_url, tokens[g.panelist_code])
         cautions = _cautions(allergens[g.session], records.get(g.panelist_code))
         b = _Ballot(c, size, heading=heading, method=method, group=g, study=study,
-                    date_text=date_text, url=url, cautions=cautions)
+                    date_text=date_text, url=url, cautions=cautions, forms=forms)
         if pages:
             c.showPage()
         b.start_page()
@@ -642,8 +670,7 @@ def ballots_pdf(
         pages += b.pages
         ticker.tick()
     c.showPage()
-    c.save()
-    return PrintResult(buffer.getvalue(), pages, "ballots", len(groups))
+    return PrintResult(finish(c, buffer), pages, "ballots", len(groups))
 
 
 def _cautions(allergens: Sequence[str], panelist: Panelist | None):

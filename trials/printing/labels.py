@@ -37,6 +37,7 @@ from trials.printing.layout import (
     PrintResult,
     Progress,
     Ticker,
+    finish,
     fit_size,
     group_plan,
     new_canvas,
@@ -198,5 +199,4 @@ def labels_pdf(
         c.drawCentredString(cx, line_y, info)
         ticker.tick()
     c.showPage()
-    c.save()
-    return PrintResult(buffer.getvalue(), sheet, "labels", total)
+    return PrintResult(finish(c, buffer), sheet, "labels", total)

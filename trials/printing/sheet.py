@@ -26,6 +26,7 @@ from trials.printing.layout import (
     PrintResult,
     Progress,
     Ticker,
+    finish,
     group_plan,
     new_canvas,
     page_size,
@@ -192,16 +193,26 @@ class _Sheet:
                 c.line(self.left, self.y, self.right, self.y)
                 c.setLineWidth(1)
                 c.setStrokeColor(black)
+            # one text object per row, font and colour set only when they change
+            t = c.beginText()
+            font, color = None, black
             x = self.left
             for k, (ls, w) in enumerate(zip(cells, widths)):
-                c.setFillColor(RED if k == flags else black)
-                c.setFont(BOLD if k == 0 or k == flags else SANS, size)
+                want = BOLD if k == 0 or k == flags else SANS
+                if want != font:
+                    font = want
+                    t.setFont(font, size)
+                if (k == flags) != (color is RED) and any(ls):
+                    color = RED if k == flags else black
+                    t.setFillColor(color)
                 yy = self.y - size
                 for line in ls:
-                    c.drawString(x + 3, yy, line)
+                    if line:
+                        t.setTextOrigin(x + 3, yy)
+                        t.textOut(line)
                     yy -= lead
                 x += w
-            c.setFillColor(black)
+            c.drawText(t)
             self.y -= h
             if ticker is not None:
                 ticker.tick()
@@ -280,9 +291,8 @@ def serving_sheet_pdf(
         cups = [e for g in groups if g.session == session for e in g.entries]
         _session(sheet, session, cups, samples, batch_map, found, ticker)
     c.showPage()
-    c.save()
     pages = sheet.pages
-    return PrintResult(buffer.getvalue(), pages, "sheet", len(sessions))
+    return PrintResult(finish(c, buffer), pages, "sheet", len(sessions))
 
 
 def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker) -> None:
