@@ -82,7 +82,8 @@ def _retryable(exc: BaseException) -> bool:
 
 @dataclass
 class Store:
-    """An open trial store: the engine and its session factories."""
+    """An open trial store: the engine and its session factories (``url`` is shown
+    with any password hidden)."""
 
     url: str
     engine: Engine
@@ -159,15 +160,16 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
         kwargs["connect_args"] = {"timeout": BUSY_TIMEOUT_MS / 1000, "check_same_thread": False}
     else:
         kwargs["pool_pre_ping"] = True
+    shown = sa_url.render_as_string(hide_password=True)
     try:
         engine = sa.create_engine(sa_url, **kwargs)
     except (ImportError, sa.exc.NoSuchModuleError) as exc:
-        raise TrialsError(f"cannot open {url!r}: {exc}") from None
+        raise TrialsError(f"cannot open {shown!r}: {exc}") from None
     if engine.dialect.name == "sqlite":
         _sqlite_settings(engine)
     writer = engine.execution_options(trials_write=True)
     store = Store(
-        url=url,
+        url=shown,
         engine=engine,
         _read=sessionmaker(engine, expire_on_commit=False),
         _write=sessionmaker(writer, expire_on_commit=False),
