@@ -270,3 +270,15 @@ def test_a_disconnected_design_is_refused():
 def test_an_alpha_outside_zero_and_one_is_refused(alpha):
     with pytest.raises(TrialsError, match="alpha"):
         rating_anova(_random_ratings(), alpha=alpha)
+
+
+def test_the_order_of_the_rows_does_not_change_the_analysis():
+    data = _random_ratings(reps=2, seed=12).drop(index=[4, 30]).reset_index(drop=True)
+    shuffled = data.sample(frac=1.0, random_state=3).reset_index(drop=True)
+    a = rating_anova(data, replicate="replicate")
+    b = rating_anova(shuffled, replicate="replicate")
+    for term in ("sample", "panelist", "sample:panelist", "error"):
+        assert a.term(term).ss == pytest.approx(b.term(term).ss, rel=1e-10)
+    assert a.groups == b.groups
+    for s in "ABCD":
+        assert a.means[s] == pytest.approx(b.means[s], rel=1e-12)

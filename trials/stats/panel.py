@@ -158,6 +158,7 @@ def panel_performance(
                 agreement = float(np.corrcoef(a, c)[0, 1])
         out_rows.append((p_names[j], nj, f, p, mse, df_e if df_e > 0 else None, agreement))
     median_mse = float(np.median(mses)) if mses else None
+    rated_count = {p_names[j]: int((n[j] > 0).sum()) for j in range(b)}
     result = []
     for name, nj, f, p, mse, df_e, agreement in out_rows:
         flags = []
@@ -167,7 +168,7 @@ def panel_performance(
             flags.append(f"poor repeatability (mse {mse:.3g} > {mse_ratio:g} x median {median_mse:.3g})")
         if agreement is not None and agreement < min_agreement:
             flags.append(f"disagrees with the panel (r = {agreement:.2f} < {min_agreement:g})")
-        elif agreement is None:
+        elif agreement is None and rated_count[name] >= 3:
             flags.append("agreement not computable (constant means)")
         result.append(PanelistPerformance(name, nj, f, p, mse, df_e, agreement, tuple(flags)))
     rule = (
