@@ -56,7 +56,7 @@ def _steps():
 steps = _steps()
 open_steps = [i for i, step in enumerate(steps) if not step[4]]
 
-st.markdown(f"## {ballot.title}")
+st.markdown("## Tasting")
 if st.session_state.get("taste_problem"):
     st.error(st.session_state["taste_problem"])
 
@@ -110,7 +110,9 @@ elif kind == "rate":
     st.markdown(f'<p class="kt-code">{code}</p>', unsafe_allow_html=True)
     st.markdown(f"Cup {pos + 1} of {len(current.codes)}. Taste the cup marked **{code}**, "
                 "then tap one box on each scale.")
-    for attr in ballot.attributes:
+    if pos == 0:
+        st.caption(ballot.instructions)
+    for i, attr in enumerate(ballot.attributes):
         have = given.get((current.session, code, attr.name))
         st.markdown(f"#### {attr.name}" + (f" · you gave **{have}**" if have else ""))
         points = list(range(attr.low, attr.high + 1))
@@ -122,7 +124,7 @@ elif kind == "rate":
         cols = st.columns(len(points))
         for col, p in zip(cols, points):
             label = str(p)
-            if col.button(label, key=f"score_{current.session}_{code}_{attr.name}_{p}",
+            if col.button(label, key=f"score_{current.session}_{code}_{i}_{p}",
                           type="primary" if have == label else "secondary", width="stretch",
                           help=anchors[p - attr.low] if len(anchors) == len(points) else None):
                 _save(code, attr.name, label, session=current.session)

@@ -22,8 +22,17 @@ def _page(name: str, title: str, icon: str, *, default: bool = False) -> st.Page
 
 
 if ui.panelist_token():
+    # A default page is served at the root address and its url_path is ignored, so the
+    # tasting screen is not the default: a link to /taste opens it directly, and the
+    # root address (with the token) hands over to it.
+    taste = _page("taste", "Tasting", ":material/local_dining:")
+
+    def _to_taste() -> None:
+        st.switch_page(taste, query_params={"t": ui.panelist_token()})
+
     navigation = st.navigation(
-        [_page("taste", "Tasting", ":material/local_dining:", default=True)], position="hidden"
+        [st.Page(_to_taste, title="Tasting", url_path="start", default=True), taste],
+        position="hidden",
     )
 else:
     navigation = st.navigation(ui.leader_pages(_page))

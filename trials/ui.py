@@ -248,8 +248,13 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
     min-height: 4.25rem; font-size: 1.6rem; font-weight: 600; border-radius: 0.9rem;
 }
 .stButton button p, .stFormSubmitButton button p { font-size: 1.6rem; }
-.kt-code { font-size: 3.2rem; font-weight: 700; letter-spacing: 0.3rem; text-align: center; }
-.kt-step { font-size: 1.1rem; opacity: 0.75; }
+.kt-code {
+    font-size: 3rem; font-weight: 700; letter-spacing: 0.08em; text-align: center;
+    border: 3px solid currentColor; border-radius: 1rem; padding: 0.4rem 0; margin: 0.5rem auto;
+    max-width: 14rem; font-variant-numeric: tabular-nums;
+}
+.kt-step { font-size: 1.1rem; opacity: 0.75; margin: 0; }
+[data-testid="stMainBlockContainer"] { padding-top: 1.5rem; max-width: 60rem; }
 [data-testid="stSidebar"], [data-testid="stSidebarCollapsedControl"] { display: none; }
 header[data-testid="stHeader"] { display: none; }
 </style>

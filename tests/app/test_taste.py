@@ -88,7 +88,7 @@ def test_a_panelist_link_opens_the_tasting_screen_alone_through_the_entry_script
     at.query_params["t"] = _token(store, study_id, "T04")
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert "Tasting - Triangle test" in page_text(at)
+    assert "Which sample is different from the other two?" in page_text(at)
     assert "Trials" not in [t.value for t in at.title]
 
 
