@@ -141,6 +141,18 @@ def positioned(page) -> list[tuple[float, float, str]]:
     return out
 
 
+def drawing(page) -> str:
+    """The page's content stream followed by the forms (XObjects) it draws, in the order
+    the page draws them (ballots draw repeated content as forms)."""
+    xobjects = page["/Resources"].get("/XObject", {})
+    xobjects = xobjects.get_object() if xobjects else {}
+    content = page.get_contents().get_data().decode("latin-1")
+    parts = [content]
+    for name in re.findall(r"/(\S+) Do", content):
+        parts.append(xobjects["/" + name].get_object().get_data().decode("latin-1"))
+    return "\n".join(parts)
+
+
 def rows_of(page) -> list[list[str]]:
     """Text pieces grouped into lines by their baseline, left to right."""
     lines: dict[float, list[tuple[float, str]]] = {}
@@ -342,7 +354,7 @@ def test_a_rating_ballot_has_one_box_per_point_per_code_and_attribute():
     study = make_study("rating")
     plan = make_plan(study, sessions=("S1",), panelists=1)
     page = reader(ballots_pdf(study, plan)).pages[0]
-    content = page.get_contents().get_data().decode("latin-1")
+    content = drawing(page)
     small_squares = re.findall(r"[-\d.]+ [-\d.]+ 11(?:\.0+)? 11(?:\.0+)? re", content)
     points = sum(a.high - a.low + 1 for a in ATTRIBUTES)  # 9 + 7 + 5
     assert len(small_squares) == points * len(SAMPLES)
@@ -365,7 +377,7 @@ def test_a_rating_of_twelve_samples_on_three_scales_fits_one_page():
     assert result.pages == 2 == result.items
     # one table of all three scales: a box per point (9 + 7 + 5) for each of the 12 codes
     page = reader(result).pages[0]
-    content = page.get_contents().get_data().decode("latin-1")
+    content = drawing(page)
     squares = re.findall(r"[-\d.]+ [-\d.]+ 11(?:\.0+)? 11(?:\.0+)? re", content)
     assert len(squares) == 21 * 12
     text = " ".join(page.extract_text().split())

@@ -388,20 +388,45 @@ class _Ballot:
         self.need(head_h + row_h)
         header(attr.name)
         box = min(row_h - 4, 11.0)
-        xs = [self.left + code_w + col_w * (j + 0.5) - box / 2 for j in range(len(points))]
+        xs = tuple(self.left + code_w + col_w * (j + 0.5) - box / 2 for j in range(len(points)))
+        self.box_rows(row_h, box, xs, grid_w, lambda: header(f"{attr.name} (continued)"))
+        self.y -= 10
+
+    def box_rows(self, row_h: float, box: float, xs: tuple[float, ...], width: float,
+                 continued) -> None:
+        """A row per code in serving order: the code, then a box at each of ``xs``;
+        alternate rows shaded. The boxes of a page's run of rows are one cached form
+        (the same on every ballot of the same shape); ``continued()`` draws the header
+        again on a new page."""
+        c = self.c
+        run: list[tuple[int, float]] = []
+
+        def flush() -> None:
+            if not run:
+                return
+            rows = tuple(run)
+
+            def draw() -> None:
+                literal_rects(c, [(self.left, y, width, row_h) for i, y in rows if i % 2 == 0],
+                              op="f", gray=SHADE_GRAY)
+                literal_rects(c, [(bx, y + (row_h - box) / 2, box, box)
+                                  for _, y in rows for bx in xs], op="S", width=0.7)
+
+            self.cached(("rows", rows, row_h, box, xs, width, self.left), draw)
+            run.clear()
+
+        size = min(11.0, row_h - 3)
         for i, e in enumerate(self.group.entries):
+            if self.y - row_h < self.bottom:
+                flush()
             if self.need(row_h):
-                header(f"{attr.name} (continued)")
+                continued()
             y = self.y - row_h
-            if i % 2 == 0:
-                literal_rects(c, [(self.left, y, grid_w, row_h)], op="f", gray=SHADE_GRAY)
-            size = min(11.0, row_h - 3)
+            run.append((i, y))
             c.setFont(BOLD, size)
             c.drawString(self.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
-            by = y + (row_h - box) / 2
-            literal_rects(c, [(bx, by, box, box) for bx in xs], op="S", width=0.7)
             self.y = y
-        self.y -= 10
+        flush()
 
     def ranking_block(self, attr: Attribute | None) -> None:
         c = self.c
@@ -570,20 +595,9 @@ class _Matrix:
         self.header()
         box = min(row_h - 4, 11.0)
         right = self._x(len(self.attrs) - 1, len(self.points[-1]) - 1) + self.col_w / 2
-        xs = [self._x(g, j) - box / 2 for g, pts in enumerate(self.points)
-              for j in range(len(pts))]
-        for i, e in enumerate(b.group.entries):
-            if b.need(row_h):
-                self.header(continued=True)
-            y = b.y - row_h
-            if i % 2 == 0:
-                literal_rects(c, [(b.left, y, right - b.left, row_h)], op="f", gray=SHADE_GRAY)
-            size = min(11.0, row_h - 3)
-            c.setFont(BOLD, size)
-            c.drawString(b.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
-            by = y + (row_h - box) / 2
-            literal_rects(c, [(bx, by, box, box) for bx in xs], op="S", width=0.7)
-            b.y = y
+        xs = tuple(self._x(g, j) - box / 2 for g, pts in enumerate(self.points)
+                   for j in range(len(pts)))
+        b.box_rows(row_h, box, xs, right - b.left, lambda: self.header(continued=True))
         b.y -= 10
 
 
