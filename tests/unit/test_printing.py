@@ -805,3 +805,34 @@ def test_the_fast_mask_choice_gives_the_same_qr_symbol_as_reportlabs_encoder(ext
         n = code.getModuleCount()
         expected = [[bool(code.isDark(r, c)) for c in range(n)] for r in range(n)]
         assert qr_matrix(url) == expected
+
+
+@pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) missing")
+@pytest.mark.parametrize("samples", [4, 12, 20], ids=["grids", "one table", "two pages"])
+def test_every_code_of_a_rating_grid_is_visible_on_the_rendered_page(samples, tmp_path):
+    """The shading of alternate rows must sit under the codes, not over them."""
+    from PIL import Image
+
+    variants = tuple(Sample(f"Invented variant {k}") for k in range(samples))
+    study = Study("Crust switch trial", "rating", samples=variants, attributes=ATTRIBUTES)
+    plan = make_plan(study, panelists=1, sessions=("S1",))
+    result = ballots_pdf(study, plan)
+    pdf = tmp_path / "b.pdf"
+    pdf.write_bytes(result.data)
+    dpi = 100
+    subprocess.run(["pdftoppm", "-png", "-r", str(dpi), str(pdf), str(tmp_path / "p")],
+                   check=True, capture_output=True)
+    codes = {e.code for e in plan}
+    seen = set()
+    for k, page in enumerate(reader(result).pages, start=1):
+        png = sorted(tmp_path.glob("p-*.png"))[k - 1]
+        with Image.open(png) as im:
+            gray = im.convert("L")
+            height = float(page.mediabox[3])
+            for x, y, t in positioned(page):
+                if t in codes and x < 60:  # the code at the start of a grid row
+                    box = (int(x * dpi / 72), int((height - y - 9) * dpi / 72),
+                           int((x + 20) * dpi / 72), int((height - y) * dpi / 72))
+                    assert gray.crop(box).getextrema()[0] < 80, (t, k)
+                    seen.add(t)
+    assert seen == codes

@@ -399,34 +399,30 @@ class _Ballot:
         (the same on every ballot of the same shape); ``continued()`` draws the header
         again on a new page."""
         c = self.c
-        run: list[tuple[int, float]] = []
+        entries = self.group.entries
+        size = min(11.0, row_h - 3)
+        i = 0
+        while i < len(entries):
+            if self.need(row_h):
+                continued()
+            fit = max(1, int((self.y - self.bottom) / row_h + 1e-6))
+            rows = tuple((i + j, self.y - (j + 1) * row_h)
+                         for j in range(min(fit, len(entries) - i)))
 
-        def flush() -> None:
-            if not run:
-                return
-            rows = tuple(run)
-
-            def draw() -> None:
-                literal_rects(c, [(self.left, y, width, row_h) for i, y in rows if i % 2 == 0],
+            def draw(rows=rows) -> None:
+                literal_rects(c, [(self.left, y, width, row_h) for k, y in rows if k % 2 == 0],
                               op="f", gray=SHADE_GRAY)
                 literal_rects(c, [(bx, y + (row_h - box) / 2, box, box)
                                   for _, y in rows for bx in xs], op="S", width=0.7)
 
+            # shading and boxes first, then the codes on top
             self.cached(("rows", rows, row_h, box, xs, width, self.left), draw)
-            run.clear()
-
-        size = min(11.0, row_h - 3)
-        for i, e in enumerate(self.group.entries):
-            if self.y - row_h < self.bottom:
-                flush()
-            if self.need(row_h):
-                continued()
-            y = self.y - row_h
-            run.append((i, y))
             c.setFont(BOLD, size)
-            c.drawString(self.left + 4, y + (row_h - size) / 2 + 1.5, printable(e.code))
-            self.y = y
-        flush()
+            for k, y in rows:
+                c.drawString(self.left + 4, y + (row_h - size) / 2 + 1.5,
+                             printable(entries[k].code))
+            self.y = rows[-1][1]
+            i += len(rows)
 
     def ranking_block(self, attr: Attribute | None) -> None:
         c = self.c
