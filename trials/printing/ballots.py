@@ -56,6 +56,7 @@ from trials.model import Attribute, AttributeKind, Panelist, PlanEntry, Study
 from trials.printing.layout import (
     BOLD,
     ITALIC,
+    QUIET_ZONE,
     SANS,
     PanelistSession,
     PrintResult,
@@ -64,13 +65,14 @@ from trials.printing.layout import (
     draw_lines,
     draw_qr,
     finish,
-    literal_rects,
     fit_size,
     group_plan,
     join_url,
+    literal_rects,
     new_canvas,
     page_size,
     printable,
+    qr_matrix,
     sessions_of,
     wrap,
 )
@@ -158,6 +160,13 @@ def _check_sets(method: MethodSpec, group: PanelistSession) -> None:
             )
 
 
+def qr_size(url: str) -> float:
+    """Printed width of the QR code (with its quiet zone): modules of about 0.6 mm
+    (1.7 pt), which phone cameras read at arm's length (common practice), 66 to 96 pt."""
+    modules = len(qr_matrix(url)) + 2 * QUIET_ZONE
+    return min(96.0, max(66.0, modules * 1.7))
+
+
 class _Ballot:
     """Draws one ballot, page by page, keeping a cursor ``y``."""
 
@@ -191,7 +200,7 @@ class _Ballot:
             c.showPage()
         self.pages += 1
         top = self.height - MARGIN
-        qr = 66.0 if (self.url and self.pages == 1) else 0.0
+        qr = qr_size(self.url) if (self.url and self.pages == 1) else 0.0
         text_right = self.right - (qr + 8 if qr else 0)
         title = self.heading if self.pages == 1 else f"{self.heading} (continued)"
         c.setFillColor(black)

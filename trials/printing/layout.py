@@ -281,7 +281,17 @@ def join_human(items: Iterable[str]) -> str:
 # ---------------------------------------------------------------- QR codes
 
 
+@functools.lru_cache(maxsize=256)
+def _qr_cached(text: str) -> tuple[tuple[bool, ...], ...]:
+    return tuple(tuple(row) for row in _qr_matrix(text))
+
+
 def qr_matrix(text: str) -> list[list[bool]]:
+    """The QR code modules of ``text``, row by row (see :func:`_qr_matrix`)."""
+    return [list(row) for row in _qr_cached(text)]
+
+
+def _qr_matrix(text: str) -> list[list[bool]]:
     """The QR code modules of ``text`` (byte mode, error correction level M), row by row.
 
     Encoded with reportlab's own encoder (``reportlab.graphics.barcode.qrencoder``, an
