@@ -183,7 +183,8 @@ def _print(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
     out = Path(args.out)
-    pages = service.print_document(_store(args), args.study, args.kind, out)
+    base_url = args.base_url or os.environ.get("TRIALS_BASE_URL", "")
+    pages = service.print_document(_store(args), args.study, args.kind, out, base_url=base_url)
     return {"pages": pages, "path": str(out)}
 
 
@@ -364,6 +365,12 @@ def build_parser() -> argparse.ArgumentParser:
         p = _leaf(psub, kind, _print, text, db=True)
         p.add_argument("--study", required=True, type=_count)
         p.add_argument("--out", required=True)
+        p.add_argument(
+            "--base-url",
+            default=None,
+            help="the app's address on the kitchen network, for the ballots' QR codes "
+            "(default: $TRIALS_BASE_URL)",
+        )
 
     p = _leaf(sub, "report", _report, "write the trial's report as HTML", db=True)
     p.add_argument("--study", required=True, type=_count)

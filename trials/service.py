@@ -304,7 +304,7 @@ def _study_record(row: StudyRow) -> Study:
         alpha=row.alpha, beta=row.beta, pd=row.pd, delta=row.delta,
         status=Status(row.status), decision=row.decision or "",
         rationale=row.rationale or "", product=row.product or "",
-        created_on=row.created_on,
+        aim=row.aim or "", created_on=row.created_on,
         samples=tuple(_sample_record(s) for s in row.samples),
         attributes=tuple(_attribute_record(a) for a in row.attributes),
     )
@@ -405,6 +405,17 @@ def list_studies(store: Store) -> list[StudySummary]:
         ]
 
 
+AIMS = ("", "difference", "similarity")
+
+
+def _aim(value: Any) -> str:
+    """A discrimination trial's question: ``difference``, ``similarity`` or unset."""
+    text = (value or "").strip().lower()
+    if text not in AIMS:
+        raise TrialsError(f"aim must be 'difference' or 'similarity', got {value!r}")
+    return text
+
+
 def create_study(
     store: Store,
     *,
@@ -412,6 +423,7 @@ def create_study(
     method: str,
     objective: str = "",
     product: str = "",
+    aim: str = "",
     alpha: float = 0.05,
     beta: float = 0.20,
     pd: float | None = None,
@@ -424,6 +436,7 @@ def create_study(
     """Create a trial with its samples and attributes; returns it with its id."""
     spec = get_method(method)
     name = _name(name, "the trial's name")
+    aim = _aim(aim)
     alpha = _fraction(alpha, "alpha")
     beta = _fraction(beta, "beta")
     pd = _fraction(pd, "pd", allow_none=True)
@@ -438,7 +451,7 @@ def create_study(
     def work(s: Session) -> int:
         row = StudyRow(
             name=name, method=spec.name, objective=objective or "", product=product or "",
-            alpha=alpha, beta=beta, pd=pd, delta=delta, status=Status.PLANNING.value,
+            aim=aim, alpha=alpha, beta=beta, pd=pd, delta=delta, status=Status.PLANNING.value,
             decision="", rationale="", created_on=created_on or _today(),
         )
         s.add(row)
@@ -461,11 +474,11 @@ def get_study(store: Store, study_id: int) -> Study:
         return _study_record(_study_row(s, study_id))
 
 
-_EDITABLE = ("name", "product", "objective", "alpha", "beta", "pd", "delta", "method")
+_EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method")
 
 
 def update_study(store: Store, study_id: int, *, by: str, **changes: Any) -> Study:
-    """Change fields of a trial (``name product objective alpha beta pd delta method``).
+    """Change fields of a trial (``name product aim objective alpha beta pd delta method``).
 
     Each changed field is audited. The method can change only while no plan is drawn.
     """
@@ -486,6 +499,8 @@ def update_study(store: Store, study_id: int, *, by: str, **changes: Any) -> Stu
             clean[key] = None if value is None else float(value)
         elif key == "method":
             clean[key] = get_method(value).name
+        elif key == "aim":
+            clean[key] = _aim(value)
         else:
             clean[key] = str(value or "")
 
@@ -1797,7 +1812,8 @@ def import_archive(store: Store, data: bytes, *, by: str = "import") -> int:
     def work(s: Session) -> int:
         row = StudyRow(
             name=st["name"], method=get_method(st["method"]).name, objective=st["objective"],
-            product=st.get("product", ""), alpha=st["alpha"], beta=st["beta"], pd=st["pd"],
+            product=st.get("product", ""), aim=_aim(st.get("aim", "")),
+            alpha=st["alpha"], beta=st["beta"], pd=st["pd"],
             delta=st["delta"], status=Status(st["status"]).value, decision=st["decision"],
             rationale=st["rationale"], created_on=_as_date(st["created_on"], "created_on"),
         )
@@ -1906,14 +1922,12 @@ def change_stamp(store: Store, study_id: int) -> tuple[int, int]:
         return int(last or 0), _response_count(s, study.id)
 
 
-if "analyse_study" not in globals():
+def analyse_study(store: Store, study_id: int):
+    """The trial's analysis (:func:`trials.analysis.analyse`) from the store."""
+    from trials.analysis import analyse
 
-    def analyse_study(store: Store, study_id: int):
-        """The trial's analysis (:func:`trials.analysis.analyse`) from the store."""
-        from trials.analysis import analyse
-
-        return analyse(get_study(store, study_id), plan(store, study_id),
-                       responses(store, study_id), batches=list_batches(store, study_id))
+    return analyse(get_study(store, study_id), plan(store, study_id),
+                   responses(store, study_id), batches=list_batches(store, study_id))
 
 
 def planning_answer(store: Store, study_id: int):
@@ -2134,37 +2148,41 @@ def save_paper_sheet(store: Store, study_id: int, session: str, frame: pd.DataFr
     return store.write(work)
 
 
-if "print_bytes" not in globals():
+def print_result(store: Store, study_id: int, kind: str, *, progress=None,
+                 base_url: str = ""):
+    """A printed document of the trial as a :class:`trials.printing.PrintResult`:
+    ``ballots``, ``sheet`` (the serving sheet with the key, kitchen only) or ``labels``.
 
-    def print_bytes(store: Store, study_id: int, kind: str, *, progress=None,
-                    base_url: str = "") -> bytes:
-        """A printed document of the trial as PDF bytes: ``ballots``, ``sheet`` (the
-        serving sheet with the key, kitchen only) or ``labels`` (cup labels).
+    ``progress(done, total)`` is called as the work goes on; ``base_url`` (the app's
+    address) puts each panelist's tasting link on their ballot as a QR code.
+    """
+    from trials import printing
 
-        ``progress(done, total)`` is called as the work goes on; ``base_url`` (the app's
-        address) puts each panelist's tasting link on their ballot as a QR code.
-        """
-        from trials import printing
+    study = get_study(store, study_id)
+    entries = plan(store, study_id)
+    if not entries:
+        raise TrialsError(f"trial {study_id} has no serving plan yet; draw one first")
+    if kind == "ballots":
+        links = panelist_links(store, study_id)
+        result = printing.ballots_pdf(study, entries, panelists=list_panelists(store),
+                                      base_url=base_url, tokens=links if base_url else None,
+                                      today=_today(), progress=progress)
+    elif kind == "sheet":
+        result = printing.serving_sheet_pdf(
+            study, entries, batches=list_batches(store, study_id),
+            conflicts=allergen_conflicts(store, study_id),
+            panelists=list_panelists(store), progress=progress)
+    elif kind == "labels":
+        result = printing.labels_pdf(entries, progress=progress)
+    else:
+        raise TrialsError(f"unknown document {kind!r}; expected ballots, sheet or labels")
+    return result
 
-        study = get_study(store, study_id)
-        entries = plan(store, study_id)
-        if not entries:
-            raise TrialsError(f"trial {study_id} has no serving plan yet; draw one first")
-        if kind == "ballots":
-            links = panelist_links(store, study_id)
-            result = printing.ballots_pdf(study, entries, panelists=list_panelists(store),
-                                          base_url=base_url, tokens=links if base_url else None,
-                                          today=_today(), progress=progress)
-        elif kind == "sheet":
-            result = printing.serving_sheet_pdf(
-                study, entries, batches=list_batches(store, study_id),
-                conflicts=allergen_conflicts(store, study_id),
-                panelists=list_panelists(store), progress=progress)
-        elif kind == "labels":
-            result = printing.labels_pdf(entries, progress=progress)
-        else:
-            raise TrialsError(f"unknown document {kind!r}; expected ballots, sheet or labels")
-        return result.data
+
+def print_bytes(store: Store, study_id: int, kind: str, *, progress=None,
+                base_url: str = "") -> bytes:
+    """The PDF bytes of :func:`print_result`, for a download button."""
+    return print_result(store, study_id, kind, progress=progress, base_url=base_url).data
 
 
 def study_decision(store: Store, study_id: int, analysis=None):
@@ -2187,14 +2205,26 @@ def export_bytes(store: Store, study_id: int, *, fmt: str = "csv") -> bytes:
         return path.read_bytes()
 
 
-if "report_html" not in globals():
+def report_html(store: Store, study_id: int) -> str:
+    """The trial's report as one self-contained HTML document
+    (:func:`trials.printing.report.report_html`)."""
+    from trials.printing.report import report_html as build
 
-    def report_html(store: Store, study_id: int) -> str:
-        """The trial's report as one self-contained HTML document
-        (:func:`trials.printing.report.report_html`)."""
-        from trials.printing.report import report_html as build
+    study = get_study(store, study_id)
+    return build(study, analyse_study(store, study_id), plan=plan(store, study_id),
+                 responses=responses(store, study_id),
+                 batches=list_batches(store, study_id))
 
-        study = get_study(store, study_id)
-        return build(study, analyse_study(store, study_id), plan=plan(store, study_id),
-                     responses=responses(store, study_id),
-                     batches=list_batches(store, study_id))
+
+def print_document(store: Store, study_id: int, kind: str, path: Path, *,
+                   base_url: str = "") -> int:
+    """Write :func:`print_result`'s PDF to ``path``; returns the number of pages."""
+    result = print_result(store, study_id, kind, base_url=base_url)
+    Path(path).write_bytes(result.data)
+    return result.pages
+
+
+def write_report(store: Store, study_id: int, path: Path) -> str:
+    """Write the trial's HTML report to ``path``; returns the decision's headline."""
+    Path(path).write_text(report_html(store, study_id), encoding="utf-8")
+    return study_decision(store, study_id).text

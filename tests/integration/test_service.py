@@ -284,3 +284,18 @@ def test_an_archive_imports_back_as_an_identical_trial(store):
         service.panelist_links(store, sid).values())
     with pytest.raises(TrialsError, match="not a trial archive"):
         service.import_archive(store, b"garbage")
+
+
+def test_a_trial_keeps_its_aim_and_refuses_an_unknown_one(db_url):
+    from trials import service as svc
+    from trials.errors import TrialsError
+
+    store = svc.open_store(db_url)
+    study = svc.create_study(store, name="Crumb test", method="triangle", aim="similarity",
+                             samples=["Old crumb", "New crumb"], pd=0.3, beta=0.05)
+    assert svc.get_study(store, study.id).aim == "similarity"
+    svc.update_study(store, study.id, by="leader", aim="difference")
+    assert svc.get_study(store, study.id).aim == "difference"
+    with pytest.raises(TrialsError, match="'same'"):
+        svc.update_study(store, study.id, by="leader", aim="same")
+    assert svc.get_study(store, study.id).aim == "difference"

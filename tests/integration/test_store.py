@@ -94,16 +94,18 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
     store = open_store(f"sqlite:///{path}")
     with store.engine.connect() as conn:
         versions = conn.execute(sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
-    assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product")]
+    assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
+                                            (3, "study.aim")]
     study = service.get_study(store, 1)
-    assert (study.name, study.objective, study.product) == ("Old trial", "kept from v1", "")
+    assert (study.name, study.objective, study.product, study.aim) == (
+        "Old trial", "kept from v1", "", "")
     assert [s.allergens for s in study.samples] == [(), ("gluten",)]
     service.update_study(store, 1, by="test", product="brioche")
     assert service.get_study(store, 1).product == "brioche"
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:
-        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 2
+        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 3
     again.close()
 
 

@@ -8,7 +8,9 @@ Versions:
 
 1. the first schema (study, sample, attribute, batch, batch_value, panelist,
    tasting_session, plan_entry, access_token, response, audit_log, schema_version);
-2. ``study.product``: what the samples are variants of, for the history search.
+2. ``study.product``: what the samples are variants of, for the history search;
+3. ``study.aim``: ``difference`` or ``similarity``, the question a discrimination test
+   answers (empty: read from the objective's wording, see ``trials.analysis``).
 
 To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
 change the mapping in ``schema.py`` to match, and keep the test that upgrades a
@@ -31,11 +33,16 @@ def _v2_study_product(conn: Connection) -> None:
     conn.execute(sa.text("ALTER TABLE study ADD COLUMN product VARCHAR(200) NOT NULL DEFAULT ''"))
 
 
+def _v3_study_aim(conn: Connection) -> None:
+    conn.execute(sa.text("ALTER TABLE study ADD COLUMN aim VARCHAR(20) NOT NULL DEFAULT ''"))
+
+
 # version reached -> (step, note); the step upgrades from version - 1
 STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
     2: (_v2_study_product, "study.product"),
+    3: (_v3_study_aim, "study.aim"),
 }
-LATEST = 2
+LATEST = 3
 
 
 def current_version(conn: Connection) -> int | None:

@@ -48,6 +48,7 @@ class StudyRow(Base):
     id: Mapped[int] = mapped_column(primary_key=True)
     name: Mapped[str] = mapped_column(String(200))
     product: Mapped[str] = mapped_column(String(200), default="")
+    aim: Mapped[str] = mapped_column(String(20), default="")
     objective: Mapped[str] = mapped_column(Text, default="")
     method: Mapped[str] = mapped_column(String(40))
     alpha: Mapped[float] = mapped_column(Float, default=0.05)
