@@ -132,16 +132,23 @@ if result.attributes:
                         "p": r.correlation.p_value, "slope": r.regression.slope,
                     } for r in at.relations]), hide_index=True, width="stretch")
                     st.caption(at.relations[0].note)
-            with st.expander("Panel performance", icon=":material/groups:"):
-                try:
-                    perf = service.panel_performance_of(store, study_id, at.attribute)
-                except TrialsError as exc:
-                    st.caption(str(exc))
-                else:
-                    frame = perf.to_frame()
-                    ui.panel_chart(frame, title=f"{at.attribute}: agreement and repeatability")
-                    st.dataframe(frame, width="stretch")
-                    st.caption(perf.rule)
+
+    st.subheader("Panel performance")
+    c1, c2 = st.columns([2, 1], vertical_alignment="bottom")
+    scored = [a.attribute for a in result.attributes if a.anova is not None]
+    which = c1.selectbox("Attribute", scored, key="perf_attribute") if scored else None
+    show = c2.toggle("Show panel performance", key="perf_show",
+                     help="Per panelist: discrimination, repeatability and agreement.")
+    if show and which:
+        try:
+            perf = ui.panel_performance(study_id, which)
+        except TrialsError as exc:
+            st.caption(str(exc))
+        else:
+            frame = perf.to_frame()
+            ui.panel_chart(frame, title=f"{which}: agreement and repeatability")
+            st.dataframe(frame, width="stretch")
+            st.caption(perf.rule)
 
 # ------------------------------------------------------------------ ranking
 if result.ranking is not None:

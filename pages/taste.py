@@ -89,22 +89,19 @@ if kind == "choose":
         group = st.pills("The two cups that belong together", options, selection_mode="multi",
                          key=f"tetrad_{current.session}_{current.set_index}")
         picked = sorted(group or [], key=options.index)
-        if st.button("Save my choice", type="primary", width="stretch",
-                     disabled=len(picked) != 2):
-            _save(" ".join(picked), "choice", session=current.session)
-            st.rerun()
+        st.button("Save my choice", type="primary", width="stretch", disabled=len(picked) != 2,
+                  on_click=_save, args=(" ".join(picked), "choice"),
+                  kwargs={"session": current.session})
     else:
         cols = st.columns(len(options))
         for col, c in zip(cols, options):
-            if col.button(c, key=f"pick_{current.session}_{current.set_index}_{c}",
-                          type="primary", width="stretch"):
-                _save(c, "choice", session=current.session)
-                st.rerun()
+            col.button(c, key=f"pick_{current.session}_{current.set_index}_{c}",
+                       type="primary", width="stretch", on_click=_save, args=(c, "choice"),
+                       kwargs={"session": current.session})
         if method == "paired-preference":
-            if st.button("No preference", width="stretch",
-                         key=f"nopref_{current.session}_{current.set_index}"):
-                _save("", "choice", NO_PREFERENCE, session=current.session)
-                st.rerun()
+            st.button("No preference", width="stretch",
+                      key=f"nopref_{current.session}_{current.set_index}", on_click=_save,
+                      args=("", "choice", NO_PREFERENCE), kwargs={"session": current.session})
 
 elif kind == "rate":
     st.markdown(f'<p class="kt-code">{code}</p>', unsafe_allow_html=True)
@@ -124,11 +121,11 @@ elif kind == "rate":
         cols = st.columns(len(points))
         for col, p in zip(cols, points):
             label = str(p)
-            if col.button(label, key=f"score_{current.session}_{code}_{i}_{p}",
-                          type="primary" if have == label else "secondary", width="stretch",
-                          help=anchors[p - attr.low] if len(anchors) == len(points) else None):
-                _save(code, attr.name, label, session=current.session)
-                st.rerun()
+            col.button(label, key=f"score_{current.session}_{code}_{i}_{p}",
+                       type="primary" if have == label else "secondary", width="stretch",
+                       help=anchors[p - attr.low] if len(anchors) == len(points) else None,
+                       on_click=_save, args=(code, attr.name, label),
+                       kwargs={"session": current.session})
 
 else:  # rank
     st.markdown(ballot.instructions)
@@ -142,8 +139,8 @@ else:  # rank
         cols = st.columns(k)
         for col, r in zip(cols, range(1, k + 1)):
             taken = used.get(str(r)) not in (None, c)
-            if col.button(str(r), key=f"rank_{current.session}_{c}_{r}", width="stretch",
-                          type="primary" if have == str(r) else "secondary", disabled=taken):
-                _save(c, "rank", str(r), session=current.session)
-                st.rerun()
+            col.button(str(r), key=f"rank_{current.session}_{c}_{r}", width="stretch",
+                       type="primary" if have == str(r) else "secondary", disabled=taken,
+                       on_click=_save, args=(c, "rank", str(r)),
+                       kwargs={"session": current.session})
     st.caption("Rank 1 = most. Each rank once.")

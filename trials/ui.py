@@ -212,9 +212,10 @@ def select_study(study_id: int) -> None:
 
 
 def changed() -> None:
-    """Call after a write: drops cached reads so that every screen shows the new state."""
+    """Call after a write. Cached reads need nothing: they are keyed on the trial's change
+    stamp (:func:`trials.service.change_stamp`), which every write moves; this counts the
+    session's writes (``rev``), which screens may use to reset their widgets."""
     st.session_state["rev"] = st.session_state.get("rev", 0) + 1
-    _analysis.clear()
 
 
 def show_problem(exc: Exception) -> None:
@@ -228,6 +229,18 @@ def _analysis(url: str | None, study_id: int, stamp: tuple):
     s = _open_store(url)
     result = service.analyse_study(s, study_id)
     return result, service.study_decision(s, study_id, result)
+
+
+@st.cache_resource(show_spinner="Reading the panel's performance...", max_entries=32)
+def _panel_performance(url: str | None, study_id: int, attribute: str, stamp: tuple):
+    del stamp  # part of the cache key only
+    return service.panel_performance_of(_open_store(url), study_id, attribute)
+
+
+def panel_performance(study_id: int, attribute: str):
+    """Per-panelist performance on one attribute, computed once per state of the trial."""
+    stamp = service.change_stamp(store(), study_id)
+    return _panel_performance(os.environ.get("TRIALS_DB"), study_id, attribute, stamp)
 
 
 def analysis(study_id: int):

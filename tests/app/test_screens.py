@@ -211,3 +211,20 @@ def test_a_panelist_link_does_not_open_a_leader_screen(demo_db):
     at = _run("results", study=1, t=token)
     assert [e.value for e in at.error] == ["This link opens a tasting ballot only."]
     assert not at.metric and not at.dataframe
+
+
+def test_the_results_screen_shows_panel_performance_when_asked(demo_db):
+    study_id = _ids(demo_db)["rating"]
+    at = _run("results", study=study_id)
+    assert "Show panel performance" in [t.label for t in at.toggle]
+    n_tables = len(at.dataframe)
+    at.toggle(key="perf_show").set_value(True)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    attribute = at.selectbox(key="perf_attribute").value
+    perf = service.panel_performance_of(service.open_store(demo_db), study_id, attribute)
+    assert len(at.dataframe) == n_tables + 1
+    codes = [p.panelist for p in perf.panelists]
+    shown = [df.value for df in at.dataframe
+             if list(df.value.index) == codes or list(df.value.get("panelist", [])) == codes]
+    assert len(shown) == 1
