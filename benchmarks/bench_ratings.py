@@ -12,6 +12,7 @@ Usage: .venv/bin/python benchmarks/bench_ratings.py [--quick]
 from __future__ import annotations
 
 import argparse
+import os
 import platform
 import time
 import tracemalloc
@@ -83,7 +84,8 @@ def main() -> None:
     parser.add_argument("--quick", action="store_true", help="fewer repeats, smaller statsmodels runs")
     args = parser.parse_args()
     repeat = 2 if args.quick else 5
-    print(f"python {platform.python_version()}, numpy {np.__version__}, pandas {pd.__version__}")
+    print(f"python {platform.python_version()}, numpy {np.__version__}, pandas {pd.__version__}, "
+          f"{os.cpu_count()} cpus, load average {os.getloadavg()[0]:.1f} (shared machine)")
 
     cases = [
         ("block design: 100,000 panelists x 10 samples, 1 rating each", 100_000, 1, None),
