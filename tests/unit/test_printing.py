@@ -836,3 +836,35 @@ def test_every_code_of_a_rating_grid_is_visible_on_the_rendered_page(samples, tm
                     assert gray.crop(box).getextrema()[0] < 80, (t, k)
                     seen.add(t)
     assert seen == codes
+
+
+@pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) missing")
+def test_every_code_on_the_serving_sheet_is_visible_on_the_rendered_page(tmp_path):
+    """The shading of alternate panelists must sit under the cup rows, not hide them.
+
+    Word boxes come from poppler's ``pdftotext -bbox``, independent of the PDF writer."""
+    from PIL import Image
+
+    study = Study("Crumb trial", "triangle",
+                  samples=(Sample("Invented loaf one"), Sample("Invented loaf two")))
+    plan = make_plan(study, panelists=6, sessions=("S1",))
+    result = serving_sheet_pdf(study, plan)
+    pdf = tmp_path / "s.pdf"
+    pdf.write_bytes(result.data)
+    dpi = 100
+    subprocess.run(["pdftoppm", "-png", "-r", str(dpi), "-f", "1", "-l", "1", "-singlefile",
+                    str(pdf), str(tmp_path / "p")], check=True, capture_output=True)
+    subprocess.run(["pdftotext", "-bbox", "-f", "1", "-l", "1", str(pdf),
+                    str(tmp_path / "words.html")], check=True, capture_output=True)
+    words = re.findall(r'xMin="([\d.]+)" yMin="([\d.]+)" xMax="([\d.]+)" yMax="([\d.]+)">'
+                       r"(\d{3})</word>", (tmp_path / "words.html").read_text())
+    codes = {e.code for e in plan}
+    seen = set()
+    with Image.open(tmp_path / "p.png") as im:
+        gray = im.convert("L")
+        for x0, y0, x1, y1, word in words:
+            if word in codes:
+                box = tuple(int(float(v) * dpi / 72) for v in (x0, y0, x1, y1))
+                assert gray.crop(box).getextrema()[0] < 80, word
+                seen.add(word)
+    assert seen == codes

@@ -187,6 +187,7 @@ class _Sheet:
             if groups is not None and groups[i] % 2 == 1:
                 c.setFillColor(SHADE)
                 c.rect(self.left, self.y - h, self.inner, h, stroke=0, fill=1)
+                c.setFillColor(black)  # the row's text object starts from black
             if groups is not None and i and groups[i] != groups[i - 1]:
                 c.setStrokeColor(GREY)
                 c.setLineWidth(0.4)
