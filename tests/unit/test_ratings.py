@@ -282,3 +282,21 @@ def test_the_order_of_the_rows_does_not_change_the_analysis():
     assert a.groups == b.groups
     for s in "ABCD":
         assert a.means[s] == pytest.approx(b.means[s], rel=1e-12)
+
+
+def test_a_missing_cell_with_replicates_gives_type_ii_sums_as_nested_model_differences():
+    # statsmodels' anova_lm(typ=2) is unreliable on a rank-deficient interaction design
+    # (it warns and miscounts df), so compare residual sums of nested OLS fits instead
+    data = _random_ratings(reps=2, seed=5)
+    data = data[~((data["panelist"] == "P01") & (data["sample"] == "B"))].reset_index(drop=True)
+    res = rating_anova(data, replicate="replicate")
+
+    def rss(formula):
+        return smf.ols(formula, data=data).fit().ssr
+
+    full, add = rss("score ~ C(sample) * C(panelist)"), rss("score ~ C(sample) + C(panelist)")
+    assert res.term("sample").ss == pytest.approx(rss("score ~ C(panelist)") - add, rel=1e-9)
+    assert res.term("panelist").ss == pytest.approx(rss("score ~ C(sample)") - add, rel=1e-9)
+    assert res.term("sample:panelist").ss == pytest.approx(add - full, rel=1e-9)
+    assert res.term("error").ss == pytest.approx(full, rel=1e-9)
+    assert res.term("sample:panelist").df == 4 * 8 - 1 - 8 - 4 + 1  # filled cells - b - t + 1
