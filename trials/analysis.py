@@ -665,10 +665,11 @@ def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | Non
     ----------
     summaries : iterable of mappings or records
         Each with some of ``name objective product method decision rationale
-        samples`` (``samples``: names, or records with ``name``).
+        settings samples`` (``samples``: names, or records with ``name``;
+        ``settings``: the batches' process settings as text).
     text : str
         Every word must appear (case-insensitive) in the name, objective, product,
-        decision, rationale or a sample's name. Empty matches all.
+        decision, rationale, settings or a sample's name. Empty matches all.
     method : str or None
         Keep only this method (a registry name).
     decision : str or None
@@ -689,7 +690,8 @@ def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | Non
         samples = _field(s, "samples", ()) or ()
         names = [x if isinstance(x, str) else str(_field(x, "name")) for x in samples]
         hay = " ".join(str(_field(s, f) or "") for f in
-                       ("name", "objective", "product", "decision", "rationale"))
+                       ("name", "objective", "product", "decision", "rationale",
+                        "settings"))
         hay = (hay + " " + " ".join(names)).lower()
         if all(w in hay for w in words):
             out.append(s)

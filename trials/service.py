@@ -2228,3 +2228,61 @@ def write_report(store: Store, study_id: int, path: Path) -> str:
     """Write the trial's HTML report to ``path``; returns the decision's headline."""
     Path(path).write_text(report_html(store, study_id), encoding="utf-8")
     return study_decision(store, study_id).text
+
+
+# ====================================================================== history
+# Trials on file, searched and compared: the next trial starts from the last.
+
+
+def history(store: Store, *, text: str = "", method: str | None = None,
+            decision: str | None = None) -> list[dict[str, Any]]:
+    """The trials on file matching a free text (name, objective, product, decision,
+    rationale, a sample's name, a process setting), a method and a decision
+    (:func:`trials.analysis.search_trials`); one plain row per trial, newest first."""
+    from trials.analysis import search_trials
+
+    rows = []
+    for summary in list_studies(store):
+        study = get_study(store, summary.id)
+        settings = sorted({f"{m.name} {m.value} {m.unit}".strip()
+                           for b in list_batches(store, study.id) for m in b.settings})
+        control = next((x.name for x in study.samples if x.is_control), "")
+        rows.append({
+            "id": study.id, "name": study.name, "method": study.method,
+            "status": study.status.value, "product": study.product,
+            "created_on": study.created_on, "objective": study.objective,
+            "decision": study.decision, "rationale": study.rationale,
+            "samples": [x.name for x in study.samples], "control": control,
+            "settings": "; ".join(settings),
+        })
+    return search_trials(rows, text=text, method=method, decision=decision)
+
+
+def control_names(store: Store) -> list[str]:
+    """The names of the control samples of the trials on file, each once, sorted."""
+    return sorted({r["control"] for r in history(store) if r["control"]})
+
+
+def control_trend(store: Store, control: str, *, attribute: str | None = None):
+    """The control sample's mean scores across the trials that rated it
+    (:func:`trials.analysis.control_trend`): one point per trial and attribute."""
+    from trials.analysis import control_trend as trend
+
+    frames = []
+    for row in history(store):
+        if control not in row["samples"]:
+            continue
+        frame = responses_frame(store, row["id"])
+        if frame.empty or "score" not in frame.columns:
+            continue
+        scored = frame[frame["sample"] == control].dropna(subset=["score"])
+        if scored.empty:
+            continue
+        frames.append(pd.DataFrame({
+            "study": row["name"], "date": str(row["created_on"] or ""),
+            "sample": scored["sample"], "attribute": scored["attribute"],
+            "score": scored["score"],
+        }))
+    if not frames:
+        return ()
+    return trend(pd.concat(frames, ignore_index=True), control=control, attribute=attribute)

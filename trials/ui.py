@@ -31,6 +31,7 @@ LEADER_PAGES: tuple[tuple[str, str, str], ...] = (
     ("entry", "Paper entry", ":material/edit_note:"),
     ("results", "Results", ":material/monitoring:"),
     ("decision", "Decision and report", ":material/gavel:"),
+    ("history", "History", ":material/manage_search:"),
 )
 
 

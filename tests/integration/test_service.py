@@ -299,3 +299,30 @@ def test_a_trial_keeps_its_aim_and_refuses_an_unknown_one(db_url):
     with pytest.raises(TrialsError, match="'same'"):
         svc.update_study(store, study.id, by="leader", aim="same")
     assert svc.get_study(store, study.id).aim == "difference"
+
+
+def test_history_finds_trials_by_sample_setting_and_method(sqlite_url):
+    from trials import service as svc
+
+    store = svc.open_store(sqlite_url)
+    svc.seed_demo(store)
+    names = lambda rows: sorted(r["name"] for r in rows)  # noqa: E731
+    assert names(svc.history(store, text="fryer temperature")) == ["Fried chicken: four coatings"]
+    assert names(svc.history(store, text="short proof")) == [
+        "Brioche bun: usual proof vs short proof"]
+    assert names(svc.history(store, method="paired-preference")) == [
+        "Chilled tomato soup: roasted vs fresh tomatoes"]
+    assert svc.history(store, text="no such word anywhere") == []
+
+
+def test_the_control_trend_averages_the_controls_scores_per_attribute(sqlite_url):
+    from trials import service as svc
+
+    store = svc.open_store(sqlite_url)
+    svc.seed_demo(store)
+    frame = svc.responses_frame(store, 2)
+    points = svc.control_trend(store, "Plain flour dredge", attribute="crispness")
+    assert len(points) == 1
+    mine = frame[(frame["sample"] == "Plain flour dredge") & (frame["attribute"] == "crispness")]
+    assert points[0].n == len(mine)
+    assert points[0].mean == pytest.approx(mine["score"].astype(float).mean())
