@@ -24,12 +24,15 @@ if not overview.plan_size:
     st.stop()
 
 sessions = list(overview.sessions)
-c1, c2 = st.columns([1, 3])
-session = c1.selectbox("Session", sessions, index=len(sessions) - 1) if len(sessions) > 1 \
-    else sessions[0]
+if len(sessions) > 1:
+    c1, c2 = st.columns([1, 3])
+    session = c1.selectbox("Session", sessions, index=len(sessions) - 1)
+else:
+    c2, session = st.container(), sessions[0]
 base = service.paper_sheet(store, study_id, session)
 panelists = sorted(base["panelist"].unique())
-who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}")
+who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}",
+                            help="Type a panelist code to enter one ballot at a time.")
 if who_filter:
     base = base[base["panelist"].isin(who_filter)].reset_index(drop=True)
 

@@ -48,6 +48,7 @@ else:
         key="trial_table",
         column_config={"id": st.column_config.NumberColumn("id", width="small")},
     )
+    st.caption("Tick a row to work on that trial on the other screens.")
     rows = picked.selection.rows if picked else []
     if rows:
         chosen = studies[rows[0]]

@@ -23,9 +23,11 @@ if not result.has_answers:
     st.stop()
 
 with st.container(border=True):
-    st.markdown(f"### {decision.headline}")
-    for line in decision.details:
-        st.markdown(f"- {line}")
+    st.markdown(f"#### {decision.headline}")
+    if decision.details:
+        with st.expander("The evidence, point by point", expanded=len(decision.details) <= 3):
+            for line in decision.details:
+                st.markdown(f"- {line}")
     if decision.limits:
         st.caption(" ".join(decision.limits))
     st.caption(f"Method: {decision.method}. Source: {decision.reference}.")
@@ -75,7 +77,9 @@ if result.choice is not None:
                 {"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0], "high": diff.pd_ci[1]},
                 {"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
                  "high": diff.dprime_ci[1]},
-            ]), hide_index=True, width="stretch")
+            ]), hide_index=True, width="stretch", column_config={
+                c: st.column_config.NumberColumn(c, format="%.2f") for c in ("value", "low", "high")
+            })
             st.caption(f"Intervals: {diff.ci_method}, {diff.level:.0%}.")
         ui.count_chart(diff.correct, diff.n, diff.critical, guess=diff.guess,
                        label=label)
@@ -109,15 +113,22 @@ if result.attributes:
             with c1:
                 st.markdown("**Analysis of variance**")
                 st.dataframe(pd.DataFrame([r.to_dict() for r in av.anova]), hide_index=True,
-                             width="stretch",
-                             column_config={"p": st.column_config.NumberColumn(format="%.4f")})
+                             width="stretch", column_config={
+                                 "df": st.column_config.NumberColumn(format="%g"),
+                                 "ss": st.column_config.NumberColumn(format="%.3f"),
+                                 "ms": st.column_config.NumberColumn(format="%.3f"),
+                                 "F": st.column_config.NumberColumn(format="%.2f"),
+                                 "p": st.column_config.NumberColumn(format="%.4f"),
+                             })
             with c2:
                 st.markdown("**Means**")
                 st.dataframe(pd.DataFrame([{
                     "sample": s, "mean": av.means[s], "low": av.ci[s][0], "high": av.ci[s][1],
                     "n": av.n[s], "group": av.groups.get(s, ""),
                 } for s in av.samples]).sort_values("mean", ascending=False),
-                    hide_index=True, width="stretch")
+                    hide_index=True, width="stretch", column_config={
+                        c: st.column_config.NumberColumn(format="%.2f")
+                        for c in ("mean", "low", "high")})
             st.caption(f"{av.method}. Tukey HSD = {av.hsd:.3f}; samples sharing a letter do "
                        "not differ at alpha.")
             if at.penalty is not None:

@@ -69,6 +69,8 @@ if not open_steps:
                "Please hand the tablet back to the panel leader.", icon=":material/check_circle:")
     st.stop()
 
+st.caption("If you have an allergy, feel unwell or want to stop, tell the panel leader at "
+           "once. You may stop at any time.")
 index = open_steps[0]
 kind, current, pos, code, _ = steps[index]
 st.progress(index / len(steps), text=f"Step {index + 1} of {len(steps)}")

@@ -39,12 +39,13 @@ def _wait_text(page, text: str) -> None:
 
 
 def _settled(page) -> None:
-    """Wait until the app has finished its run (no status widget, no skeletons)."""
+    """Wait until the app's script run has finished and nothing is still loading."""
     page.wait_for_function(
-        "() => !document.querySelector('[data-testid=\"stStatusWidget\"]')"
-        " && !document.querySelector('[data-testid=\"stSkeleton\"]')",
+        "() => { const app = document.querySelector('[data-testid=\"stApp\"]');"
+        " return app && app.getAttribute('data-test-script-state') === 'notRunning'"
+        " && !document.querySelector('[data-testid=\"stSkeleton\"]'); }",
         timeout=TIMEOUT)
-    page.wait_for_timeout(250)
+    page.wait_for_timeout(400)  # charts and tables paint after the run ends
 
 
 def _body(page) -> str:
@@ -134,3 +135,24 @@ def test_leader_screens_refuse_without_the_passcode(tmp_path, browser, shots):
     finally:
         proc.terminate()
         proc.wait(timeout=10)
+
+
+@pytest.mark.parametrize("method", ["triangle", "rating"])
+def test_every_leader_screen_opens_in_the_browser_without_an_error(app_server, browser, shots,
+                                                                   method):
+    from trials import ui
+
+    url, db = app_server
+    store = service.open_store(db)
+    study_id = next(s.id for s in service.list_studies(store) if s.method == method)
+    # tall, so that a screenshot holds the whole screen (the app scrolls inside itself)
+    context = browser.new_context(viewport={"width": 1366, "height": 2600})
+    page = context.new_page()
+    for i, (name, title, _) in enumerate(ui.LEADER_PAGES):
+        path = "" if i == 0 else name  # the default page is served at the root
+        page.goto(f"{url}/{path}?study={study_id}")
+        page.get_by_text("Single-user mode").first.wait_for(timeout=TIMEOUT)
+        _settled(page)
+        page.screenshot(path=shots / f"{i}-{name}.png", full_page=True)
+        assert page.locator("[data-testid='stException']").count() == 0, name
+    context.close()
