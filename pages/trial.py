@@ -4,7 +4,7 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import METHODS, get_method
+from trials.methods import METHODS, Family, get_method
 from trials.model import Status
 
 ui.require_leader()
@@ -29,6 +29,16 @@ with st.form("setup"):
         disabled=overview.plan_size > 0,
         help="Fixed once a serving plan is drawn." if overview.plan_size else spec.reference,
     )
+    aims = ["difference", "similarity"]
+    aim = study.aim
+    if get_method(method).family == Family.DISCRIMINATION:
+        aim = st.radio(
+            "What the test must show", aims, horizontal=True,
+            index=aims.index(study.aim) if study.aim in aims else 0,
+            format_func={"difference": "a difference (are the samples told apart?)",
+                         "similarity": "similarity (are they close enough to swap?)"}.get,
+            help="A similarity aim is tested at beta and pd; keep beta small for it.",
+        )
     c1, c2, c3 = st.columns(3)
     alpha = c1.number_input("alpha (risk of a false difference)", 0.001, 0.5,
                             float(study.alpha), 0.01, format="%.3f")
@@ -51,6 +61,8 @@ with st.form("setup"):
 if saved:
     changes = dict(name=name, product=product, objective=objective, alpha=alpha, beta=beta,
                    pd=pd_value, delta=delta)
+    if aim:
+        changes["aim"] = aim
     if not overview.plan_size:
         changes["method"] = method
     try:

@@ -228,3 +228,26 @@ def test_the_results_screen_shows_panel_performance_when_asked(demo_db):
     shown = [df.value for df in at.dataframe
              if list(df.value.index) == codes or list(df.value.get("panelist", [])) == codes]
     assert len(shown) == 1
+
+
+def test_the_set_up_screen_saves_the_risks_and_the_aim(small_trials):
+    store, study_id = small_trials["store"], small_trials["triangle"]
+    at = _run("trial", study=study_id)
+    by_label(at.radio, "What the test must show").set_value("similarity")
+    by_label(at.number_input, "beta (risk of missing the difference)").set_value(0.05)
+    by_label(at.number_input, "pd: proportion of discriminators that matters").set_value(0.25)
+    by_label(at.button, "Save the set-up").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    study = service.get_study(store, study_id)
+    assert (study.aim, study.beta, study.pd) == ("similarity", 0.05, 0.25)
+    answer = service.planning_answer(store, study_id)
+    assert by_label(at.metric, "You need").value == f"{answer.n} assessors"
+
+
+def test_the_decision_screen_prepares_the_report_for_download(demo_db):
+    at = _run("decision", study=_ids(demo_db)["triangle"])
+    by_label(at.button, "Prepare the report").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert "Download the report (HTML)" in [b.label for b in at.download_button]

@@ -92,9 +92,50 @@ def test_a_panelist_link_opens_the_tasting_screen_alone_through_the_entry_script
     assert "Trials" not in [t.value for t in at.title]
 
 
-def test_the_link_listed_by_study_show_opens_this_screen(small_trials):
-    store, study_id = small_trials["store"], small_trials["triangle"]
-    path = service.study_overview(store, study_id).links["T05"]
+def test_the_link_listed_by_study_show_opens_this_screen(small_trials, capsys):
+    import json
+
+    from trials.cli import main
+
+    study_id = small_trials["triangle"]
+    assert main(["study", "show", str(study_id), "--json"]) == 0
+    path = json.loads(capsys.readouterr().out)["study"]["links"]["T05"]
     assert path.startswith("/taste?t=")
     at = _open(path.split("t=", 1)[1])
     assert "Panelist T05" in page_text(at)
+
+
+def test_a_ranking_ballot_saves_each_rank_and_offers_each_rank_once(small_trials):
+    store = small_trials["store"]
+    study = service.create_study(store, name="Granola: three sweetness levels", method="ranking",
+                                 samples=["Granola low sugar", "Granola mid sugar",
+                                          "Granola high sugar"])
+    service.draw_plan(store, study.id, panelist_codes=["T01", "T02"], seed=4)
+    cups = [e.code for e in sorted(service.plan(store, study.id), key=lambda e: e.position)
+            if e.panelist_code == "T02"]
+    at = _open(_token(store, study.id, "T02"))
+    at.button(key=f"rank_1_{cups[0]}_1").click()
+    at.run()
+    assert at.button(key=f"rank_1_{cups[1]}_1").disabled  # rank 1 is taken
+    at.button(key=f"rank_1_{cups[1]}_3").click()
+    at.run()
+    at.button(key=f"rank_1_{cups[2]}_2").click()
+    at.run()
+    got = sorted((r.code, r.value) for r in service.responses(store, study.id))
+    assert got == sorted([(cups[0], "1"), (cups[1], "3"), (cups[2], "2")])
+    assert any("Thank you, you are done." in s.value for s in at.success)
+    assert not any(n in page_text(at) for n in _sample_names(store, study.id))
+
+
+def test_a_paired_preference_ballot_accepts_no_preference(small_trials):
+    store = small_trials["store"]
+    study = service.create_study(store, name="Lemonade: two sugars", method="paired-preference",
+                                 samples=["Cane sugar lemonade", "Honey lemonade"])
+    service.draw_plan(store, study.id, panelist_codes=["T01", "T02"], seed=9)
+    at = _open(_token(store, study.id, "T01"))
+    assert "No preference" in [b.label for b in at.button]
+    next(b for b in at.button if b.label == "No preference").click()
+    at.run()
+    assert [(r.code, r.value) for r in service.responses(store, study.id)] == [
+        ("", "no preference")]
+    assert any("Thank you, you are done." in s.value for s in at.success)
