@@ -83,14 +83,21 @@ if spec.family == Family.RATING:
 # ------------------------------------------------------------------ batches
 st.subheader("Test batches")
 batches = service.list_batches(store, study_id)
+
+
+def _value(m) -> str:
+    text = f"{m.value:g}" if isinstance(m.value, float) else str(m.value)
+    return f"{m.name} {text} {m.unit}".strip()
+
+
 if batches:
     rows = []
     for b in batches:
         rows.append({
             "sample": b.sample_name, "batch": b.label, "prepared on": b.prepared_on,
             "by": b.prepared_by,
-            "settings": "; ".join(f"{m.name} {m.value} {m.unit}".strip() for m in b.settings),
-            "measured": "; ".join(f"{m.name} {m.value} {m.unit}".strip() for m in b.measures),
+            "settings": "; ".join(_value(m) for m in b.settings),
+            "measured": "; ".join(_value(m) for m in b.measures),
             "signed off": (f"{b.safety_signed_by} on {b.safety_signed_on}" if b.signed_off
                            else "not yet"),
         })

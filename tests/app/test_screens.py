@@ -251,3 +251,54 @@ def test_the_decision_screen_prepares_the_report_for_download(demo_db):
     at.run()
     assert not at.exception, [e.message for e in at.exception]
     assert "Download the report (HTML)" in [b.label for b in at.download_button]
+
+
+def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials):
+    store, study_id = small_trials["store"], small_trials["rating"]
+    at = _run("samples", study=study_id)
+    by_label(at.selectbox, "Sample").select("Einkorn flatbread")
+    by_label(at.text_input, "Batch label").input("E1")
+    at.session_state["batch_values"] = {
+        "edited_rows": {"0": {"name": "oven temperature", "value": "260", "unit": "°C"},
+                        "1": {"name": "moisture", "value": "31.5", "unit": "%"}},
+        "added_rows": [], "deleted_rows": [],
+    }
+    by_label(at.button, "Record the batch").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    (batch,) = service.list_batches(store, study_id)
+    assert (batch.sample_name, batch.label, batch.signed_off) == ("Einkorn flatbread", "E1", False)
+    assert [(m.name, m.value, m.unit) for m in batch.settings] == [("oven temperature", 260.0, "°C")]
+    assert [(m.name, m.value, m.unit) for m in batch.measures] == [("moisture", 31.5, "%")]
+    assert any("not signed off" in w.value for w in at.warning)
+    by_label(at.text_input, "Signed off by").input("Head chef on duty")
+    by_label(at.button, "Sign off").click()
+    at.run()
+    (batch,) = service.list_batches(store, study_id)
+    assert batch.safety_signed_by == "Head chef on duty"
+    assert not any("not signed off" in w.value for w in at.warning)
+
+
+def test_a_roster_file_imported_on_the_panel_screen_adds_its_panelists(app_db):
+    at = _run("panel")
+    csv = b"code,allergens,consent_on\nK01,sesame;egg,2026-03-01\nK02,,\n"
+    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.run()
+    by_label(at.button, "Import the roster").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert [s.value for s in at.success] == ["2 panelists imported."]
+    roster = {p.code: p for p in service.list_panelists(service.open_store(app_db))}
+    assert set(roster["K01"].allergens) == {"sesame", "egg"}
+    assert roster["K01"].consented and not roster["K02"].consented
+
+
+def test_a_bad_roster_file_names_the_row_and_imports_nothing(app_db):
+    at = _run("panel")
+    csv = b"code,consent_on\nK01,2026-03-01\nK02,first of March\n"
+    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.run()
+    by_label(at.button, "Import the roster").click()
+    at.run()
+    assert any("row 3" in e.value for e in at.error)
+    assert service.list_panelists(service.open_store(app_db)) == []
