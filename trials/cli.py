@@ -207,6 +207,7 @@ def app_command(port: int | None, host: str | None, db: str | None, demo: bool) 
     entry = Path(__file__).with_name("app.py")
     cmd = [sys.executable, "-m", "streamlit", "run", str(entry)]
     cmd += ["--browser.gatherUsageStats", "false"]
+    cmd += ["--client.toolbarMode", "minimal"]  # no developer menu on kitchen tablets
     if not os.environ.get("DISPLAY") or os.environ.get("CI"):
         cmd += ["--server.headless", "true"]
     if port:

@@ -141,7 +141,8 @@ def food_caution(study_id: int | None = None) -> None:
                 f"- panelist **{c.panelist_code}**: {c.sample_name} holds {', '.join(c.allergens)}"
                 for c in conflicts
             )
-            st.warning(f"Allergen conflicts: do not serve these cups.\n{lines}",
+            st.warning("Allergen conflicts: these panelists declared an allergen that a "
+                       f"sample holds and must not be served it.\n{lines}",
                        icon=":material/warning:")
         unsigned = [b for b in service.list_batches(store(), study_id) if not b.signed_off]
         if unsigned:

@@ -302,3 +302,25 @@ def test_a_bad_roster_file_names_the_row_and_imports_nothing(app_db):
     at.run()
     assert any("row 3" in e.value for e in at.error)
     assert service.list_panelists(service.open_store(app_db)) == []
+
+
+def test_the_plan_screen_warns_of_an_allergen_conflict_and_leaves_that_panelist_out(
+        small_trials):
+    import datetime as dt
+
+    from trials.model import Sample
+
+    store = small_trials["store"]
+    service.add_panelist(store, "T07", allergens="sesame", consent_on=dt.date(2026, 1, 5))
+    study = service.create_study(store, name="Hummus: two tahinis", method="triangle",
+                                 samples=[Sample("Light tahini hummus", allergens=("sesame",)),
+                                          Sample("Dark tahini hummus", allergens=("sesame",))])
+    at = _run("plan", study=study.id)
+    warned = [w.value for w in at.warning if "Allergen conflicts" in w.value]
+    assert len(warned) == 1 and "T07" in warned[0]
+    assert "T07" not in by_label(at.multiselect, "Panelists (consent recorded)").value
+    by_label(at.button, "Draw the plan").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert "T07" not in {e.panelist_code for e in service.plan(store, study.id)}
+    assert service.plan(store, study.id)
