@@ -1614,20 +1614,7 @@ def audit_log(store: Store, study_id: int) -> list[AuditEntry]:
 def _read_rows(path: str | Path | bytes, name: str = "") -> pd.DataFrame:
     from trials.tabular import read_table
 
-    if isinstance(path, (str, Path)):
-        p = Path(path)
-        name = name or p.name
-        try:
-            raw = p.read_bytes()
-        except OSError as exc:
-            raise TrialsError(f"cannot read {str(p)!r}: {exc.strerror}") from None
-    else:
-        raw = path
-    is_excel = name.lower().endswith((".xlsx", ".xlsm"))
-    if not is_excel and (raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw[:4096]):
-        raise TrialsError(f"{name or 'the file'}: the text looks like UTF-16; save it as "
-                          "CSV UTF-8 (or Windows-1252) and import again")
-    return read_table(raw, name=name or "upload.csv")
+    return read_table(path, name=name or ("" if isinstance(path, (str, Path)) else "upload.csv"))
 
 
 def _require_columns(frame: pd.DataFrame, required: Sequence[str]) -> None:

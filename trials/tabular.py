@@ -43,7 +43,11 @@ def read_table(source: str | Path | bytes, *, name: str = "") -> pd.DataFrame:
     else:
         raw = source
     label = name or "the file"
-    if name.lower().endswith((".xlsx", ".xlsm")):
+    is_excel = name.lower().endswith((".xlsx", ".xlsm"))
+    if not is_excel and (raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw[:4096]):
+        raise TrialsError(f"{label}: the text looks like UTF-16; save it as CSV UTF-8 "
+                          "(or Windows-1252) and import again")
+    if is_excel:
         try:
             frame = pd.read_excel(io.BytesIO(raw), dtype=str, keep_default_na=False)
         except Exception as exc:  # openpyxl raises many kinds
