@@ -11,7 +11,6 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import shutil
 import subprocess
 import sys
 from collections.abc import Callable, Sequence
@@ -202,7 +201,7 @@ def _demo(args: argparse.Namespace) -> dict[str, Any]:
     return {"studies": [s.to_dict() for s in service.seed_demo(_store(args))]}
 
 
-def app_command(port: int | None, host: str | None, db: str | None, demo: bool) -> list[str]:
+def app_command(port: int | None = None, host: str | None = None) -> list[str]:
     """The ``streamlit run`` command line that serves the app."""
     entry = Path(__file__).with_name("app.py")
     cmd = [sys.executable, "-m", "streamlit", "run", str(entry)]
@@ -226,9 +225,7 @@ def _app(args: argparse.Namespace) -> dict[str, Any]:
     env = dict(os.environ)
     if args.db:
         env["TRIALS_DB"] = args.db
-    cmd = app_command(args.port, args.host, args.db, args.demo)
-    if shutil.which(cmd[0]) is None and not Path(cmd[0]).exists():
-        raise TrialsError(f"cannot find the Python interpreter {cmd[0]!r}")
+    cmd = app_command(args.port, args.host)
     try:
         code = subprocess.call(cmd, env=env)
     except KeyboardInterrupt:

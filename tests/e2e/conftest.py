@@ -47,7 +47,7 @@ def start_app(tmp_path: Path, *, passcode: str | None = None, demo: bool = True)
         env["TRIALS_PASSCODE"] = passcode
     from trials.cli import app_command
 
-    cmd = app_command(port, "127.0.0.1", db, False)
+    cmd = app_command(port, "127.0.0.1")
     if "--server.headless" not in cmd:
         cmd += ["--server.headless", "true"]
     log = open(tmp_path / "server.log", "wb")
