@@ -13,10 +13,11 @@ from __future__ import annotations
 
 import os
 import random
+import threading
 import time
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager
-from dataclasses import dataclass
+from contextlib import contextmanager, nullcontext
+from dataclasses import dataclass, field
 from typing import TypeVar
 
 import sqlalchemy as sa
@@ -89,6 +90,10 @@ class Store:
     engine: Engine
     _read: sessionmaker
     _write: sessionmaker
+    # SQLite has one writer at a time; writers of this process queue on this lock in
+    # turn instead of in SQLite's busy handler, whose sleeps grow to 100 ms. Other
+    # processes still meet the busy timeout.
+    _write_lock: threading.Lock | None = field(default=None, repr=False)
 
     @property
     def dialect(self) -> str:
@@ -112,22 +117,20 @@ class Store:
         """
         attempt = 0
         while True:
-            session = self._write()
-            try:
-                result = work(session)
-                session.commit()
-                return result
-            except (OperationalError, IntegrityError, DBAPIError) as exc:
-                session.rollback()
-                attempt += 1
-                if attempt > retries or not _retryable(exc):
+            with self._write_lock or nullcontext(), self._write() as session:
+                try:
+                    result = work(session)
+                    session.commit()
+                    return result
+                except (OperationalError, IntegrityError, DBAPIError) as exc:
+                    session.rollback()
+                    attempt += 1
+                    if attempt > retries or not _retryable(exc):
+                        raise
+                except BaseException:
+                    session.rollback()
                     raise
-                time.sleep(min(0.5, 0.01 * 2**attempt) * (0.5 + random.random()))
-            except BaseException:
-                session.rollback()
-                raise
-            finally:
-                session.close()
+            time.sleep(min(0.5, 0.01 * 2**attempt) * (0.5 + random.random()))
 
     def close(self) -> None:
         self.engine.dispose()
@@ -173,6 +176,7 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
         engine=engine,
         _read=sessionmaker(engine, expire_on_commit=False),
         _write=sessionmaker(writer, expire_on_commit=False),
+        _write_lock=threading.Lock() if engine.dialect.name == "sqlite" else None,
     )
     _migrate(store)
     return store
