@@ -35,5 +35,9 @@ if ui.panelist_token():
         position="hidden",
     )
 else:
-    navigation = st.navigation(ui.leader_pages(_page))
+    # Before the passcode the menu is hidden, so it does not even list the screens; a
+    # deep link still opens its page, whose own check shows the gate.
+    navigation = st.navigation(
+        ui.leader_pages(_page), position="sidebar" if ui.leader_unlocked() else "hidden"
+    )
 navigation.run()

@@ -115,6 +115,12 @@ def _leader_gate() -> None:
     st.stop()
 
 
+def leader_unlocked() -> bool:
+    """True where the leader screens may be listed: single-user mode, or the passcode
+    given in this browser session."""
+    return configured_passcode() is None or bool(st.session_state.get("leader_ok"))
+
+
 def require_panelist():
     """The ballot that this page's token opens; stops the page for a bad token."""
     token = panelist_token()

@@ -8,7 +8,7 @@ import datetime as dt
 import pytest
 
 from tests.e2e.conftest import start_app
-from trials import service
+from trials import service, ui
 from trials.model import Attribute, Sample
 
 pytestmark = pytest.mark.browser
@@ -156,3 +156,25 @@ def test_every_leader_screen_opens_in_the_browser_without_an_error(app_server, b
         page.screenshot(path=shots / f"{i}-{name}.png", full_page=True)
         assert page.locator("[data-testid='stException']").count() == 0, name
     context.close()
+
+
+def test_the_locked_app_lists_no_screen_names_before_the_passcode(tmp_path, browser, shots):
+    url, proc, _db = start_app(tmp_path, passcode="rye-and-caraway")
+    try:
+        context = browser.new_context(viewport={"width": 1280, "height": 900})
+        page = context.new_page()
+        page.goto(url + "/")
+        page.get_by_label("Leader passcode").wait_for(timeout=TIMEOUT)
+        _settled(page)
+        page.screenshot(path=shots / "locked.png")
+        body = _body(page)
+        for _name, title, _icon in ui.LEADER_PAGES[1:]:
+            assert title not in body
+        page.get_by_label("Leader passcode").fill("rye-and-caraway")
+        page.get_by_role("button", name="Open").click()
+        page.get_by_text("Serving plan").first.wait_for(timeout=TIMEOUT)
+        assert "Serving plan" in _body(page)
+        context.close()
+    finally:
+        proc.terminate()
+        proc.wait(timeout=10)
