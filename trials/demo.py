@@ -39,7 +39,8 @@ BY = "demo (Harbour Lane Test Kitchen)"
 BRIOCHE = "Brioche bun: usual proof vs short proof"
 COATINGS = "Fried chicken: four coatings"
 SOUP = "Chilled tomato soup: roasted vs fresh tomatoes"
-NAMES = (BRIOCHE, COATINGS, SOUP)
+CRUMB = "Fried chicken: house dredge vs panko crumb"
+NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB)
 
 HEDONIC_9 = (
     "Dislike extremely", "Dislike very much", "Dislike moderately", "Dislike slightly",
@@ -173,6 +174,23 @@ def _brioche(store) -> int:
     return study.id
 
 
+def _scores(entries, codes, attributes, samples, effects, base, rng, *, paper=()):
+    """Invented scores: a base level, the sample's effect, a panelist's own offset per
+    attribute and noise, rounded onto the scale; one response row per cup and attribute."""
+    index = {s.name: i for i, s in enumerate(samples)}
+    panel = {c: rng.normal(0, 0.7, size=len(attributes)) for c in codes}
+    rows = []
+    for e in sorted(entries, key=lambda e: (e.panelist_code, e.position)):
+        for j, attr in enumerate(attributes):
+            mu = base[attr.name] + effects[attr.name][index[e.sample_name]]
+            score = mu + panel[e.panelist_code][j] + rng.normal(0, 0.8)
+            score = int(np.clip(np.rint(score), attr.low, attr.high))
+            rows.append({"session": "1", "panelist": e.panelist_code, "code": e.code,
+                         "attribute": attr.name, "value": str(score),
+                         "mode": "paper" if e.panelist_code in paper else "tablet"})
+    return rows
+
+
 def _coatings(store) -> int:
     from trials import service
 
@@ -205,18 +223,8 @@ def _coatings(store) -> int:
     codes = _eligible(COATING_SAMPLES, 12)
     entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=1949,
                                 by=BY)
-    rng = np.random.default_rng(8587)
-    index = {s.name: i for i, s in enumerate(COATING_SAMPLES)}
-    panel = {c: rng.normal(0, 0.7, size=3) for c in codes}
-    rows = []
-    for e in sorted(entries, key=lambda e: (e.panelist_code, e.position)):
-        for j, attr in enumerate(attributes):
-            mu = BASE[attr.name] + EFFECTS[attr.name][index[e.sample_name]]
-            score = mu + panel[e.panelist_code][j] + rng.normal(0, 0.8)
-            score = int(np.clip(np.rint(score), attr.low, attr.high))
-            rows.append({"session": "1", "panelist": e.panelist_code, "code": e.code,
-                         "attribute": attr.name, "value": str(score),
-                         "mode": "paper" if e.panelist_code in ("P03", "P08") else "tablet"})
+    rows = _scores(entries, codes, attributes, COATING_SAMPLES, EFFECTS, BASE,
+                   np.random.default_rng(8587), paper=("P03", "P08"))
     _import(store, study.id, rows, dt.datetime(2026, 4, 16, 12, 0))
     service.set_status(store, study.id, Status.TASTING, by=BY)
     return study.id
@@ -261,11 +269,55 @@ def _soup(store) -> int:
     return study.id
 
 
+def _crumb(store) -> int:
+    """An earlier trial with the same control as the coatings trial, so that the
+    history screen can follow the control across trials."""
+    from trials import service
+
+    samples = (COATING_SAMPLES[0],
+               Sample("Panko crumb", allergens=("gluten", "egg"),
+                      description="Flour, egg wash, panko crumb."))
+    attributes = (
+        Attribute("overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9),
+        Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
+    )
+    study = service.create_study(
+        store, name=CRUMB, method="rating", product="fried chicken thigh",
+        objective="Is a panko crumb worth its extra step against the house dredge?",
+        alpha=0.05, delta=1.0, samples=samples, attributes=attributes,
+        created_on=dt.date(2025, 11, 18), by=BY,
+    )
+    for name, minutes, oil in ((samples[0].name, 12.0, 9.5), (samples[1].name, 12.5, 12.1)):
+        service.add_batch(
+            store, study.id, name, "K1", prepared_on=dt.date(2025, 11, 19),
+            prepared_by="Hot line",
+            settings=[("fryer temperature", 175, "°C"), ("fry time", minutes, "min")],
+            measures=[("core temperature", 78.0, "°C"), ("oil uptake", oil, "%")],
+            by=BY,
+        )
+        service.sign_off_batch(store, study.id, name, "K1", by="Sous chef (food safety)",
+                               on=dt.date(2025, 11, 19))
+    codes = _eligible(samples, 12)
+    entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=1118,
+                                by=BY)
+    rows = _scores(entries, codes, attributes, samples,
+                   {"overall liking": (0.0, 0.3), "crispness": (0.0, 1.4)},
+                   {"overall liking": 5.6, "crispness": 4.4}, np.random.default_rng(1118))
+    _import(store, study.id, rows, dt.datetime(2025, 11, 19, 12, 0))
+    service.record_decision(
+        store, study.id, "Keep the plain flour dredge.",
+        "The crumb was crisper but not liked more; the extra step is not worth it.",
+        by="Head of development",
+    )
+    return study.id
+
+
 def seed(store) -> list[int]:
     """Add the demo roster and trials that are missing; the demo trials' ids."""
     _roster(store)
     ids = []
-    for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup)):
+    for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup),
+                       (CRUMB, _crumb)):
         found = _exists(store, name)
         ids.append(found if found is not None else make(store))
     return ids

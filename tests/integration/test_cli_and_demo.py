@@ -32,12 +32,12 @@ def demo_url(tmp_path_factory):
     return url
 
 
-def test_the_demo_seeds_three_trials_once(demo_url):
+def test_the_demo_seeds_its_four_trials_once(demo_url):
     store = service.open_store(demo_url)
     first = service.list_studies(store)
     again = service.seed_demo(store)
     assert sorted(s.id for s in again) == sorted(s.id for s in first)
-    assert len(service.list_studies(store)) == 3
+    assert len(service.list_studies(store)) == 4
     assert len(service.list_panelists(store)) == 30
     for s in first:
         assert all(b.signed_off for b in service.list_batches(store, s.id))
@@ -58,7 +58,7 @@ def test_the_demo_triangle_shows_a_difference_by_the_exact_binomial_test(demo_ur
 
 def test_the_demo_coatings_differ_in_crispness_but_not_in_saltiness(demo_url):
     store = service.open_store(demo_url)
-    sid = next(s.id for s in service.list_studies(store) if s.method == "rating")
+    sid = next(s.id for s in service.list_studies(store) if s.name == demo.COATINGS)
     frame = service.responses_frame(store, sid)
     assert frame["panelist"].nunique() == 12 and frame["sample"].nunique() == 4
     p = {}
@@ -94,7 +94,7 @@ def test_the_cli_seeds_lists_shows_exports_and_imports_a_trial(tmp_path, capsys)
     listed = json.loads(out)["studies"]
     assert code == 0 and {s["id"] for s in listed} == {s["id"] for s in seeded}
     assert {"id", "name", "method", "status"} <= set(listed[0])
-    sid = next(s["id"] for s in listed if s["method"] == "rating")
+    sid = next(s["id"] for s in listed if s["name"] == demo.COATINGS)
     code, out, _ = _run(capsys, "study", "show", str(sid), "--db", url, "--json")
     shown = json.loads(out)["study"]
     assert (shown["panelists"], shown["plan_size"], shown["responses"]) == (12, 48, 144)
@@ -112,7 +112,7 @@ def test_a_bad_import_on_the_cli_exits_2_naming_each_bad_row(tmp_path, capsys):
     url = f"sqlite:///{tmp_path / 'cli.db'}"
     _run(capsys, "demo", "--db", url, "--json")
     store = service.open_store(url)
-    sid = next(s.id for s in service.list_studies(store) if s.method == "rating")
+    sid = next(s.id for s in service.list_studies(store) if s.name == demo.COATINGS)
     e = service.plan(store, sid)[0]
     before = len(service.responses(store, sid))
     bad = tmp_path / "bad.csv"

@@ -307,7 +307,8 @@ def test_history_finds_trials_by_sample_setting_and_method(sqlite_url):
     store = svc.open_store(sqlite_url)
     svc.seed_demo(store)
     names = lambda rows: sorted(r["name"] for r in rows)  # noqa: E731
-    assert names(svc.history(store, text="fryer temperature")) == ["Fried chicken: four coatings"]
+    assert names(svc.history(store, text="fryer temperature")) == [
+        "Fried chicken: four coatings", "Fried chicken: house dredge vs panko crumb"]
     assert names(svc.history(store, text="short proof")) == [
         "Brioche bun: usual proof vs short proof"]
     assert names(svc.history(store, method="paired-preference")) == [
@@ -322,7 +323,9 @@ def test_the_control_trend_averages_the_controls_scores_per_attribute(sqlite_url
     svc.seed_demo(store)
     frame = svc.responses_frame(store, 2)
     points = svc.control_trend(store, "Plain flour dredge", attribute="crispness")
-    assert len(points) == 1
+    assert [p.study for p in points] == ["Fried chicken: house dredge vs panko crumb",
+                                         "Fried chicken: four coatings"]
+    points = points[1:]
     mine = frame[(frame["sample"] == "Plain flour dredge") & (frame["attribute"] == "crispness")]
     assert points[0].n == len(mine)
     assert points[0].mean == pytest.approx(mine["score"].astype(float).mean())
