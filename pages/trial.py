@@ -92,6 +92,14 @@ if spec.is_forced_choice:
         with st.expander("Power against the number of assessors", icon=":material/show_chart:"):
             ui.power_chart(study.method, pd=study.pd, alpha=study.alpha, n_needed=answer.n,
                            beta=study.beta)
+    with st.expander("Critical values for n = 5 to 200", icon=":material/table:"):
+        table = service.critical_values(study.method)
+        st.caption("Fewest correct answers that conclude a difference (exact binomial; "
+                   "'None': no count reaches that alpha).")
+        st.dataframe(table.to_frame(), width="stretch", height=320)
+        st.download_button("Print the table (PDF)", service.critical_values_pdf(study.method),
+                           file_name=f"critical-values-{study.method}.pdf",
+                           mime="application/pdf", icon=":material/print:")
 else:
     st.write(
         "For ratings and rankings the panel size follows from the smallest difference that "

@@ -2273,3 +2273,21 @@ def control_trend(store: Store, control: str, *, attribute: str | None = None):
     if not frames:
         return ()
     return trend(pd.concat(frames, ignore_index=True), control=control, attribute=attribute)
+
+
+# ====================================================================== reference tables
+
+
+def critical_values(method: str):
+    """The critical-value table of a forced-choice method for n = 5..200 at alpha 0.20,
+    0.10, 0.05, 0.01 and 0.001 (:func:`trials.stats.discrimination.critical_table`)."""
+    from trials.stats.discrimination import critical_table
+
+    return critical_table(method=method)
+
+
+def critical_values_pdf(method: str) -> bytes:
+    """:func:`critical_values` as a printable PDF."""
+    from trials.printing import critical_table_pdf
+
+    return critical_table_pdf(critical_values(method)).data

@@ -92,6 +92,15 @@ def test_the_set_up_screen_answers_how_many_assessors(small_trials):
     assert by_label(at.metric, "You need").value == f"{answer.n} assessors"
 
 
+def test_the_set_up_screen_shows_the_critical_value_table_of_the_method(small_trials):
+    at = _run("trial", study=small_trials["triangle"])
+    shown = at.dataframe[-1].value
+    table = service.critical_values("triangle")
+    assert list(shown.index) == list(table.ns)
+    # ISO 4120 / the FAO handbook's triangle table: 24 assessors need 13 at alpha 0.05
+    assert shown.loc[24, "0.05"] == 13
+
+
 def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
     store = small_trials["store"]
     study = service.create_study(store, name="Rice: rinsed or not", method="2afc",

@@ -9,6 +9,7 @@ from trials.printing.ballots import ballots_pdf
 from trials.printing.labels import A4_3X7, A4_3X8, LETTER_3X10, PRESETS, LabelLayout, labels_pdf
 from trials.printing.layout import PrintResult
 from trials.printing.sheet import serving_sheet_pdf
+from trials.printing.tables import critical_table_pdf
 
 __all__ = [
     "A4_3X7",
@@ -18,6 +19,7 @@ __all__ = [
     "LabelLayout",
     "PrintResult",
     "ballots_pdf",
+    "critical_table_pdf",
     "labels_pdf",
     "serving_sheet_pdf",
 ]
