@@ -43,17 +43,20 @@ st.subheader("Report")
 made = st.session_state.setdefault("reports", {})
 stamp = service.change_stamp(store, study_id)
 key = (study_id, stamp)
-report = getattr(service, "report_html", None)
-if report is None:
-    st.info("The report is not available in this build yet.")
-elif key in made:
-    st.download_button("Download the report (HTML)", made[key],
-                       file_name=f"trial-{study_id}-report.html", mime="text/html",
-                       on_click="ignore", type="primary", icon=":material/download:")
+if key in made:
+    html, pdf = made[key]
+    left, right = st.columns(2)
+    left.download_button("Download the report (HTML)", html,
+                         file_name=f"trial-{study_id}-report.html", mime="text/html",
+                         on_click="ignore", type="primary", icon=":material/download:")
+    right.download_button("Printable summary (PDF)", pdf,
+                          file_name=f"trial-{study_id}-summary.pdf", mime="application/pdf",
+                          on_click="ignore", icon=":material/print:")
 elif st.button("Prepare the report", icon=":material/description:"):
     try:
         with st.spinner("Writing the report..."):
-            made[key] = report(store, study_id)
+            made[key] = (service.report_html(store, study_id),
+                         service.report_pdf(store, study_id))
     except TrialsError as exc:
         ui.show_problem(exc)
     else:
@@ -64,6 +67,10 @@ with st.expander("Export the answers", icon=":material/table_view:"):
                "imports back.")
     st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, study_id),
                        file_name=f"trial-{study_id}-answers.csv", mime="text/csv",
+                       on_click="ignore")
+    st.download_button("Batch settings and measurements (CSV)",
+                       lambda: service.export_measures_bytes(store, study_id),
+                       file_name=f"trial-{study_id}-batches.csv", mime="text/csv",
                        on_click="ignore")
 
 with st.expander("Audit log", icon=":material/history:"):

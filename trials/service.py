@@ -2203,6 +2203,28 @@ def report_html(store: Store, study_id: int) -> str:
                  batches=list_batches(store, study_id))
 
 
+def report_pdf(store: Store, study_id: int) -> bytes:
+    """The trial's printable summary as PDF bytes (:func:`trials.printing.report.report_pdf`)."""
+    from trials.printing.report import report_pdf as build
+
+    study = get_study(store, study_id)
+    return build(study, analyse_study(store, study_id), plan=plan(store, study_id),
+                 responses=responses(store, study_id), batches=list_batches(store, study_id))
+
+
+def export_measures_bytes(store: Store, study_id: int) -> bytes:
+    """The trial's batch settings and measured variables (:func:`measures_frame`) as a
+    tidy CSV, formula-like cells neutralised."""
+    import tempfile
+
+    from trials.tabular import write_table
+
+    with tempfile.TemporaryDirectory(prefix="trials-export-") as folder:
+        path = Path(folder) / "batches.csv"
+        write_table(measures_frame(store, study_id), path)
+        return path.read_bytes()
+
+
 def print_document(store: Store, study_id: int, kind: str, path: Path, *,
                    base_url: str = "") -> int:
     """Write :func:`print_result`'s PDF to ``path``; returns the number of pages."""

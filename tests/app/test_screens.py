@@ -259,7 +259,10 @@ def test_the_decision_screen_prepares_the_report_for_download(demo_db):
     by_label(at.button, "Prepare the report").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert "Download the report (HTML)" in [b.label for b in at.download_button]
+    labels = [b.label for b in at.download_button]
+    assert "Download the report (HTML)" in labels
+    assert "Printable summary (PDF)" in labels
+    assert "Batch settings and measurements (CSV)" in labels
 
 
 def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials):

@@ -329,3 +329,19 @@ def test_the_control_trend_averages_the_controls_scores_per_attribute(sqlite_url
     mine = frame[(frame["sample"] == "Plain flour dredge") & (frame["attribute"] == "crispness")]
     assert points[0].n == len(mine)
     assert points[0].mean == pytest.approx(mine["score"].astype(float).mean())
+
+
+def test_the_summary_pdf_and_the_batch_export_hold_the_trials_numbers(sqlite_url):
+    import io
+
+    from pypdf import PdfReader
+
+    from trials import service as svc
+
+    store = svc.open_store(sqlite_url)
+    svc.seed_demo(store)
+    text = "".join(p.extract_text() for p in PdfReader(io.BytesIO(svc.report_pdf(store, 1))).pages)
+    assert "16 of 27" in text  # the demo triangle: 16 correct of 27 (see trials/demo.py)
+    rows = svc.export_measures_bytes(store, 2).decode("utf-8").splitlines()
+    assert rows[0].split(",")[:3] == ["sample", "batch", "kind"]
+    assert any("oil uptake" in r and "13.9" in r for r in rows)
