@@ -1,7 +1,5 @@
 """Printing: ballots, the serving sheet (with the key, kitchen only) and cup labels."""
 
-import inspect
-
 import streamlit as st
 
 from trials import service, ui
@@ -34,10 +32,7 @@ def _build(kind: str) -> bytes:
     def tick(done: int, total: int) -> None:
         bar.progress(min(1.0, done / max(total, 1)), text=f"{DOCS[kind][0]}: {done} of {total}")
 
-    kwargs = {"progress": tick}
-    if "base_url" in inspect.signature(service.print_bytes).parameters:
-        kwargs["base_url"] = ui.app_address()
-    data = service.print_bytes(store, study_id, kind, **kwargs)
+    data = service.print_bytes(store, study_id, kind, progress=tick, base_url=ui.app_address())
     bar.empty()
     return data
 

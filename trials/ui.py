@@ -356,9 +356,14 @@ def upload_path(upload) -> Path:
 
 
 def app_address() -> str:
-    """The app's address as the browser sees it (scheme, host and port), for tasting
-    links; empty when unknown (then printed ballots carry no QR code)."""
+    """The app's address for tasting links: ``TRIALS_BASE_URL`` when set (the address
+    tablets reach on the kitchen network), else the address this browser used; empty
+    when unknown (then printed ballots carry no QR code)."""
     from urllib.parse import urlsplit
+
+    configured = os.environ.get("TRIALS_BASE_URL", "").rstrip("/")
+    if configured:
+        return configured
 
     try:
         url = st.context.url or ""
