@@ -2268,8 +2268,12 @@ def history(store: Store, *, text: str = "", method: str | None = None,
 
 
 def control_names(store: Store) -> list[str]:
-    """The names of the control samples of the trials on file, each once, sorted."""
-    return sorted({r["control"] for r in history(store) if r["control"]})
+    """The control samples of the rated trials on file (the ones with scores to follow),
+    the control of the most trials first, then by name."""
+    from collections import Counter
+
+    counts = Counter(r["control"] for r in history(store, method="rating") if r["control"])
+    return sorted(counts, key=lambda name: (-counts[name], name))
 
 
 def control_trend(store: Store, control: str, *, attribute: str | None = None):
