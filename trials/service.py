@@ -40,7 +40,7 @@ import io
 import json
 import secrets
 import zipfile
-from collections import defaultdict
+from collections import Counter, defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -1030,7 +1030,7 @@ def draw_plan(
     codes = [str(c).strip() for c in panelist_codes]
     if not codes:
         raise TrialsError("a plan needs at least one panelist; got none")
-    dupes = sorted({c for c in codes if codes.count(c) > 1})
+    dupes = sorted(c for c, k in Counter(codes).items() if k > 1)
     if dupes:
         raise TrialsError(f"panelists listed twice: {', '.join(map(repr, dupes))}")
 
@@ -1098,16 +1098,18 @@ def draw_plan(
             signed = [b for b in x.batches if b.safety_signed_by]
             pool = signed or list(x.batches)
             batch_of[x.name] = pool[-1] if pool else None
-        out = []
+        out, rows = [], []
         for e in entries:
             batch = batch_of[e.sample_name]
-            s.add(PlanEntryRow(
-                session_id=srow.id, panelist_id=roster[e.panelist_code].id, position=e.position,
-                code=e.code, sample_id=by_name[e.sample_name].id, set_index=e.set_index,
-                role=e.role, batch_id=batch.id if batch else None,
-            ))
+            rows.append({
+                "session_id": srow.id, "panelist_id": roster[e.panelist_code].id,
+                "position": e.position, "code": e.code,
+                "sample_id": by_name[e.sample_name].id, "set_index": e.set_index,
+                "role": e.role, "batch_id": batch.id if batch else None,
+            })
             out.append(PlanEntry(e.session, e.panelist_code, e.position, e.code, e.sample_name,
                                  e.set_index, e.role, batch.label if batch else ""))
+        s.execute(sa.insert(PlanEntryRow), rows)  # one executemany, not one ORM add a cup
         have = set(s.scalars(sa.select(AccessTokenRow.panelist_id)
                              .where(AccessTokenRow.study_id == study.id)).all())
         for c in codes:
@@ -2270,8 +2272,6 @@ def history(store: Store, *, text: str = "", method: str | None = None,
 def control_names(store: Store) -> list[str]:
     """The control samples of the rated trials on file (the ones with scores to follow),
     the control of the most trials first, then by name."""
-    from collections import Counter
-
     counts = Counter(r["control"] for r in history(store, method="rating") if r["control"])
     return sorted(counts, key=lambda name: (-counts[name], name))
 
