@@ -4,19 +4,14 @@ Tab and Enter move between cells. Every answer is checked against the serving pl
 (codes must be ones served to that panelist) and the scales before anything is saved.
 """
 
-import pandas as pd
 import streamlit as st
 
 from trials import service, ui
 from trials.errors import ImportRowsError, TrialsError
-from trials.methods import Family, get_method
+from trials.methods import Family
 
 ui.require_leader()
-study_id = ui.pick_study()
-store = ui.store()
-study = service.get_study(store, study_id)
-spec = get_method(study.method)
-overview = service.study_overview(store, study_id)
+store, study_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Paper entry: {study.name}")
 if not overview.plan_size:

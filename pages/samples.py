@@ -7,15 +7,11 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import Family, get_method
+from trials.methods import Family
 from trials.model import AttributeKind
 
 ui.require_leader()
-study_id = ui.pick_study()
-store = ui.store()
-study = service.get_study(store, study_id)
-spec = get_method(study.method)
-overview = service.study_overview(store, study_id)
+store, study_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Samples and batches: {study.name}")
 ui.food_caution(study_id)

@@ -8,10 +8,7 @@ from trials.methods import METHODS, Family, get_method
 from trials.model import Status
 
 ui.require_leader()
-study_id = ui.pick_study()
-study = service.get_study(ui.store(), study_id)
-spec = get_method(study.method)
-overview = service.study_overview(ui.store(), study_id)
+store, study_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Trial set-up: {study.name}")
 st.caption(f"Trial #{study.id} · {spec.label} · status **{study.status}** · "
@@ -66,7 +63,7 @@ if saved:
     if not overview.plan_size:
         changes["method"] = method
     try:
-        study = service.update_study(ui.store(), study_id, by=ui.who(), **changes)
+        study = service.update_study(store, study_id, by=ui.who(), **changes)
     except TrialsError as exc:
         ui.show_problem(exc)
     else:
@@ -76,7 +73,7 @@ if saved:
 
 st.subheader("How many assessors")
 if spec.is_forced_choice:
-    answer = service.planning_answer(ui.store(), study_id)
+    answer = service.planning_answer(store, study_id)
     if answer is None:
         st.info("Give pd (the proportion of discriminators that matters) to get the panel size.")
     else:
@@ -114,7 +111,7 @@ new_status = cols[0].segmented_control("Where the trial stands", statuses,
                                        default=str(study.status), key="status_pick")
 if cols[1].button("Set status", disabled=new_status in (None, str(study.status))):
     try:
-        service.set_status(ui.store(), study_id, new_status, by=ui.who())
+        service.set_status(store, study_id, new_status, by=ui.who())
     except TrialsError as exc:
         ui.show_problem(exc)
     else:

@@ -11,7 +11,7 @@ import hmac
 import os
 from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 import streamlit as st
 
@@ -210,6 +210,27 @@ def pick_study(*, required: bool = True):
     )
     select_study(chosen)
     return chosen
+
+
+class OpenTrial(NamedTuple):
+    """The trial in hand on a leader screen, with what most screens read first."""
+
+    store: Any
+    study_id: int
+    study: Any  # trials.model.Study
+    spec: Any  # trials.methods.MethodSpec
+    overview: Any  # trials.service.StudyOverview
+
+
+def open_trial() -> OpenTrial:
+    """The trial picked in the sidebar (:func:`pick_study`), read once for the screen."""
+    from trials.methods import get_method
+
+    study_id = pick_study()
+    s = store()
+    study = service.get_study(s, study_id)
+    return OpenTrial(s, study_id, study, get_method(study.method),
+                     service.study_overview(s, study_id))
 
 
 def select_study(study_id: int) -> None:

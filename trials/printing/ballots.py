@@ -595,7 +595,7 @@ class _Matrix:
             c.drawString(b.left, top - 8, "(continued)")
 
     def draw(self, row_h: float) -> None:
-        c, b = self.b.c, self.b
+        b = self.b
         b.need(self.head_h + row_h)
         self.header()
         box = min(row_h - 4, 11.0)

@@ -26,7 +26,7 @@ from typing import Any
 import pandas as pd
 
 from trials.analysis import StudyAnalysis, analyse, decode_responses
-from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
+from trials.decision import Decision, decide, fmt, fmt_risk
 from trials.methods import get_method
 from trials.model import Batch, PlanEntry, Response, Study
 
