@@ -291,9 +291,11 @@ def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
         pl = _penalty_line(at)
         if pl:
             details.append(pl)
-        for rel in at.relations[:3]:
+        # Only the measured variables that follow the means at alpha belong in the
+        # decision; the report's table of measured variables holds them all.
+        for rel in at.relations:
             c, g = rel.correlation, rel.regression
-            if c.r is None or g.slope is None:
+            if c.r is None or g.slope is None or c.p_value is None or c.p_value >= a.alpha:
                 continue
             unit = f" {rel.unit}" if rel.unit else ""
             details.append(

@@ -151,3 +151,15 @@ def test_ranking_decision_quotes_friedman_and_rank_sums():
     assert d.numbers["statistic"] == pytest.approx(ref.statistic)
     assert f"Friedman chi-square = {fmt(r.statistic)} on 2 df" in d.headline
     assert "ISO 8587" in d.headline and "rank 1 = most" in d.details[0]
+
+
+def test_the_decision_quotes_only_the_measured_variables_that_follow_the_means():
+    s, plan, responses, _truth = rating_trial()
+    a = analyse(s, plan, responses, batches=batches3())
+    d = decide(a, study=Study(name="x", method="rating"))
+    for at in a.attributes:
+        for rel in at.relations:
+            line = f"{at.attribute} against {rel.predictor} across"
+            quoted = any(x.startswith(line) for x in d.details)
+            # Pearson's p (checked against statsmodels in test_measures.py) decides
+            assert quoted == (rel.correlation.p_value < a.alpha), (at.attribute, rel.predictor)
