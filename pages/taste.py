@@ -5,6 +5,8 @@ this panelist's serving order; every answer is saved at once, and the current st
 worked out from the answers on file, so a reload picks up where the panelist was.
 """
 
+import html
+
 import streamlit as st
 
 from trials import service, ui
@@ -81,7 +83,8 @@ def ballot_screen() -> None:
     index = open_steps[0]
     kind, current, pos, code, _ = steps[index]
     st.progress(index / len(steps), text=f"Step {index + 1} of {len(steps)}")
-    st.markdown(f'<p class="kt-step">Panelist {ballot.panelist_code}</p>', unsafe_allow_html=True)
+    st.markdown(f'<p class="kt-step">Panelist {html.escape(ballot.panelist_code)}</p>',
+                unsafe_allow_html=True)
 
     if kind == "choose":
         st.markdown(ballot.instructions)
@@ -113,7 +116,7 @@ def ballot_screen() -> None:
                           args=("", "choice", NO_PREFERENCE), kwargs={"session": current.session})
 
     elif kind == "rate":
-        st.markdown(f'<p class="kt-code">{code}</p>', unsafe_allow_html=True)
+        st.markdown(f'<p class="kt-code">{html.escape(code)}</p>', unsafe_allow_html=True)
         st.markdown(f"Cup {pos + 1} of {len(current.codes)}. Taste the cup marked **{code}**, "
                     "then tap one box on each scale.")
         if pos == 0:
@@ -144,7 +147,7 @@ def ballot_screen() -> None:
         used = {given.get((current.session, c, "rank")): c for c in codes}
         for c in codes:
             have = given.get((current.session, c, "rank"))
-            st.markdown(f'<p class="kt-code">{c}</p>', unsafe_allow_html=True)
+            st.markdown(f'<p class="kt-code">{html.escape(c)}</p>', unsafe_allow_html=True)
             cols = st.columns(k)
             for col, r in zip(cols, range(1, k + 1)):
                 taken = used.get(str(r)) not in (None, c)
