@@ -67,11 +67,14 @@ with c2:
         st.dataframe(balance["patterns"], hide_index=True, width="stretch")
 
 st.subheader("Tasting links")
-st.caption("Hand each panelist their own link (the app's address followed by the path). "
-           "A link opens that panelist's ballot only.")
-links = pd.DataFrame({"panelist": list(overview.links), "path": list(overview.links.values())})
+address = ui.app_address()
+st.caption("Hand each panelist their own link; it opens that panelist's ballot only. "
+           + (f"Links start with {address} (set TRIALS_BASE_URL to the address tablets reach)."
+              if address else "Put the app's address in front of each path."))
+links = pd.DataFrame({"panelist": list(overview.links),
+                      "link": [address + path for path in overview.links.values()]})
 st.dataframe(links, hide_index=True, width="stretch",
-             column_config={"path": st.column_config.LinkColumn("path")})
+             column_config={"link": st.column_config.LinkColumn("link")})
 
 with st.expander("The plan with the decoding key (kitchen only)", icon=":material/key:"):
     entries = service.plan(store, study_id)
