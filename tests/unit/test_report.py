@@ -159,6 +159,36 @@ def test_the_pdf_summary_holds_the_decision_and_the_caution():
                                                              responses=responses))).pages)
 
 
+def test_the_pdf_summary_prints_the_anova_and_the_means_of_every_attribute():
+    from trials.stats.ratings import rating_anova
+
+    s, plan, responses, truth = rating_trial()
+    a = analyse(s, plan, responses)
+    text = " ".join(pg.extract_text() for pg in
+                    PdfReader(io.BytesIO(report_pdf(s, a, plan=plan, responses=responses))).pages)
+    flat = re.sub(r"\s+", " ", text)
+    for name in ("liking", "crunch"):
+        ref = rating_anova(truth[truth["attribute"] == name])  # recomputed apart from the PDF
+        assert fmt(ref.term("sample").F) in flat
+        assert f"Tukey HSD {fmt(ref.hsd)}" in flat
+        for sample, mean in ref.means.items():
+            low, high = ref.ci[sample]
+            # one row of the means table: sample, mean, interval, n, letters
+            assert (f"{sample} {fmt(mean)} {fmt(low)} to {fmt(high)} {ref.n[sample]} "
+                    f"{ref.groups[sample]}") in flat
+
+
+def test_the_pdf_summary_of_a_triangle_prints_the_counts_and_estimates():
+    s = study("triangle")
+    plan = plan_for("triangle", ["AAB", "ABA", "BAA", "BBA", "BAB", "ABB"] * 4)
+    a = analyse(s, plan, triangle_answers(plan, 15))
+    d = a.choice.difference
+    assert (d.n, d.correct) == (24, 15)
+    text = " ".join(pg.extract_text() for pg in PdfReader(io.BytesIO(report_pdf(s, a))).pages)
+    # 24 assessors need 13 at alpha 0.05 (ISO 4120; see test_discrimination.py)
+    assert f"24 15 13 {fmt_p(d.p_value)}" in re.sub(r"\s+", " ", text)
+
+
 def _serving_plan_trial(method, n=12):
     from trials.design.plan import serving_plan
 

@@ -26,7 +26,7 @@ from typing import Any
 import pandas as pd
 
 from trials.analysis import StudyAnalysis, analyse, decode_responses
-from trials.decision import Decision, decide, fmt, fmt_risk
+from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import get_method
 from trials.model import Batch, PlanEntry, Response, Study
 
@@ -526,9 +526,10 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
                page: str = "A4") -> bytes:
     """A printable summary of the report as PDF bytes (reportlab, embedded fonts).
 
-    Objective, method and risks, the decision with its evidence and limits, the main
-    result table, the panel counts and the food-safety caution. Charts and the data
-    appendix stay in the HTML report.
+    Objective, method and risks, the decision with its evidence and limits, the result
+    tables (counts and estimates; or per attribute the ANOVA, and the means with
+    intervals and letters drawn as a chart; or the rank sums), the panel counts and the
+    food-safety caution. The data appendix stays in the HTML report.
     """
     from reportlab.lib import colors
     from reportlab.lib.styles import ParagraphStyle
@@ -559,6 +560,15 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
                         spaceBefore=8)
     strong = ParagraphStyle("strong", parent=body, fontName=BOLD)
 
+    def grid(rows, widths):
+        t = Table([[Paragraph(p(c), strong if i == 0 else body) for c in row]
+                   for i, row in enumerate(rows)], colWidths=[w * mm for w in widths],
+                  repeatRows=1)
+        t.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
+                               ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.93, 0.93, 0.9)),
+                               ("VALIGN", (0, 0), (-1, -1), "TOP")]))
+        return t
+
     def kv(rows):
         t = Table([[Paragraph(p(k), body), Paragraph(p(v), body)] for k, v in rows],
                   colWidths=[60 * mm, 110 * mm])
@@ -574,6 +584,7 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
     flow += [Paragraph("Decision", h2), Paragraph(p(decision.headline), strong)]
     flow += [Paragraph(p(x), body) for x in decision.details]
     flow += [Paragraph(p(" ".join(decision.limits)), body)] if decision.limits else []
+    flow += _pdf_results(analysis, p, body, h2, grid)
     flow += [Paragraph("Panel", h2),
              kv([("panelists planned", analysis.panelists_planned),
                  ("panelists who answered", analysis.panelists_answered),
@@ -587,3 +598,95 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
                             creator="Kitchen Trials", invariant=1)
     doc.build(flow)
     return buf.getvalue()
+
+
+def _pdf_results(analysis: StudyAnalysis, p, body, h2, grid) -> list:
+    """The result tables and charts of the PDF summary, by the method's family."""
+    from reportlab.platypus import Paragraph, Spacer
+
+    out: list = [Paragraph("Results", h2)]
+    if not analysis.has_answers:
+        return out + [Paragraph(p(f"No results: {analysis.message}."), body)]
+    c = analysis.choice
+    if c is not None and c.difference is not None:
+        d = c.difference
+        rows = [["answers", "correct", "critical", "p-value", "pd (interval)", "d' (interval)"],
+                [d.n, d.correct, d.critical if d.critical is not None else "-", fmt_p(d.p_value),
+                 f"{fmt(d.pd)} ({fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])})",
+                 f"{fmt(d.dprime)} ({fmt(d.dprime_ci[0])} to {fmt(d.dprime_ci[1])})"]]
+        out += [grid(rows, [22, 22, 22, 28, 38, 38]),
+                Paragraph(p(f"Intervals: {d.ci_method}."), body)]
+        if c.similarity is not None:
+            sm = c.similarity
+            out.append(Paragraph(p(
+                f"Similarity at pd {fmt(sm.pd)} and beta {fmt_risk(sm.beta)}: "
+                f"{'similar' if sm.similar else 'not shown similar'} (at most {sm.max_correct} "
+                f"correct allowed; upper limit of pd {fmt(sm.pd_upper)})."), body))
+    for at in analysis.attributes:
+        a = at.anova
+        if a is None:
+            continue
+        out.append(Paragraph(p(f"{at.attribute} ({at.kind}, {at.low} to {at.high})"), body))
+        rows = [["term", "df", "SS", "MS", "F", "p"]]
+        for r in a.anova:
+            rows.append([r.term, fmt(r.df, 0), fmt(r.ss), fmt(r.ms),
+                         "" if r.F is None else fmt(r.F), "" if r.p is None else fmt_p(r.p)])
+        out.append(grid(rows, [36, 18, 26, 26, 22, 30]))
+        out.append(Spacer(1, 4))
+        order = sorted(a.samples, key=lambda x: -a.means[x])
+        rows = [["sample", "mean", "interval", "n", "letters"]]
+        rows += [[x, fmt(a.means[x]), f"{fmt(a.ci[x][0])} to {fmt(a.ci[x][1])}", a.n[x],
+                  a.groups[x]] for x in order]
+        out.append(grid(rows, [64, 20, 36, 14, 24]))
+        out += [Spacer(1, 8), _pdf_means_chart(at.attribute, order, a)]
+        out.append(Paragraph(p(f"{a.method}. Tukey HSD {fmt(a.hsd)}; samples sharing a "
+                               "letter do not differ."), body))
+    r = analysis.ranking
+    if r is not None and r.result is not None:
+        res = r.result
+        rows = [["sample", "rank sum"]] + [[k, fmt(v, 1)] for k, v in res.rank_sums.items()]
+        out += [grid(rows, [80, 30]), Paragraph(p(
+            f"Chi-square {fmt(res.statistic)} on {res.df} df, {fmt_p(res.p_value)}; least "
+            f"significant difference of rank sums {fmt(res.lsd)}."), body)]
+    return out
+
+
+def _pdf_means_chart(attribute: str, order: Sequence[str], a: Any):
+    """Means with their intervals and letters, one point a sample, as a drawing."""
+    from reportlab.graphics.shapes import Drawing, Line, String
+    from reportlab.lib import colors
+
+    from trials.printing.layout import SANS, printable
+
+    width, height, left, bottom = 480.0, 150.0, 40.0, 38.0
+    lows = [a.ci[x][0] for x in order]
+    highs = [a.ci[x][1] for x in order]
+    lo, hi = min(lows), max(highs)
+    pad = (hi - lo) * 0.15 or 1.0
+    lo, hi = lo - pad, hi + pad
+
+    def y(v: float) -> float:
+        return bottom + (v - lo) / (hi - lo) * (height - bottom - 12)
+
+    d = Drawing(width, height)
+    d.add(Line(left, bottom, left, height - 8, strokeColor=colors.grey))
+    for k in range(5):
+        v = lo + (hi - lo) * k / 4
+        d.add(Line(left - 3, y(v), left, y(v), strokeColor=colors.grey))
+        d.add(String(left - 5, y(v) - 3, f"{v:.1f}", fontName=SANS, fontSize=7,
+                     textAnchor="end"))
+    step = (width - left - 10) / max(len(order), 1)
+    for i, x in enumerate(order):
+        cx = left + step * (i + 0.5)
+        d.add(Line(cx, y(a.ci[x][0]), cx, y(a.ci[x][1]), strokeColor=colors.black))
+        for v in a.ci[x]:
+            d.add(Line(cx - 4, y(v), cx + 4, y(v), strokeColor=colors.black))
+        d.add(Line(cx - 6, y(a.means[x]), cx + 6, y(a.means[x]), strokeColor=colors.darkgreen,
+                   strokeWidth=2.5))
+        d.add(String(cx + 8, y(a.means[x]) - 3, a.groups[x], fontName=SANS, fontSize=8))
+        label = printable(x)
+        d.add(String(cx, bottom - 12, label if len(label) <= 22 else label[:21] + "\u2026",
+                     fontName=SANS, fontSize=7, textAnchor="middle"))
+    d.add(String(left, height - 6, printable(f"{attribute}: means with intervals and letters"),
+                 fontName=SANS, fontSize=8))
+    return d
