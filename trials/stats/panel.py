@@ -9,10 +9,15 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from trials.errors import TrialsError
 from trials.model import Record
 from trials.stats.posthoc import _check_alpha
-from trials.stats.ratings import check_unique, label_codes, numeric_column, require_columns
+from trials.stats.ratings import (
+    check_unique,
+    label_codes,
+    numeric_column,
+    require_columns,
+    sample_panelist_codes,
+)
 
 
 @dataclass(frozen=True, slots=True)
@@ -110,13 +115,8 @@ def panel_performance(
     cols = [score, sample, panelist] + ([replicate] if replicate else [])
     require_columns(data, cols)
     y = numeric_column(data, score)
-    s_codes, s_names = label_codes(data, sample)
-    p_codes, p_names = label_codes(data, panelist)
+    s_codes, s_names, p_codes, p_names = sample_panelist_codes(data, sample, panelist)
     t, b = len(s_names), len(p_names)
-    if t < 2:
-        raise TrialsError(f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more")
-    if b < 2:
-        raise TrialsError(f"column {panelist!r} holds one panelist only ({p_names[0]!r}); need two or more")
     if replicate:
         r_codes, r_names = label_codes(data, replicate)
         check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)], [panelist, sample, replicate])

@@ -20,7 +20,12 @@ from scipy import stats
 from trials.errors import TrialsError
 from trials.model import Record
 from trials.stats.posthoc import _check_alpha, compact_letter_display
-from trials.stats.ratings import check_unique, label_codes, numeric_column, require_columns
+from trials.stats.ratings import (
+    check_unique,
+    numeric_column,
+    require_columns,
+    sample_panelist_codes,
+)
 
 
 @dataclass(frozen=True, slots=True)
@@ -52,13 +57,8 @@ def rank_table(
     """
     require_columns(data, [rank, sample, panelist])
     values = numeric_column(data, rank, low=low, high=high)
-    s_codes, s_names = label_codes(data, sample)
-    p_codes, p_names = label_codes(data, panelist)
+    s_codes, s_names, p_codes, p_names = sample_panelist_codes(data, sample, panelist)
     t, b = len(s_names), len(p_names)
-    if t < 2:
-        raise TrialsError(f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more")
-    if b < 2:
-        raise TrialsError(f"column {panelist!r} holds one panelist only ({p_names[0]!r}); need two or more")
     check_unique([p_codes, s_codes], [b, t], [panelist, sample])
     table = np.full((b, t), np.nan)
     table[p_codes, s_codes] = values

@@ -121,6 +121,20 @@ def label_codes(data: pd.DataFrame, column: str) -> tuple[np.ndarray, list[str]]
     return codes.astype(np.int64), names
 
 
+
+def sample_panelist_codes(data: pd.DataFrame, sample: str, panelist: str):
+    """Integer codes and names of the samples and panelists of ``data``, refusing a
+    table with one sample or one panelist (nothing to compare, no block)."""
+    s_codes, s_names = label_codes(data, sample)
+    p_codes, p_names = label_codes(data, panelist)
+    if len(s_names) < 2:
+        raise TrialsError(f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more")
+    if len(p_names) < 2:
+        raise TrialsError(
+            f"column {panelist!r} holds one panelist only ({p_names[0]!r}); need two or more"
+        )
+    return s_codes, s_names, p_codes, p_names
+
 def check_unique(
     codes: Sequence[np.ndarray], sizes: Sequence[int], columns: Sequence[str]
 ) -> None:
@@ -374,15 +388,8 @@ def rating_anova(
     cols = [score, sample, panelist] + ([replicate] if replicate else [])
     require_columns(data, cols)
     y = numeric_column(data, score, low=low, high=high)
-    s_codes, s_names = label_codes(data, sample)
-    p_codes, p_names = label_codes(data, panelist)
+    s_codes, s_names, p_codes, p_names = sample_panelist_codes(data, sample, panelist)
     t, b = len(s_names), len(p_names)
-    if t < 2:
-        raise TrialsError(f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more")
-    if b < 2:
-        raise TrialsError(
-            f"column {panelist!r} holds one panelist only ({p_names[0]!r}); need two or more"
-        )
     if replicate:
         r_codes, r_names = label_codes(data, replicate)
         check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)], [panelist, sample, replicate])
