@@ -441,6 +441,21 @@ def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> str:
 # --------------------------------------------------------------------------- entry points
 
 
+
+def _prepared(study: Study, analysis: StudyAnalysis | None, plan: list[PlanEntry],
+              responses: list[Response], batches: list[Batch],
+              decision_text: Decision | str | None) -> tuple[StudyAnalysis, Decision]:
+    """The analysis and the decision a report shows: given, or made from the answers
+    (a plain text decision is wrapped with the method's published source)."""
+    if analysis is None:
+        analysis = analyse(study, plan, responses, batches=batches)
+    if decision_text is None:
+        return analysis, decide(analysis, study=study)
+    if isinstance(decision_text, str):
+        return analysis, Decision("", decision_text, (), (), study.method,
+                                  get_method(study.method).reference)
+    return analysis, decision_text
+
 def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
                 plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
                 batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
@@ -466,15 +481,7 @@ def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
         A complete HTML document (UTF-8), viewable offline.
     """
     plan, responses, batches = list(plan), list(responses), list(batches)
-    if analysis is None:
-        analysis = analyse(study, plan, responses, batches=batches)
-    if decision_text is None:
-        decision = decide(analysis, study=study)
-    elif isinstance(decision_text, str):
-        decision = Decision("", decision_text, (), (), study.method,
-                            get_method(study.method).reference)
-    else:
-        decision = decision_text
+    analysis, decision = _prepared(study, analysis, plan, responses, batches, decision_text)
     spec = get_method(study.method)
     charts = _Charts()
     today = generated_on or dt.date.today()
@@ -539,16 +546,8 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
     from trials.printing.layout import BOLD, SANS, page_size, printable, register_fonts
 
     plan, responses, batches = list(plan), list(responses), list(batches)
+    analysis, decision = _prepared(study, analysis, plan, responses, batches, decision_text)
     register_fonts()
-    if analysis is None:
-        analysis = analyse(study, plan, responses, batches=batches)
-    if decision_text is None:
-        decision = decide(analysis, study=study)
-    elif isinstance(decision_text, str):
-        decision = Decision("", decision_text, (), (), study.method,
-                            get_method(study.method).reference)
-    else:
-        decision = decision_text
     spec = get_method(study.method)
 
     def p(text: Any) -> str:  # reportlab paragraphs take mini-markup: escape
