@@ -18,26 +18,35 @@ def _page(name: str, study: int | None = None):
     return at.run()
 
 
-def test_a_whole_triangle_test_from_an_empty_store_through_the_screens(app_db):
-    store = service.open_store(app_db)
-
+def _new_trial(name: str, method: str, first: str, second: str) -> None:
     at = _page("home")
-    by_label(at.text_input, "Name").input("Shortbread: salted vs cultured butter")
-    by_label(at.selectbox, "Method").select("triangle")
-    by_label(at.text_input, "First sample (the control)").input("Salted butter shortbread")
-    by_label(at.text_input, "Second sample").input("Cultured butter shortbread")
+    by_label(at.text_input, "Name").input(name)
+    by_label(at.selectbox, "Method").select(method)
+    by_label(at.text_input, "First sample (the control)").input(first)
+    by_label(at.text_input, "Second sample").input(second)
     by_label(at.button, "Create the trial").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    (study,) = service.list_studies(store)
 
+
+def _add_panel(codes) -> None:
     at = _page("panel")
-    for code in PANEL:
+    for code in codes:
         by_label(at.text_input, "Code").input(code)
         by_label(at.checkbox, "Informed consent obtained").check()
         by_label(at.button, "Add to the roster").click()
         at.run()
         assert not at.exception, [e.message for e in at.exception]
+
+
+def test_a_whole_triangle_test_from_an_empty_store_through_the_screens(app_db):
+    store = service.open_store(app_db)
+
+    _new_trial("Shortbread: salted vs cultured butter", "triangle",
+               "Salted butter shortbread", "Cultured butter shortbread")
+    (study,) = service.list_studies(store)
+
+    _add_panel(PANEL)
     assert sorted(p.code for p in service.list_panelists(store)) == PANEL
 
     at = _page("plan", study.id)
@@ -80,13 +89,7 @@ def test_a_whole_rated_trial_from_an_empty_store_through_the_screens(app_db):
     from trials.stats.ratings import rating_anova
 
     store = service.open_store(app_db)
-    at = _page("home")
-    by_label(at.text_input, "Name").input("Flapjack: three oat cuts")
-    by_label(at.selectbox, "Method").select("rating")
-    by_label(at.text_input, "First sample (the control)").input("Rolled oats")
-    by_label(at.text_input, "Second sample").input("Jumbo oats")
-    by_label(at.button, "Create the trial").click()
-    at.run()
+    _new_trial("Flapjack: three oat cuts", "rating", "Rolled oats", "Jumbo oats")
     (study,) = service.list_studies(store)
 
     at = _page("samples", study.id)
@@ -101,12 +104,7 @@ def test_a_whole_rated_trial_from_an_empty_store_through_the_screens(app_db):
     assert [s.name for s in got.samples] == ["Rolled oats", "Jumbo oats", "Steel-cut oats"]
     assert [(a.name, a.low, a.high) for a in got.attributes] == [("overall liking", 1, 9)]
 
-    at = _page("panel")
-    for code in PANEL[:6]:
-        by_label(at.text_input, "Code").input(code)
-        by_label(at.checkbox, "Informed consent obtained").check()
-        by_label(at.button, "Add to the roster").click()
-        at.run()
+    _add_panel(PANEL[:6])
 
     at = _page("plan", study.id)
     by_label(at.button, "Draw the plan").click()
