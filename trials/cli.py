@@ -196,9 +196,9 @@ def _report(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def _demo(args: argparse.Namespace) -> dict[str, Any]:
-    from trials import service
+    from trials.demo import seed_demo
 
-    return {"studies": [s.to_dict() for s in service.seed_demo(_store(args))]}
+    return {"studies": [s.to_dict() for s in seed_demo(_store(args))]}
 
 
 def app_command(port: int | None = None, host: str | None = None) -> list[str]:
@@ -218,10 +218,11 @@ def app_command(port: int | None = None, host: str | None = None) -> list[str]:
 
 def _app(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
+    from trials.demo import seed_demo
 
     store = service.open_store(args.db)
     if args.demo and not service.list_studies(store):
-        service.seed_demo(store)
+        seed_demo(store)
     env = dict(os.environ)
     if args.db:
         env["TRIALS_DB"] = args.db

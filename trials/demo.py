@@ -31,7 +31,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from trials.model import Attribute, AttributeKind, Sample, Status
+from trials import service
+from trials.model import Attribute, AttributeKind, Sample, Status, StudySummary
 
 KITCHEN = "Harbour Lane Test Kitchen"
 BY = "demo (Harbour Lane Test Kitchen)"
@@ -83,8 +84,6 @@ COATING_BATCHES = (
 
 
 def _exists(store, name: str) -> int | None:
-    from trials import service
-
     for s in service.list_studies(store):
         if s.name == name:
             return s.id
@@ -92,8 +91,6 @@ def _exists(store, name: str) -> int | None:
 
 
 def _roster(store) -> None:
-    from trials import service
-
     have = {p.code for p in service.list_panelists(store)}
     for i, code in enumerate(PANELISTS):
         if code not in have:
@@ -110,8 +107,6 @@ def _eligible(samples: tuple[Sample, ...], n: int) -> list[str]:
 
 
 def _import(store, study_id: int, rows: list[dict], when: dt.datetime) -> None:
-    from trials import service
-
     for i, r in enumerate(rows):
         r.setdefault("comment", "")
         r["entered_at"] = (when + dt.timedelta(seconds=20 * i)).isoformat()
@@ -124,8 +119,6 @@ def _import(store, study_id: int, rows: list[dict], when: dt.datetime) -> None:
 
 
 def _brioche(store) -> int:
-    from trials import service
-
     samples = (
         Sample("Usual proof (90 min)", is_control=True, allergens=("gluten", "egg", "milk"),
                description="House brioche bun, final proof 90 min at 27 °C."),
@@ -192,8 +185,6 @@ def _scores(entries, codes, attributes, samples, effects, base, rng, *, paper=()
 
 
 def _coatings(store) -> int:
-    from trials import service
-
     attributes = (
         Attribute("overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9),
         Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
@@ -231,8 +222,6 @@ def _coatings(store) -> int:
 
 
 def _soup(store) -> int:
-    from trials import service
-
     samples = (
         Sample("Fresh tomatoes", is_control=True, description="Current recipe."),
         Sample("Roasted tomatoes", description="Tomatoes roasted 25 min at 200 °C first."),
@@ -272,8 +261,6 @@ def _soup(store) -> int:
 def _crumb(store) -> int:
     """An earlier trial with the same control as the coatings trial, so that the
     history screen can follow the control across trials."""
-    from trials import service
-
     samples = (COATING_SAMPLES[0],
                Sample("Panko crumb", allergens=("gluten", "egg"),
                       description="Flour, egg wash, panko crumb."))
@@ -333,8 +320,6 @@ def write_sample_data(folder: str | Path, store=None) -> list[Path]:
     """
     import tempfile
 
-    from trials import service
-
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
     with tempfile.TemporaryDirectory() as tmp:
@@ -381,3 +366,10 @@ def write_sample_data(folder: str | Path, store=None) -> list[Path]:
 if __name__ == "__main__":  # python -m trials.demo sample_data
     for p in write_sample_data(sys.argv[1] if len(sys.argv) > 1 else "sample_data"):
         print(p)
+
+
+def seed_demo(store) -> list[StudySummary]:
+    """Seed the invented demo trials; running it twice adds nothing. Returns their lines
+    of the list of trials."""
+    ids = seed(store)
+    return [x for x in service.list_studies(store) if x.id in ids]

@@ -213,3 +213,134 @@ class AllergenConflict(Record):
     panelist_code: str
     sample_name: str
     allergens: tuple[str, ...] = field(default_factory=tuple)
+
+
+# ---------------------------------------------------------------- use-case records
+
+
+@dataclass(frozen=True, slots=True)
+class StudySummary(Record):
+    """One line of the list of trials."""
+
+    id: int
+    name: str
+    method: str
+    status: Status
+    product: str = ""
+    created_on: dt.date | None = None
+    decision: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class StudyOverview(Record):
+    """A trial at a glance, for the leader (``links``: panelist code -> tasting path)."""
+
+    id: int
+    name: str
+    method: str
+    status: Status
+    product: str
+    objective: str
+    samples: tuple[Sample, ...]
+    attributes: tuple[Attribute, ...]
+    batches: tuple[Batch, ...]
+    panelists: int
+    plan_size: int
+    responses: int
+    links: dict[str, str]
+    sessions: tuple[str, ...] = ()
+    decision: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class BallotSet(Record):
+    """The codes of one set, in serving order."""
+
+    session: str
+    set_index: int
+    codes: tuple[str, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class BallotAnswer(Record):
+    """An answer this panelist has already given."""
+
+    session: str
+    code: str
+    attribute: str
+    value: str
+    comment: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class PanelistBallot(Record):
+    """What a panelist's screen may show: never a sample name, id or the key."""
+
+    title: str
+    method: str
+    question: str
+    instructions: str
+    panelist_code: str
+    sets: tuple[BallotSet, ...]
+    attributes: tuple[Attribute, ...]
+    answers: tuple[BallotAnswer, ...]
+    remaining: int
+
+    @property
+    def complete(self) -> bool:
+        return self.remaining == 0
+
+
+@dataclass(frozen=True, slots=True)
+class AuditEntry(Record):
+    """One change in the audit log."""
+
+    at: dt.datetime
+    who: str
+    table: str
+    row_id: int | None
+    field: str
+    old: str | None
+    new: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class ServedCup(Record):
+    """One cup of a panelist's plan as the answer checks see it: its code, place in the
+    serving order, set, sample and role letter in the set's pattern."""
+
+    code: str
+    position: int
+    set_index: int
+    sample: str
+    role: str
+
+
+@dataclass(slots=True)
+class PlanBook:
+    """A trial's serving plan as the answer checks need it, loaded once.
+
+    ``plan`` maps (session, panelist code) to that panelist's cups by code;
+    ``sessions`` and ``panelists`` map names and codes to the store's ids, which the
+    checked answers carry back; ``existing`` maps (session id, panelist id, question)
+    to the (code, value) on file.
+    """
+
+    trial: Study
+    sessions: dict[str, int]
+    session_order: dict[str, int]
+    panelists: dict[str, int]
+    plan: dict[tuple[str, str], dict[str, ServedCup]]
+    existing: dict[tuple[int, int, str], tuple[str, str]] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, slots=True)
+class StoredAnswer:
+    """One checked answer, ready to store: its question key and what was answered."""
+
+    session_id: int
+    panelist_id: int
+    question: str
+    code: str
+    attribute: str
+    value: str

@@ -79,13 +79,20 @@ def neutralise(value: object) -> object:
     return value
 
 
-def write_table(frame: pd.DataFrame, path: Path, *, fmt: str = "csv") -> int:
-    """Write ``frame`` as CSV or Excel with formula-like cells neutralised; rows written."""
+def table_bytes(frame: pd.DataFrame, *, fmt: str = "csv") -> bytes:
+    """``frame`` as CSV (UTF-8) or Excel bytes with formula-like cells neutralised."""
     safe = frame.map(neutralise) if len(frame) else frame
+    buf = io.BytesIO()
     if fmt == "csv":
-        safe.to_csv(path, index=False)
+        safe.to_csv(buf, index=False)
     elif fmt == "xlsx":
-        safe.to_excel(path, index=False)
+        safe.to_excel(buf, index=False)
     else:
         raise TrialsError(f"unknown export format {fmt!r}; expected csv or xlsx")
+    return buf.getvalue()
+
+
+def write_table(frame: pd.DataFrame, path: Path, *, fmt: str = "csv") -> int:
+    """Write ``frame`` as CSV or Excel with formula-like cells neutralised; rows written."""
+    Path(path).write_bytes(table_bytes(frame, fmt=fmt))
     return len(frame)

@@ -24,10 +24,11 @@ def app_db(tmp_path, monkeypatch) -> str:
 def _demo_template(tmp_path_factory) -> Path:
     """The demo store, seeded once per test run (seeding takes seconds here)."""
     from trials import service
+    from trials.demo import seed_demo
 
     path = tmp_path_factory.mktemp("demo") / "demo.db"
     store = service.open_store(f"sqlite:///{path}")
-    service.seed_demo(store)
+    seed_demo(store)
     with store.engine.begin() as conn:
         conn.exec_driver_sql("PRAGMA wal_checkpoint(TRUNCATE)")
     store.close()

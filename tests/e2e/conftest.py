@@ -36,10 +36,11 @@ def start_app(tmp_path: Path, *, passcode: str | None = None, demo: bool = True)
     """Start ``streamlit run trials/app.py`` on a free loopback port; return (url, proc, db)."""
     db = f"sqlite:///{tmp_path / 'e2e.db'}"
     from trials import service
+    from trials.demo import seed_demo
 
     store = service.open_store(db)
     if demo:
-        service.seed_demo(store)
+        seed_demo(store)
     port = _free_port()
     env = {k: v for k, v in os.environ.items() if k != "TRIALS_PASSCODE"}
     env["TRIALS_DB"] = db

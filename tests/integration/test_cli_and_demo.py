@@ -11,6 +11,7 @@ import scipy.stats
 import statsmodels.api as sm
 import statsmodels.formula.api as smf
 
+from trials.demo import seed_demo
 from trials import demo, service
 from trials.cli import main
 
@@ -27,7 +28,7 @@ def _run(capsys, *argv):
 def demo_url(tmp_path_factory):
     url = f"sqlite:///{tmp_path_factory.mktemp('demo') / 'demo.db'}"
     store = service.open_store(url)
-    service.seed_demo(store)
+    seed_demo(store)
     store.close()
     return url
 
@@ -35,7 +36,7 @@ def demo_url(tmp_path_factory):
 def test_the_demo_seeds_its_four_trials_once(demo_url):
     store = service.open_store(demo_url)
     first = service.list_studies(store)
-    again = service.seed_demo(store)
+    again = seed_demo(store)
     assert sorted(s.id for s in again) == sorted(s.id for s in first)
     assert len(service.list_studies(store)) == 4
     assert len(service.list_panelists(store)) == 30

@@ -8,6 +8,7 @@ import json
 import pytest
 
 from store_builders import rating_trial, ranking_trial, roster, triangle_trial
+from trials.demo import seed_demo
 from trials import service
 from trials.errors import AccessDenied, NotFoundError, TrialsError
 from trials.methods import get_method
@@ -305,7 +306,7 @@ def test_history_finds_trials_by_sample_setting_and_method(sqlite_url):
     from trials import service as svc
 
     store = svc.open_store(sqlite_url)
-    svc.seed_demo(store)
+    seed_demo(store)
     names = lambda rows: sorted(r["name"] for r in rows)  # noqa: E731
     assert names(svc.history(store, text="fryer temperature")) == [
         "Fried chicken: four coatings", "Fried chicken: house dredge vs panko crumb"]
@@ -320,7 +321,7 @@ def test_the_control_trend_averages_the_controls_scores_per_attribute(sqlite_url
     from trials import service as svc
 
     store = svc.open_store(sqlite_url)
-    svc.seed_demo(store)
+    seed_demo(store)
     frame = svc.responses_frame(store, 2)
     points = svc.control_trend(store, "Plain flour dredge", attribute="crispness")
     assert [p.study for p in points] == ["Fried chicken: house dredge vs panko crumb",
@@ -339,7 +340,7 @@ def test_the_summary_pdf_and_the_batch_export_hold_the_trials_numbers(sqlite_url
     from trials import service as svc
 
     store = svc.open_store(sqlite_url)
-    svc.seed_demo(store)
+    seed_demo(store)
     text = "".join(p.extract_text() for p in PdfReader(io.BytesIO(svc.report_pdf(store, 1))).pages)
     assert "16 of 27" in text  # the demo triangle: 16 correct of 27 (see trials/demo.py)
     rows = svc.export_measures_bytes(store, 2).decode("utf-8").splitlines()

@@ -1,0 +1,126 @@
+"""Use cases of results: the trial's analysis and decision from one snapshot of the
+store, the panel size a discrimination trial needs, exact power against n, panel
+performance, and the critical-value tables."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import pandas as pd
+
+from trials.errors import TrialsError
+from trials.methods import get_method
+from trials.model import Batch, Panelist, PlanEntry, Response, Study
+from trials.store import Store
+from trials.store import answers as answer_rows
+from trials.store import batches as batch_rows
+from trials.store import panel as panel_rows
+from trials.store import plans as plan_rows
+from trials.store import trials as trial_rows
+
+
+@dataclass(frozen=True, slots=True)
+class TrialFile:
+    """Everything on file for one trial, read in one transaction (one snapshot while
+    tablets write): the trial, its plan with the key, answers, batches, the roster and
+    the tasting links."""
+
+    study: Study
+    plan: tuple[PlanEntry, ...]
+    responses: tuple[Response, ...]
+    batches: tuple[Batch, ...]
+    roster: tuple[Panelist, ...]
+    links: dict[str, str]
+
+
+def trial_file(store: Store, study_id: int) -> TrialFile:
+    """The trial's :class:`TrialFile`."""
+    with store.read() as tx:
+        return TrialFile(
+            study=trial_rows.get_trial(tx, study_id),
+            plan=tuple(plan_rows.plan_entries(tx, study_id)),
+            responses=tuple(answer_rows.responses(tx, study_id)),
+            batches=tuple(batch_rows.list_batches(tx, study_id)),
+            roster=tuple(panel_rows.list_panelists(tx)),
+            links=plan_rows.links(tx, study_id),
+        )
+
+
+def analyse_file(f: TrialFile):
+    """:func:`trials.analysis.analyse` of a trial file."""
+    from trials.analysis import analyse
+
+    return analyse(f.study, list(f.plan), list(f.responses), batches=list(f.batches))
+
+
+def analyse_study(store: Store, study_id: int):
+    """The trial's analysis (:func:`trials.analysis.analyse`) from one snapshot."""
+    return analyse_file(trial_file(store, study_id))
+
+
+def study_decision(store: Store, study_id: int, analysis=None):
+    """The decision text for the trial's results (:func:`trials.decision.decide`), from
+    a given analysis or a fresh one."""
+    from trials.decision import decide
+
+    f = trial_file(store, study_id)
+    return decide(analysis if analysis is not None else analyse_file(f), study=f.study)
+
+
+def planning_answer(store: Store, study_id: int):
+    """How many assessors a discrimination trial needs for its alpha, beta and pd
+    (:func:`trials.stats.discrimination.panel_size`); None when the trial is not a
+    forced-choice trial or has no pd yet."""
+    with store.read() as tx:
+        study = trial_rows.get_trial(tx, study_id)
+    if not get_method(study.method).is_forced_choice or not study.pd:
+        return None
+    from trials.stats.discrimination import panel_size
+
+    return panel_size(study.pd, method=study.method, alpha=study.alpha, beta=study.beta)
+
+
+def power_curve(method: str, *, pd: float, alpha: float, ns: Sequence[int]) -> pd.DataFrame:
+    """Exact power of the difference test against the number of assessors
+    (:func:`trials.stats.discrimination.power`); columns ``n power critical``."""
+    from pandas import DataFrame  # the name ``pd`` is the proportion here
+
+    from trials.stats.discrimination import power
+
+    found = [power(int(n), method=method, pd=pd, alpha=alpha) for n in ns]
+    return DataFrame({"n": [r.n for r in found], "power": [r.power for r in found],
+                      "critical": [r.critical for r in found]})
+
+
+def panel_performance_of(store: Store, study_id: int, attribute: str):
+    """Per-panelist performance on one rated attribute
+    (:func:`trials.stats.panel.panel_performance`); sessions are the replicates."""
+    from trials.service.tasting import answers_table
+    from trials.stats.panel import panel_performance
+
+    with store.read() as tx:
+        book = answer_rows.plan_book(tx, study_id)
+        answers = answer_rows.responses(tx, study_id)
+    frame = answers_table(book, answers)
+    frame = frame[frame["attribute"] == attribute]
+    if frame.empty:
+        raise TrialsError(f"no scores on file for attribute {attribute!r}")
+    replicate = "session" if frame["session"].nunique() > 1 else None
+    return panel_performance(frame, score="score", sample="sample", panelist="panelist",
+                             replicate=replicate, alpha=book.trial.alpha)
+
+
+def critical_values(method: str):
+    """The critical-value table of a forced-choice method for n = 5..200 at alpha 0.20,
+    0.10, 0.05, 0.01 and 0.001 (:func:`trials.stats.discrimination.critical_table`)."""
+    from trials.stats.discrimination import critical_table
+
+    return critical_table(method=method)
+
+
+def critical_values_pdf(method: str) -> bytes:
+    """:func:`critical_values` as a printable PDF."""
+    from trials.printing import critical_table_pdf
+
+    return critical_table_pdf(critical_values(method)).data

@@ -1,0 +1,196 @@
+"""Use cases of the serving plan: draw a session's blind plan (codes, balanced orders
+or sets, the batch of each cup), read it with the key (leader views only), the
+allergen conflicts it would serve, how balanced it is, and the panelists' tasting
+links."""
+
+from __future__ import annotations
+
+import warnings
+from collections import Counter, defaultdict
+from collections.abc import Iterable, Sequence
+
+import pandas as pd
+
+from trials.errors import NotFoundError, TrialsError
+from trials.methods import Family, MethodSpec, get_method
+from trials.model import AllergenConflict, Panelist, PlanEntry, Sample
+from trials.service import _input
+from trials.store import Store
+from trials.store import panel as panel_rows
+from trials.store import plans as plan_rows
+from trials.store import trials as trial_rows
+
+
+def _plan_entries(
+    spec: MethodSpec,
+    samples: Sequence[Sample],
+    panelist_codes: list[str],
+    session: str,
+    seed: int | None,
+    session_index: int,
+    exclude_codes: Iterable[str],
+    per_panelist: int | None,
+) -> list[PlanEntry]:
+    """The serving plan from trials.design.plan.serving_plan, the control first."""
+    from trials.design.plan import serving_plan
+
+    ordered = sorted(samples, key=lambda x: not x.is_control)
+    with warnings.catch_warnings():
+        # an unbalanced panel is reported by the plan screen, not as a warning here
+        warnings.simplefilter("ignore")
+        return list(serving_plan(
+            spec.name, [x.name for x in ordered], panelist_codes, session=session, rng=seed,
+            exclude_codes=exclude_codes, per_panelist=per_panelist,
+            session_index=session_index,
+        ))
+
+
+def served_conflicts(entries: Sequence[PlanEntry], samples: Sequence[Sample],
+                     panelists: Sequence[Panelist]) -> list[AllergenConflict]:
+    """Conflicts between the samples each panelist is served and their allergens."""
+    from trials.design.allergens import allergen_conflicts as design_conflicts
+
+    served: dict[str, set[str]] = defaultdict(set)
+    for e in entries:
+        served[e.panelist_code].add(e.sample_name)
+    out = []
+    for p in panelists:
+        mine = [x for x in samples if x.name in served.get(p.code, ())]
+        out += design_conflicts(mine, [p])
+    return out
+
+
+def _check_samples(spec: MethodSpec, trial_id: int, samples: Sequence[Sample],
+                   n_attributes: int) -> None:
+    if spec.is_forced_choice and len(samples) != 2:
+        raise TrialsError(
+            f"a {spec.name} trial compares exactly 2 samples; trial {trial_id} has {len(samples)}"
+        )
+    if not spec.is_forced_choice and len(samples) < 2:
+        raise TrialsError(f"a {spec.name} trial needs 2 or more samples; it has {len(samples)}")
+    if spec.family == Family.RATING and not n_attributes:
+        raise TrialsError(
+            f"a rating trial needs at least one attribute; trial {trial_id} has none")
+
+
+def _check_roster(codes: Sequence[str], roster: dict[str, Panelist]) -> None:
+    missing = [c for c in codes if c not in roster]
+    if missing:
+        raise NotFoundError(f"not on the roster: {', '.join(map(repr, missing))}")
+    unconsented = [c for c in codes if roster[c].consent_on is None]
+    if unconsented:
+        raise TrialsError(
+            "no consent recorded for: " + ", ".join(map(repr, unconsented))
+            + "; record each panelist's informed consent first"
+        )
+
+
+def draw_plan(
+    store: Store,
+    study_id: int,
+    *,
+    panelist_codes: Sequence[str],
+    session: str = "1",
+    seed: int | None = None,
+    per_panelist: int | None = None,
+    by: str = "leader",
+) -> list[PlanEntry]:
+    """Draw (or redraw) the blind serving plan of one session.
+
+    The plan comes from :func:`trials.design.plan.serving_plan` (balanced sets for
+    forced choice, Williams orders or incomplete blocks with ``per_panelist`` for
+    ratings and rankings); codes already used in the trial's other sessions are not
+    drawn again. Every panelist must be on the roster with a consent date, and no
+    panelist may be served a sample holding an allergen they declared (the plan is
+    refused, naming each conflict). A session that already has answers cannot be
+    redrawn. Each cup gets the sample's latest signed-off batch (else its latest
+    batch). Each panelist gets an access token for the tasting link.
+    """
+    session = _input.name(session, "the session's name")
+    codes = [str(c).strip() for c in panelist_codes]
+    if not codes:
+        raise TrialsError("a plan needs at least one panelist; got none")
+    dupes = sorted(c for c, k in Counter(codes).items() if k > 1)
+    if dupes:
+        raise TrialsError(f"panelists listed twice: {', '.join(map(repr, dupes))}")
+
+    def work(tx) -> list[PlanEntry]:
+        trial = trial_rows.get_trial(tx, study_id)
+        spec = get_method(trial.method)
+        _check_samples(spec, trial.id, trial.samples, len(trial.attributes))
+        roster = plan_rows.roster_of(tx, codes)
+        _check_roster(codes, roster)
+        index, used = plan_rows.open_session(tx, trial.id, session, by)
+        entries = _plan_entries(spec, trial.samples, codes, session, seed, index, used,
+                                per_panelist)
+        conflicts = served_conflicts(entries, trial.samples, [roster[c] for c in codes])
+        if conflicts:
+            raise TrialsError(
+                "the plan would serve declared allergens: " + "; ".join(
+                    f"panelist {c.panelist_code!r} declared {', '.join(c.allergens)}, held by "
+                    f"sample {c.sample_name!r}" for c in conflicts
+                ) + ". Leave these panelists out of this trial"
+            )
+        return plan_rows.store_plan(tx, trial.id, session, entries, codes, seed=seed, by=by)
+
+    return store.write(work)
+
+
+def plan(store: Store, study_id: int, session: str | None = None) -> list[PlanEntry]:
+    """The serving plan with the decoding key (leader views and the serving sheet only)."""
+    with store.read() as tx:
+        return plan_rows.plan_entries(tx, study_id, session)
+
+
+def conflicts_of(samples: Sequence[Sample], entries: Sequence[PlanEntry],
+                 roster: Sequence[Panelist]) -> list[AllergenConflict]:
+    """With a plan drawn, the samples each panelist is served; before, every sample of
+    the trial for every panelist on the roster."""
+    from trials.design.allergens import allergen_conflicts as design_conflicts
+
+    if not entries:
+        return list(design_conflicts(samples, roster))
+    return served_conflicts(entries, samples, roster)
+
+
+def allergen_conflicts(store: Store, study_id: int) -> list[AllergenConflict]:
+    """Panelists whose declared allergens a sample of the trial holds
+    (:func:`trials.design.allergens.allergen_conflicts`).
+
+    With a plan drawn, only the samples each panelist is served count; before, every
+    sample of the trial counts for every panelist on the roster.
+    """
+    with store.read() as tx:
+        trial = trial_rows.get_trial(tx, study_id)
+        entries = plan_rows.plan_entries(tx, study_id)
+        roster = panel_rows.list_panelists(tx)
+    return conflicts_of(trial.samples, entries, roster)
+
+
+def plan_balance(store: Store, study_id: int) -> dict[str, pd.DataFrame]:
+    """How balanced the drawn plan is: cups of each sample at each position, and (forced
+    choice) how often each set pattern is served. Empty frames without a plan."""
+    entries = plan(store, study_id)
+    if not entries:
+        return {"positions": pd.DataFrame(), "patterns": pd.DataFrame()}
+    frame = pd.DataFrame([e.to_dict() for e in entries])
+    positions = pd.crosstab(frame["sample_name"], frame["position"])
+    positions.index.name, positions.columns.name = "sample", "position"
+    out = {"positions": positions, "patterns": pd.DataFrame()}
+    if frame["role"].astype(str).str.len().gt(0).any():
+        pats = (frame.sort_values("position").groupby(["session", "panelist_code", "set_index"])
+                ["role"].agg("".join))
+        counts = pats.value_counts().rename_axis("pattern").reset_index(name="sets")
+        out["patterns"] = counts.sort_values("pattern").reset_index(drop=True)
+    return out
+
+
+def panelist_token(store: Store, study_id: int, panelist_code: str) -> str:
+    """The unguessable token of a panelist's tasting link for a trial (made on first use)."""
+    return store.write(lambda tx: plan_rows.token_of(tx, study_id, panelist_code))
+
+
+def panelist_links(store: Store, study_id: int) -> dict[str, str]:
+    """Panelist code -> path of the tasting screen, relative to the app's address."""
+    with store.read() as tx:
+        return plan_rows.links(tx, study_id)

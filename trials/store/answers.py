@@ -1,0 +1,139 @@
+"""Answers in the store: what is needed to check an answer against the serving plan,
+saving one answer (recorded once, a changed one replaced and audited), inserting a
+checked import in bulk, reading the answers back, and the audit log."""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections import defaultdict
+from collections.abc import Sequence
+
+import sqlalchemy as sa
+from sqlalchemy.orm import Session
+
+from trials.model import AuditEntry, EntryMode, PlanBook, Response, ServedCup, StoredAnswer
+from trials.store import rows
+from trials.store.schema import (
+    AuditRow,
+    PanelistRow,
+    PlanEntryRow,
+    ResponseRow,
+    SampleRow,
+    SessionRow,
+)
+
+
+def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
+              with_existing: bool = False) -> PlanBook:
+    """The plan of a trial (or of one panelist) for checking answers."""
+    trial = rows.trial_row(s, trial_id)
+    q = (
+        sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.code,
+                  PlanEntryRow.position, PlanEntryRow.set_index, SampleRow.name,
+                  PlanEntryRow.role)
+        .select_from(PlanEntryRow)
+        .join(SessionRow, PlanEntryRow.session_id == SessionRow.id)
+        .join(PanelistRow, PlanEntryRow.panelist_id == PanelistRow.id)
+        .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
+        .where(SessionRow.study_id == trial.id)
+    )
+    if panelist_code is not None:  # one panelist's answers need only their own cups
+        q = q.where(PanelistRow.code == panelist_code)
+    plan: dict[tuple[str, str], dict[str, ServedCup]] = defaultdict(dict)
+    panelists: dict[str, int] = {}
+    for sess, pcode, pid, code, pos, k, sample, role in s.execute(q).all():
+        plan[(sess, pcode)][code] = ServedCup(code, pos, k, sample, role)
+        panelists[pcode] = pid
+    book = PlanBook(
+        rows.trial_record(trial), {x.name: x.id for x in trial.sessions},
+        {x.name: i for i, x in enumerate(trial.sessions)}, panelists, dict(plan),
+    )
+    if with_existing:
+        for sid, pid, question, code, value in s.execute(
+            sa.select(ResponseRow.session_id, ResponseRow.panelist_id, ResponseRow.question,
+                      ResponseRow.code, ResponseRow.value)
+            .where(ResponseRow.study_id == trial.id)
+        ):
+            book.existing[(sid, pid, question)] = (code, value)
+    return book
+
+
+def save_answer(s: Session, trial_id: int, ans: StoredAnswer, *, session: str,
+                panelist: str, comment: str, entered_by: str,
+                entered_at: dt.datetime | None, mode: EntryMode) -> Response:
+    """Insert, or update (audited) a different answer; the same answer is kept once."""
+    row = s.scalar(sa.select(ResponseRow).where(
+        ResponseRow.session_id == ans.session_id, ResponseRow.panelist_id == ans.panelist_id,
+        ResponseRow.question == ans.question))
+    if row is None:
+        row = ResponseRow(
+            study_id=trial_id, session_id=ans.session_id, panelist_id=ans.panelist_id,
+            question=ans.question, code=ans.code, attribute=ans.attribute, value=ans.value,
+            comment=comment or "", entered_by=entered_by, entered_at=entered_at or rows.now(),
+            mode=mode.value,
+        )
+        s.add(row)
+        s.flush()
+        rows.audit(s, trial_id, entered_by, "response", row.id, "created", None,
+                   f"{ans.question} = {ans.code} {ans.value}".strip())
+        return rows.response_record(row, session, panelist)
+    for key, new in (("code", ans.code), ("value", ans.value), ("comment", comment or "")):
+        old = getattr(row, key)
+        if key == "comment" and not new:
+            continue  # an answer repeated without its comment keeps the comment
+        if old != new:
+            rows.audit(s, trial_id, entered_by, "response", row.id, key, old, new)
+            setattr(row, key, new)
+    return rows.response_record(row, session, panelist)
+
+
+def insert_answers(s: Session, trial_id: int, values: Sequence[dict], *, by: str,
+                   note: str | None) -> int:
+    """Insert checked new answers (the columns of ``response``) in chunks of 5,000 and
+    audit the import once (not when ``note`` is None)."""
+    for start in range(0, len(values), 5000):
+        s.execute(sa.insert(ResponseRow), list(values[start:start + 5000]))
+    if note is not None:
+        rows.audit(s, trial_id, by, "response", None, "import", None, note)
+    return len(values)
+
+
+def responses(s: Session, trial_id: int, *, panelist_code: str | None = None) -> list[Response]:
+    """Every answer to a trial (or one panelist's), by session, panelist and entry."""
+    trial = rows.trial_row(s, trial_id)
+    q = (
+        sa.select(ResponseRow, SessionRow.name, PanelistRow.code)
+        .join(SessionRow, ResponseRow.session_id == SessionRow.id)
+        .join(PanelistRow, ResponseRow.panelist_id == PanelistRow.id)
+        .where(ResponseRow.study_id == trial.id)
+        .order_by(SessionRow.id, PanelistRow.code, ResponseRow.id)
+    )
+    if panelist_code is not None:
+        q = q.where(PanelistRow.code == panelist_code)
+    return [rows.response_record(r, sess, p) for r, sess, p in s.execute(q)]
+
+
+def audit_log(s: Session, trial_id: int) -> list[AuditEntry]:
+    """Every change to a trial, oldest first."""
+    trial = rows.trial_row(s, trial_id)
+    found = s.scalars(sa.select(AuditRow).where(AuditRow.study_id == trial.id)
+                      .order_by(AuditRow.id)).all()
+    return [AuditEntry(r.at, r.who, r.table_name, r.row_id, r.field, r.old_value,
+                       r.new_value) for r in found]
+
+
+def scores_of_sample(s: Session, sample_name: str) -> list[dict]:
+    """Every rated score given to a cup of a sample of this name, in any trial: one
+    query for the history's control trend. Keys: ``trial_id code attribute value``."""
+    q = (
+        sa.select(ResponseRow.study_id, ResponseRow.code, ResponseRow.attribute,
+                  ResponseRow.value)
+        .select_from(ResponseRow)
+        .join(PlanEntryRow, sa.and_(PlanEntryRow.session_id == ResponseRow.session_id,
+                                    PlanEntryRow.panelist_id == ResponseRow.panelist_id,
+                                    PlanEntryRow.code == ResponseRow.code))
+        .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
+        .where(SampleRow.name == sample_name, ResponseRow.attribute != "choice")
+        .order_by(ResponseRow.study_id, ResponseRow.id)
+    )
+    return [{"trial_id": a, "code": b, "attribute": c, "value": d} for a, b, c, d in s.execute(q)]
