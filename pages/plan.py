@@ -12,16 +12,12 @@ store, study_id, study, spec, overview = ui.open_trial()
 st.title(f"Serving plan: {study.name}")
 ui.food_caution(study_id)
 
-roster = service.list_panelists(store)
-clash = {c.panelist_code for c in service.allergen_conflicts(store, study_id)}
-ready = [p.code for p in roster if p.consented]
-safe = [c for c in ready if c not in clash]
-planned = {p.code for p in service.list_panelists(store, study_id)}
+choice = service.panel_choice(store, study_id)
 
 with st.form("draw"):
     st.markdown(f"**Draw the plan** ({spec.label}, {len(study.samples)} samples)")
     chosen = st.multiselect(
-        "Panelists (consent recorded)", ready, default=sorted(planned & set(safe)) or safe,
+        "Panelists (consent recorded)", list(choice.consented), default=list(choice.suggested),
         help="Panelists without a consent date cannot be served; panelists with an allergen "
              "conflict are left out unless you add them (the draw then refuses).",
     )

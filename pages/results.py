@@ -4,6 +4,7 @@ import pandas as pd
 import streamlit as st
 
 from trials import service, ui
+from trials.decision import p_text
 from trials.errors import TrialsError
 from trials.methods import Family, get_method
 
@@ -33,12 +34,6 @@ with st.container(border=True):
     st.caption(f"Method: {decision.method}. Source: {decision.reference}.")
 
 
-def _fmt_p(p) -> str:
-    if p is None:
-        return "-"
-    return "< 0.001" if p < 0.001 else f"{p:.3f}"
-
-
 def _interval(ci) -> str:
     return f"[{ci[0]:.2f}, {ci[1]:.2f}]"
 
@@ -64,7 +59,7 @@ if result.choice is not None:
                   help=f"Fewest {label} answers that conclude a difference at alpha = "
                        f"{diff.alpha:g} ({'two' if diff.sides == 2 else 'one'}-sided exact "
                        "binomial; the published critical-value tables give the same counts).")
-        c3.metric("p-value", _fmt_p(diff.p_value))
+        c3.metric("p-value", p_text(diff.p_value))
         c4.metric("Significant", "yes" if diff.significant else "no")
         if spec.family == Family.DISCRIMINATION:
             e1, e2, e3 = st.columns(3)
@@ -171,7 +166,7 @@ if result.ranking is not None:
     if fr is not None:
         c1, c2, c3 = st.columns(3)
         c1.metric(f"{fr.test} statistic", f"{fr.statistic:.2f}", help=f"df = {fr.df}")
-        c2.metric("p-value", _fmt_p(fr.p_value))
+        c2.metric("p-value", p_text(fr.p_value))
         c3.metric("LSD of rank sums", f"{fr.lsd:.2f}", help=fr.lsd_method)
         st.dataframe(pd.DataFrame([{
             "sample": s, "rank sum": fr.rank_sums[s], "mean rank": fr.mean_ranks[s],

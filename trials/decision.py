@@ -66,13 +66,20 @@ class Decision(Record):
 # --------------------------------------------------------------------------- formatting
 
 
+def p_text(p: float | None) -> str:
+    """A p-value alone, for a table cell or a metric: ``0.003``; ``< 0.001`` below a
+    thousandth; an en dash for None."""
+    if p is None or (isinstance(p, float) and math.isnan(p)):
+        return "\u2013"
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
 def fmt_p(p: float | None) -> str:
     """``p = 0.003``; ``p < 0.001`` below a thousandth; ``p not available`` for None."""
     if p is None or (isinstance(p, float) and math.isnan(p)):
         return "p not available"
-    if p < 0.001:
-        return "p < 0.001"
-    return f"p = {p:.3f}"
+    text = p_text(p)
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
 
 
 def fmt(x: float | None, digits: int = 2) -> str:

@@ -344,3 +344,16 @@ class StoredAnswer:
     code: str
     attribute: str
     value: str
+
+
+@dataclass(frozen=True, slots=True)
+class PanelChoice(Record):
+    """Who may be served in a trial's next plan: ``consented`` (codes with a consent
+    date), ``conflicted`` (codes a sample's allergens rule out), ``planned`` (codes in
+    the plan already) and ``suggested`` (the default choice: the planned panelists who
+    are safe, else every safe consented panelist)."""
+
+    consented: tuple[str, ...]
+    conflicted: tuple[str, ...]
+    planned: tuple[str, ...]
+    suggested: tuple[str, ...]

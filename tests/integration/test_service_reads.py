@@ -73,3 +73,23 @@ def test_the_history_costs_the_same_queries_for_two_trials_and_for_six(store):
         service.control_trend(store, "Glaze A")
     assert few.statements > 0
     assert many.statements == few.statements
+
+
+def test_the_panel_choice_suggests_the_safe_consented_panelists(store):
+    import datetime as dt
+
+    from trials.model import Sample
+
+    service.add_panelist(store, "N1", consent_on=dt.date(2026, 1, 5))
+    service.add_panelist(store, "N2", consent_on=dt.date(2026, 1, 5), allergens="sesame")
+    service.add_panelist(store, "N3")  # no consent recorded
+    trial = service.create_study(store, name="Seeded crust", method="triangle",
+                                 samples=[Sample("Plain", is_control=True),
+                                          Sample("Seeded", allergens=("sesame",))])
+    choice = service.panel_choice(store, trial.id)
+    assert choice.consented == ("N1", "N2")
+    assert choice.conflicted == ("N2",)
+    assert choice.planned == ()
+    assert choice.suggested == ("N1",)
+    service.draw_plan(store, trial.id, panelist_codes=["N1"], seed=1)
+    assert service.panel_choice(store, trial.id).planned == ("N1",)

@@ -76,6 +76,7 @@ from trials.service.results import (
 from trials.service.serving import (
     allergen_conflicts,
     draw_plan,
+    panel_choice,
     panelist_links,
     panelist_token,
     plan,
@@ -116,7 +117,7 @@ __all__ = [
     "export_bytes", "export_measures_bytes", "export_responses", "get_study", "history",
     "import_archive", "import_batches", "import_panelists", "import_responses",
     "list_batches", "list_panelists", "list_studies", "measures_frame", "open_store",
-    "paper_sheet", "panel_performance_of", "panelist_links", "panelist_token", "plan",
+    "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token", "plan",
     "plan_balance", "planning_answer", "power_curve", "print_bytes", "print_document",
     "print_result", "record_answer", "record_decision", "record_response", "report_html",
     "report_pdf", "responses", "responses_frame", "save_paper_sheet", "set_status",

@@ -13,7 +13,7 @@ import pandas as pd
 
 from trials.errors import NotFoundError, TrialsError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import AllergenConflict, Panelist, PlanEntry, Sample
+from trials.model import AllergenConflict, PanelChoice, Panelist, PlanEntry, Sample
 from trials.service import _input
 from trials.store import Store
 from trials.store import panel as panel_rows
@@ -165,6 +165,25 @@ def allergen_conflicts(store: Store, study_id: int) -> list[AllergenConflict]:
         entries = plan_rows.plan_entries(tx, study_id)
         roster = panel_rows.list_panelists(tx)
     return conflicts_of(trial.samples, entries, roster)
+
+
+def panel_choice(store: Store, study_id: int) -> PanelChoice:
+    """Who may be served in the trial's next plan (one snapshot): panelists without a
+    consent date cannot be; those with an allergen conflict are left out of the
+    suggestion (drawing with them is refused)."""
+    with store.read() as tx:
+        trial = trial_rows.get_trial(tx, study_id)
+        roster = panel_rows.list_panelists(tx)
+        planned = {p.code for p in panel_rows.list_panelists(tx, study_id)}
+        entries = plan_rows.plan_entries(tx, study_id)
+    clash = {c.panelist_code for c in conflicts_of(trial.samples, entries, roster)}
+    consented = [p.code for p in roster if p.consented]
+    safe = [c for c in consented if c not in clash]
+    return PanelChoice(
+        consented=tuple(consented), conflicted=tuple(sorted(clash)),
+        planned=tuple(sorted(planned)),
+        suggested=tuple(sorted(planned & set(safe)) or safe),
+    )
 
 
 def plan_balance(store: Store, study_id: int) -> dict[str, pd.DataFrame]:
