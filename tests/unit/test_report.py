@@ -117,7 +117,8 @@ def test_the_report_quotes_the_anova_and_the_measures(rating_report):
 
 def test_a_trial_without_answers_gives_a_report_that_says_so():
     plan = plan_for("triangle", TRIANGLE_24)
-    doc = report_html(study("triangle"), plan=plan, responses=[])
+    s = study("triangle")
+    doc = report_html(s, analyse(s, plan, []), plan=plan, responses=[])
     text = " ".join(parse(doc).text)
     assert "No answers yet" in text and "no answers yet" in text
     assert "24" in text and "Plotly.newPlot" not in doc  # plan shown, no chart
@@ -127,7 +128,8 @@ def test_a_trial_without_answers_gives_a_report_that_says_so():
 def test_the_triangle_report_matches_the_exact_test_and_draws_pc_against_critical():
     plan = plan_for("triangle", TRIANGLE_24)
     s = study("triangle", pd=0.3, objective="Can tasters tell the crumbs apart?")
-    doc = report_html(s, plan=plan, responses=triangle_answers(plan, 15))
+    answers = triangle_answers(plan, 15)
+    doc = report_html(s, analyse(s, plan, answers), plan=plan, responses=answers)
     ref = difference_test(15, 24, method="triangle", alpha=0.05)
     text = " ".join(parse(doc).text)
     assert f"15 of 24 picked the odd sample ({fmt_p(ref.p_value)}; 13 needed" in text
@@ -138,7 +140,9 @@ def test_the_triangle_report_matches_the_exact_test_and_draws_pc_against_critica
 
 def test_a_given_decision_text_is_printed_escaped():
     plan = plan_for("triangle", ["AAB"])
-    doc = report_html(study("triangle"), plan=plan, responses=[], decision_text="Keep <old> crumb")
+    s = study("triangle")
+    doc = report_html(s, analyse(s, plan, []), plan=plan, responses=[],
+                      decision_text="Keep <old> crumb")
     assert "Keep &lt;old&gt; crumb" in doc
 
 
@@ -155,7 +159,8 @@ def test_the_pdf_summary_holds_the_decision_and_the_caution():
     assert "informed consent" in flat
     weird = Study(name=NASTY, method="rating", samples=SAMPLES3, attributes=s.attributes)
     assert NASTY in " ".join(p.extract_text() for p in
-                             PdfReader(io.BytesIO(report_pdf(weird, plan=plan,
+                             PdfReader(io.BytesIO(report_pdf(weird, analyse(weird, plan, responses),
+                                                             plan=plan,
                                                              responses=responses))).pages)
 
 

@@ -25,7 +25,7 @@ from typing import Any
 
 import pandas as pd
 
-from trials.analysis import StudyAnalysis, analyse, decode_responses
+from trials.analysis import StudyAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import get_method
 from trials.model import Batch, PlanEntry, Response, Study
@@ -442,13 +442,11 @@ def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> str:
 
 
 
-def _prepared(study: Study, analysis: StudyAnalysis | None, plan: list[PlanEntry],
-              responses: list[Response], batches: list[Batch],
+def _prepared(study: Study, analysis: StudyAnalysis,
               decision_text: Decision | str | None) -> tuple[StudyAnalysis, Decision]:
-    """The analysis and the decision a report shows: given, or made from the answers
-    (a plain text decision is wrapped with the method's published source)."""
-    if analysis is None:
-        analysis = analyse(study, plan, responses, batches=batches)
+    """The analysis and the decision a report shows: the decision given, or made from
+    the analysis (a plain text decision is wrapped with the method's published source).
+    The report draws; it never analyses (the caller made ``analysis`` once)."""
     if decision_text is None:
         return analysis, decide(analysis, study=study)
     if isinstance(decision_text, str):
@@ -456,7 +454,7 @@ def _prepared(study: Study, analysis: StudyAnalysis | None, plan: list[PlanEntry
                                   get_method(study.method).reference)
     return analysis, decision_text
 
-def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
+def report_html(study: Study, analysis: StudyAnalysis, *,
                 plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
                 batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
                 generated_on: dt.date | None = None) -> str:
@@ -465,8 +463,8 @@ def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
     Parameters
     ----------
     study : trials.model.Study
-    analysis : trials.analysis.StudyAnalysis, optional
-        Computed from ``plan``, ``responses`` and ``batches`` when not given.
+    analysis : trials.analysis.StudyAnalysis
+        From :func:`trials.analysis.analyse` of the same plan, responses and batches.
     plan, responses, batches : sequences of records
         For the plan summary, the panel counts, the batch table and the appendix.
     decision_text : Decision or str, optional
@@ -481,7 +479,7 @@ def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
         A complete HTML document (UTF-8), viewable offline.
     """
     plan, responses, batches = list(plan), list(responses), list(batches)
-    analysis, decision = _prepared(study, analysis, plan, responses, batches, decision_text)
+    analysis, decision = _prepared(study, analysis, decision_text)
     spec = get_method(study.method)
     charts = _Charts()
     today = generated_on or dt.date.today()
@@ -527,7 +525,7 @@ def report_html(study: Study, analysis: StudyAnalysis | None = None, *,
             + "\n".join(body) + "</main></body></html>\n")
 
 
-def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
+def report_pdf(study: Study, analysis: StudyAnalysis, *,
                plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
                batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
                page: str = "A4") -> bytes:
@@ -546,7 +544,7 @@ def report_pdf(study: Study, analysis: StudyAnalysis | None = None, *,
     from trials.printing.layout import BOLD, SANS, page_size, printable, register_fonts
 
     plan, responses, batches = list(plan), list(responses), list(batches)
-    analysis, decision = _prepared(study, analysis, plan, responses, batches, decision_text)
+    analysis, decision = _prepared(study, analysis, decision_text)
     register_fonts()
     spec = get_method(study.method)
 

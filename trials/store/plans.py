@@ -25,7 +25,6 @@ from trials.store.schema import (
     ResponseRow,
     SampleRow,
     SessionRow,
-    StudyRow,
 )
 
 TASTE_PATH = "/taste?t="
@@ -157,9 +156,8 @@ def token_owner(s: Session, token: str) -> tuple[int, str]:
     row = s.scalar(sa.select(AccessTokenRow).where(AccessTokenRow.token == str(token or "")))
     if row is None:
         raise AccessDenied("this tasting link is not valid; ask the panel leader for yours")
-    trial = s.get(StudyRow, row.study_id)
-    panelist = s.get(PanelistRow, row.panelist_id)
-    return trial.id, panelist.code
+    code = s.scalar(sa.select(PanelistRow.code).where(PanelistRow.id == row.panelist_id))
+    return row.study_id, str(code)
 
 
 def new_tokens(s: Session, trial_id: int, codes: Iterable[str]) -> None:
