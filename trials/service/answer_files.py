@@ -45,6 +45,7 @@ from trials.service.checking import NO_PREFERENCE, BadAnswer, check_answer, ques
 from trials.service.tasting import responses_frame, save_checked
 from trials.store import Store
 from trials.store import answers as answer_rows
+from trials.store import limits
 from trials.store import plans as plan_rows
 from trials.store.rows import now
 
@@ -69,11 +70,11 @@ def _row_extras(rec: dict[str, Any], default_at: dt.datetime) -> tuple[EntryMode
     if str(rec.get("entered_at", "") or "").strip():
         try:
             at = dt.datetime.fromisoformat(str(rec["entered_at"]).strip())
-        except ValueError:
+            if at.tzinfo is not None:
+                at = at.astimezone(dt.UTC).replace(tzinfo=None)
+        except (ValueError, OverflowError):
             raise BadAnswer("entered_at", "expected a date and time written "
                             f"YYYY-MM-DDTHH:MM:SS, got {rec['entered_at']!r}") from None
-        if at.tzinfo is not None:
-            at = at.astimezone(dt.UTC).replace(tzinfo=None)
     return mode, at
 
 
@@ -109,13 +110,19 @@ def checked_import(book: PlanBook, records: list[dict[str, Any]], *, entered_by:
                     f"{old[1]!r}; in the file: code {ans.code!r}, value {ans.value!r})"
                 )
             continue
+        comment = str(rec.get("comment", "") or "")
+        by = str(rec.get("entered_by", "") or "").strip() or entered_by
+        too_much = [(c, limits.problem("response", c, v)) for c, v in
+                    (("comment", comment), ("entered_by", by))]
+        too_much = [(c, p) for c, p in too_much if p]
+        if too_much:
+            problems += [f"row {rowno}, column {c!r}: {p}" for c, p in too_much]
+            continue
         new.append({
             "study_id": book.trial.id, "session_id": ans.session_id,
             "panelist_id": ans.panelist_id, "question": ans.question, "code": ans.code,
             "attribute": ans.attribute, "value": ans.value,
-            "comment": str(rec.get("comment", "") or ""),
-            "entered_by": str(rec.get("entered_by", "") or "").strip() or entered_by,
-            "entered_at": when, "mode": mode.value,
+            "comment": comment, "entered_by": by, "entered_at": when, "mode": mode.value,
         })
     if problems:
         raise ImportRowsError(problems)

@@ -5,6 +5,8 @@ loaded once by the store and returns the answer ready to store, or raises
 
 from __future__ import annotations
 
+import math
+
 from trials.methods import Family, get_method
 from trials.model import PlanBook, ServedCup, StoredAnswer
 
@@ -24,9 +26,9 @@ def whole(value: str, low: int, high: int) -> int:
     """A whole number from ``low`` to ``high`` written as text."""
     try:
         x = float(value)
-    except ValueError:
+    except (TypeError, ValueError):
         x = float("nan")
-    if not (x == x) or x != int(x) or not low <= x <= high:
+    if not math.isfinite(x) or x != int(x) or not low <= x <= high:
         raise BadAnswer("value", f"expected a whole number from {low} to {high}, got {value!r}")
     return int(x)
 

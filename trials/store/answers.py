@@ -12,7 +12,7 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.model import AuditEntry, EntryMode, PlanBook, Response, ServedCup, StoredAnswer
-from trials.store import rows
+from trials.store import limits, rows
 from trials.store.schema import (
     AuditRow,
     PanelistRow,
@@ -91,6 +91,7 @@ def insert_answers(s: Session, trial_id: int, values: Sequence[dict], *, by: str
                    note: str | None) -> int:
     """Insert checked new answers (the columns of ``response``) in chunks of 5,000 and
     audit the import once (not when ``note`` is None)."""
+    limits.check_values("response", values)
     for start in range(0, len(values), 5000):
         s.execute(sa.insert(ResponseRow), list(values[start:start + 5000]))
     if note is not None:

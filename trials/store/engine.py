@@ -27,7 +27,7 @@ from sqlalchemy.exc import DBAPIError, IntegrityError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from trials.errors import TrialsError
-from trials.store import migrations
+from trials.store import limits, migrations
 
 T = TypeVar("T")
 
@@ -171,11 +171,13 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
     if engine.dialect.name == "sqlite":
         _sqlite_settings(engine)
     writer = engine.execution_options(trials_write=True)
+    write_sessions = sessionmaker(writer, expire_on_commit=False)
+    limits.guard(write_sessions)  # texts too long or holding NUL: refused alike everywhere
     store = Store(
         url=shown,
         engine=engine,
         _read=sessionmaker(engine, expire_on_commit=False),
-        _write=sessionmaker(writer, expire_on_commit=False),
+        _write=write_sessions,
         _write_lock=threading.Lock() if engine.dialect.name == "sqlite" else None,
     )
     _migrate(store)
