@@ -13,10 +13,12 @@ import json
 import os
 import subprocess
 import sys
+import warnings
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
+from trials import limits
 from trials.errors import TrialsError
 from trials.methods import FORCED_CHOICE, METHODS
 
@@ -39,6 +41,31 @@ def _count(text: str) -> int:
         return int(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+
+
+# the largest value each argument takes (trials.limits); smaller bad values are left to
+# the functions, whose messages say what is expected
+_MOST = {
+    "n": (limits.MAX_N, "--n"), "correct": (limits.MAX_N, "--correct"),
+    "panelists": (limits.MAX_PANELISTS, "--panelists"),
+    "samples": (limits.MAX_SAMPLES, "--samples"),
+    "per_panelist": (limits.MAX_SAMPLES, "--per-panelist"),
+    "count": (limits.MAX_CODES, "--count"), "port": (limits.MAX_PORT, "--port"),
+    "id": (2**31 - 1, "the trial id"), "trial": (2**31 - 1, "--trial"),
+}
+
+
+def _check_limits(args: argparse.Namespace) -> None:
+    """Refuse at once a request past the documented limits (trials.limits)."""
+    for dest, (most, what) in _MOST.items():
+        value = getattr(args, dest, None)
+        if isinstance(value, int) and value > most:
+            shown = str(value) if len(str(value)) <= 20 else f"{str(value)[:12]}... ({len(str(value))} digits)"
+            raise TrialsError(f"{what} may be at most {most:,}; got {shown}")
+    for dest in ("alpha", "beta"):
+        value = getattr(args, dest, None)
+        if isinstance(value, float) and 0 < value < limits.MIN_ALPHA:
+            raise TrialsError(f"--{dest} may be no smaller than {limits.MIN_ALPHA:g}; got {value!r}")
 
 
 def _seed(args: argparse.Namespace) -> int | None:
@@ -166,7 +193,7 @@ def _study_show(args: argparse.Namespace) -> dict[str, Any]:
 def _import_responses(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
-    rows = service.import_responses(_store(args), args.study, Path(args.file))
+    rows = service.import_responses(_store(args), args.trial, Path(args.file))
     return {"imported": rows}
 
 
@@ -174,7 +201,7 @@ def _export_responses(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
     out = Path(args.out)
-    rows = service.export_responses(_store(args), args.study, out, fmt=args.format)
+    rows = service.export_responses(_store(args), args.trial, out, fmt=args.format)
     return {"rows": rows, "path": str(out)}
 
 
@@ -183,7 +210,7 @@ def _print(args: argparse.Namespace) -> dict[str, Any]:
 
     out = Path(args.out)
     base_url = args.base_url or os.environ.get("TRIALS_BASE_URL", "")
-    pages = service.print_document(_store(args), args.study, args.kind, out, base_url=base_url)
+    pages = service.print_document(_store(args), args.trial, args.kind, out, base_url=base_url)
     return {"pages": pages, "path": str(out)}
 
 
@@ -191,7 +218,7 @@ def _report(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
     out = Path(args.out)
-    decision = service.write_report(_store(args), args.study, out)
+    decision = service.write_report(_store(args), args.trial, out)
     return {"decision": decision, "path": str(out)}
 
 
@@ -251,6 +278,11 @@ def _add_db(p: argparse.ArgumentParser) -> None:
 
 def _add_seed(p: argparse.ArgumentParser) -> None:
     p.add_argument("--seed", type=_count, default=None, help="seed, for a plan you can redraw")
+
+
+def _add_trial(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--trial", "--study", dest="trial", required=True, type=_count,
+                   metavar="ID", help="the trial's id (--study also works)")
 
 
 def _leaf(sub, name: str, handler: Handler, help_text: str, *, db: bool = False):
@@ -335,22 +367,22 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--alpha", type=_fraction, default=0.05)
 
-    study = sub.add_parser("study", help="trials on file")
-    ssub = study.add_subparsers(dest="study_cmd", required=True, metavar="ACTION")
-    _leaf(ssub, "list", _study_list, "list the trials", db=True)
-    p = _leaf(ssub, "show", _study_show, "show one trial", db=True)
+    trial = sub.add_parser("trial", aliases=["study"], help="trials on file ('study' also works)")
+    tsub = trial.add_subparsers(dest="trial_cmd", required=True, metavar="ACTION")
+    _leaf(tsub, "list", _study_list, "list the trials", db=True)
+    p = _leaf(tsub, "show", _study_show, "show one trial", db=True)
     p.add_argument("id", type=_count)
 
     imp = sub.add_parser("import", help="import answers from a file")
     isub = imp.add_subparsers(dest="import_cmd", required=True, metavar="WHAT")
     p = _leaf(isub, "responses", _import_responses, "import responses (all rows or none)", db=True)
     p.add_argument("file")
-    p.add_argument("--study", required=True, type=_count)
+    _add_trial(p)
 
     exp = sub.add_parser("export", help="export answers to a file")
     esub = exp.add_subparsers(dest="export_cmd", required=True, metavar="WHAT")
     p = _leaf(esub, "responses", _export_responses, "export responses with the key", db=True)
-    p.add_argument("--study", required=True, type=_count)
+    _add_trial(p)
     p.add_argument("--format", choices=("csv", "xlsx"), default="csv")
     p.add_argument("--out", required=True)
 
@@ -362,7 +394,7 @@ def build_parser() -> argparse.ArgumentParser:
         ("labels", "cup labels in serving order"),
     ):
         p = _leaf(psub, kind, _print, text, db=True)
-        p.add_argument("--study", required=True, type=_count)
+        _add_trial(p)
         p.add_argument("--out", required=True)
         p.add_argument(
             "--base-url",
@@ -372,7 +404,7 @@ def build_parser() -> argparse.ArgumentParser:
         )
 
     p = _leaf(sub, "report", _report, "write the trial's report as HTML", db=True)
-    p.add_argument("--study", required=True, type=_count)
+    _add_trial(p)
     p.add_argument("--out", required=True)
 
     _leaf(sub, "demo", _demo, "seed the invented demo trials", db=True)
@@ -394,20 +426,35 @@ def _human(result: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
+def _note(message, category, filename, lineno, file=None, line=None) -> None:
+    """Warnings (an unbalanced plan, a small panel) as one plain line on stderr."""
+    print(f"trials: note: {message}", file=sys.stderr)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
-    try:
-        result = args.handler(args)
-    except TrialsError as exc:
-        print(f"trials: {exc}", file=sys.stderr)
-        return 2
+    with warnings.catch_warnings():
+        warnings.simplefilter("default")
+        warnings.showwarning = _note
+        try:
+            _check_limits(args)
+            result = args.handler(args)
+        except TrialsError as exc:
+            print(f"trials: {exc}", file=sys.stderr)
+            return 2
+        except OSError as exc:  # a missing folder, a folder given as a file, a full disk
+            where = f" ({exc.filename})" if exc.filename else ""
+            print(f"trials: {exc.strerror or exc}{where}", file=sys.stderr)
+            return 2
     if args.command == "app":
         return int(result.get("exit", 0))
-    if args.json:
-        print(json.dumps(result, default=str))
-    else:
-        print(_human(result))
+    text = json.dumps(result, default=str) if args.json else _human(result)
+    try:
+        print(text)
+        sys.stdout.flush()
+    except BrokenPipeError:  # the reader (head, a pager) stopped early: not an error
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
     return 0
 
 

@@ -156,8 +156,13 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
     url = resolve_url(url)
     try:
         sa_url = sa.engine.make_url(url)
-    except sa.exc.ArgumentError:
-        raise TrialsError(f"not a database URL: {url!r}") from None
+    except (sa.exc.ArgumentError, ValueError):
+        raise TrialsError(f"not a database URL: {url!r}; expected e.g. "
+                          "sqlite:///trials.db or postgresql://user@host/dbname") from None
+    if sa_url.get_backend_name() == "sqlite":
+        if sa_url.host or (sa_url.database is not None and not sa_url.database.strip()):
+            raise TrialsError(f"not a SQLite file URL: {url!r}; write sqlite:///relative.db "
+                              "or sqlite:////absolute/path.db")
     kwargs: dict = {"echo": echo}
     if sa_url.get_backend_name() == "sqlite":
         kwargs["connect_args"] = {"timeout": BUSY_TIMEOUT_MS / 1000, "check_same_thread": False}
@@ -166,7 +171,7 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
     shown = sa_url.render_as_string(hide_password=True)
     try:
         engine = sa.create_engine(sa_url, **kwargs)
-    except (ImportError, sa.exc.NoSuchModuleError) as exc:
+    except (ImportError, sa.exc.NoSuchModuleError, sa.exc.ArgumentError, ValueError) as exc:
         raise TrialsError(f"cannot open {shown!r}: {exc}") from None
     if engine.dialect.name == "sqlite":
         _sqlite_settings(engine)
@@ -185,6 +190,10 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
 
 
 def _migrate(store: Store) -> None:
+    """Create or upgrade the schema. The version is read first in a read transaction, so
+    that opening an up-to-date store never waits on a writer; only a new or older store
+    takes the write lock."""
+
     def step(session: Session) -> None:
         conn = session.connection()
         if store.dialect == "postgresql":
@@ -192,7 +201,14 @@ def _migrate(store: Store) -> None:
         migrations.upgrade(conn)
 
     try:
-        store.write(step)
-    except OperationalError as exc:
+        with store.read() as session:
+            version = migrations.current_version(session.connection())
+        if version != migrations.LATEST:
+            store.write(step)
+    except DBAPIError as exc:  # not a database, truncated, read-only, unreachable
         store.engine.dispose()
-        raise TrialsError(f"cannot open the store {store.url!r}: {exc.orig}") from None
+        reason = str(getattr(exc, "orig", exc)).strip().splitlines()[0]
+        raise TrialsError(f"cannot open the store {store.url!r}: {reason}") from None
+    except TrialsError:
+        store.engine.dispose()
+        raise

@@ -49,7 +49,8 @@ def current_version(conn: Connection) -> int | None:
     """The recorded schema version, 0 for an empty database, None for a foreign one."""
     names = set(sa.inspect(conn).get_table_names())
     if "schema_version" not in names:
-        return 0 if "study" not in names else None
+        # an empty database is new; tables of another program's make it foreign
+        return 0 if not names else None
     top = conn.execute(sa.select(sa.func.max(SchemaVersion.version))).scalar()
     return int(top or 0)
 
@@ -60,8 +61,8 @@ def upgrade(conn: Connection) -> list[int]:
     version = current_version(conn)
     if version is None:
         raise TrialsError(
-            "the database holds a 'study' table but no 'schema_version': not a trial store "
-            "this program can upgrade"
+            "the database holds tables but no 'schema_version': not a trial store (another "
+            "program's database?); give a new file or an empty database"
         )
     if version > LATEST:
         raise TrialsError(
