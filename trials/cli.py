@@ -11,7 +11,6 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import subprocess
 import sys
 import warnings
 from collections.abc import Callable, Sequence
@@ -228,6 +227,25 @@ def _demo(args: argparse.Namespace) -> dict[str, Any]:
     return {"studies": [s.to_dict() for s in seed_demo(_store(args))]}
 
 
+def _passcode_is_set() -> bool:
+    """A leader passcode in TRIALS_PASSCODE or in .streamlit/secrets.toml (as the app
+    reads it, see trials.ui.configured_passcode)."""
+    if os.environ.get("TRIALS_PASSCODE"):
+        return True
+    import tomllib
+
+    secrets = Path(".streamlit") / "secrets.toml"
+    try:
+        data = tomllib.loads(secrets.read_text(encoding="utf-8"))
+    except (OSError, tomllib.TOMLDecodeError):
+        return False
+    return bool(data.get("leader_passcode") or data.get("TRIALS_PASSCODE"))
+
+
+LOCAL_HOST = "127.0.0.1"
+LOCAL_HOSTS = (LOCAL_HOST, "localhost", "::1")
+
+
 def app_command(port: int | None = None, host: str | None = None) -> list[str]:
     """The ``streamlit run`` command line that serves the app."""
     entry = Path(__file__).with_name("app.py")
@@ -247,18 +265,26 @@ def _app(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
     from trials.demo import seed_demo
 
+    host = args.host or LOCAL_HOST
+    if host not in LOCAL_HOSTS and not _passcode_is_set() and not args.open:
+        raise TrialsError(
+            f"--host {host} serves the app to the network, but no leader passcode is set: "
+            "set TRIALS_PASSCODE first (or pass --no-passcode to serve the leader screens "
+            "to anyone who can reach this address)"
+        )
     store = service.open_store(args.db)
     if args.demo and not service.list_studies(store):
         seed_demo(store)
+    store.close()
     env = dict(os.environ)
     if args.db:
         env["TRIALS_DB"] = args.db
-    cmd = app_command(args.port, args.host)
-    try:
-        code = subprocess.call(cmd, env=env)
-    except KeyboardInterrupt:
-        code = 0
-    return {"exit": code}
+    cmd = app_command(args.port, host)
+    # exec: the server takes this process's place, so a signal sent to it (kill, Ctrl-C)
+    # reaches Streamlit itself and no child is left holding the port
+    sys.stdout.flush()
+    os.execvpe(cmd[0], cmd, env)
+    return {"exit": 1}  # not reached
 
 
 # ---------------------------------------------------------------- the parser
@@ -411,7 +437,11 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = _leaf(sub, "app", _app, "start the Streamlit app", db=True)
     p.add_argument("--port", type=_count, default=None)
-    p.add_argument("--host", default=None)
+    p.add_argument("--host", default=None,
+                   help="address to listen on (default 127.0.0.1, this machine only; "
+                   "0.0.0.0 for the kitchen network, which needs TRIALS_PASSCODE)")
+    p.add_argument("--no-passcode", dest="open", action="store_true",
+                   help="serve to the network without a leader passcode (not advised)")
     p.add_argument("--demo", action="store_true", help="seed the demo trials if the store is empty")
     del names
     return parser

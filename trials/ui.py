@@ -107,12 +107,47 @@ def _leader_gate() -> None:
     with st.form("leader_gate"):
         given = st.text_input("Leader passcode", type="password")
         submitted = st.form_submit_button("Open")
-    if submitted and passcode_matches(given, expected):
+    if submitted:
+        _try_passcode(given, expected)
+    st.stop()
+
+
+@st.cache_resource(show_spinner=False)
+def _throttle():
+    from trials.gate import Throttle
+
+    return Throttle()
+
+
+def _client_keys() -> tuple[str, ...]:
+    """Throttle keys: this browser session, and the client's address where known."""
+    session = st.session_state.setdefault("_gate_session", os.urandom(8).hex())
+    try:
+        address = st.context.ip_address or ""
+    except Exception:  # a test run without a browser has no address
+        address = ""
+    return (f"session:{session}",) + ((f"address:{address}",) if address else ())
+
+
+def _try_passcode(given: str, expected: str) -> None:
+    """Check a passcode under the throttle (trials.gate); log each refusal."""
+    import logging
+
+    keys = _client_keys()
+    throttle = _throttle()
+    wait = throttle.wait(*keys)
+    if wait > 0:
+        logging.getLogger("trials.gate").warning("passcode try refused while waiting: %s", keys)
+        st.error(f"Too many wrong passcodes. Try again in {int(wait) + 1} seconds.")
+        return
+    if passcode_matches(given, expected):
+        throttle.passed(*keys)
         st.session_state["leader_ok"] = True
         st.rerun()
-    if submitted:
-        st.error("That passcode does not open the leader screens.")
-    st.stop()
+    throttle.failed(*keys)
+    logging.getLogger("trials.gate").warning(
+        "wrong leader passcode (%d in a row) from %s", throttle.failures(keys[0]), keys)
+    st.error("That passcode does not open the leader screens.")
 
 
 def leader_unlocked() -> bool:

@@ -214,6 +214,24 @@ def test_the_right_passcode_opens_a_leader_screen_and_a_wrong_one_does_not(
     assert at.dataframe
 
 
+def test_after_repeated_wrong_passcodes_even_the_right_one_must_wait(demo_db, monkeypatch):
+    from trials.gate import FREE_TRIES
+
+    monkeypatch.setenv("TRIALS_PASSCODE", "rye-and-caraway")
+    at = _run("home")
+    for _ in range(FREE_TRIES):
+        by_label(at.text_input, "Leader passcode").input("guess")
+        at.button[0].click()
+        at.run()
+    by_label(at.text_input, "Leader passcode").input("rye-and-caraway")
+    at.button[0].click()
+    at.run()
+    errors = [e.value for e in at.error]
+    # the third wrong try starts a 2-second wait (trials.gate); the right passcode waits too
+    assert len(errors) == 1 and errors[0].startswith("Too many wrong passcodes. Try again in ")
+    assert [t.value for t in at.title] == ["Kitchen Trials"] and not at.dataframe
+
+
 def test_a_panelist_link_does_not_open_a_leader_screen(demo_db):
     store = service.open_store(demo_db)
     token = next(iter(service.study_overview(store, 1).links.values())).split("t=")[1]
