@@ -32,7 +32,8 @@ from trials.store import limits, migrations
 T = TypeVar("T")
 
 DEFAULT_URL = "sqlite:///trials.db"
-BUSY_TIMEOUT_MS = 30_000
+BUSY_TIMEOUT_MS = 5_000  # one wait for another process's write lock
+BUSY_DEADLINE_S = 10.0  # all waits of one write together, then it says the store is busy
 RETRIES = 8
 _PG_MIGRATION_LOCK = 727_401  # an arbitrary key for pg_advisory_xact_lock
 
@@ -65,6 +66,11 @@ def _sqlite_settings(engine: Engine) -> None:
             conn.exec_driver_sql("BEGIN IMMEDIATE")
         else:
             conn.exec_driver_sql("BEGIN")
+
+
+def _busy(exc: BaseException) -> bool:
+    text = str(getattr(exc, "orig", exc)).lower()
+    return "locked" in text or "busy" in text
 
 
 def _retryable(exc: BaseException) -> bool:
@@ -116,6 +122,7 @@ class Store:
         ``work`` rolls back and propagates at once.
         """
         attempt = 0
+        started = time.monotonic()
         while True:
             with self._write_lock or nullcontext(), self._write() as session:
                 try:
@@ -125,7 +132,14 @@ class Store:
                 except (OperationalError, IntegrityError, DBAPIError) as exc:
                     session.rollback()
                     attempt += 1
-                    if attempt > retries or not _retryable(exc):
+                    if not _retryable(exc):
+                        raise
+                    waited = time.monotonic() - started
+                    if attempt > retries or waited > BUSY_DEADLINE_S:
+                        if _busy(exc):
+                            raise TrialsError(
+                                f"the store is busy: another program has held its write lock "
+                                f"for {waited:.0f} s; nothing was changed, try again") from None
                         raise
                 except BaseException:
                     session.rollback()
