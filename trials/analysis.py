@@ -34,15 +34,13 @@ from typing import Any
 
 import pandas as pd
 
+from trials.answers import CHOICE, NO_PREFERENCE, RANK  # noqa: F401  (re-exported)
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Response, Study
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
-CHOICE = "choice"
-RANK = "rank"
-NO_PREFERENCE = "no preference"
 SIMILARITY_WORDS = re.compile(r"\bsimilar(ity)?\b|\bsame as\b", re.IGNORECASE)
 
 # --------------------------------------------------------------------------- records
