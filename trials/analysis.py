@@ -34,7 +34,7 @@ from typing import Any
 
 import pandas as pd
 
-from trials.answers import CHOICE, NO_PREFERENCE, RANK  # noqa: F401  (re-exported)
+from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Response, Study

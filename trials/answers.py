@@ -22,6 +22,7 @@ show (the tasting steps, the paper-entry grid).
 
 from __future__ import annotations
 
+import math
 from collections import defaultdict
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
@@ -104,8 +105,8 @@ def whole_number(value: str, low: int, high: int) -> int:
     try:
         x = float(value)
     except ValueError:
-        x = float("nan")
-    if not (x == x) or x != int(x) or not low <= x <= high:
+        x = math.nan
+    if not math.isfinite(x) or x != int(x) or not low <= x <= high:
         raise AnswerError("value", f"expected a whole number from {low} to {high}, got {value!r}")
     return int(x)
 
@@ -406,7 +407,7 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
 
 
 def _blank(v: Any) -> bool:
-    return v is None or v is pd.NA or (isinstance(v, float) and v != v) or str(v).strip() == ""
+    return v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)) or not str(v).strip()
 
 
 def sheet_answers(spec: MethodSpec, session: str, frame: pd.DataFrame,

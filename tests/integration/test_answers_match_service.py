@@ -9,13 +9,12 @@ from __future__ import annotations
 
 import pandas as pd
 import pytest
+from store_builders import roster
 
 from trials import answers, service
 from trials.errors import AnswerError, TrialsError
 from trials.methods import get_method
 from trials.model import Attribute, AttributeKind, Sample
-
-from store_builders import roster
 
 SAMPLES = {
     "triangle": 2, "duo-trio": 2, "2afc": 2, "3afc": 2, "tetrad": 2, "paired-preference": 2,
@@ -82,7 +81,7 @@ def test_the_paper_grid_and_the_progress_are_the_services(store, method):
     study = service.get_study(store, study_id)
     plan = service.plan(store, study_id)
     spec = get_method(method)
-    first = sorted((e for e in plan if e.panelist_code == codes[1]), key=lambda e: e.position)[0]
+    first = min((e for e in plan if e.panelist_code == codes[1]), key=lambda e: e.position)
     attribute = ("choice" if spec.is_forced_choice else
                  "rank" if method == "ranking" else "liking")
     service.record_response(store, study_id, panelist_code=codes[1], code=first.code,
