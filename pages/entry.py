@@ -7,6 +7,7 @@ Tab and Enter move between cells. Every answer is checked against the serving pl
 import streamlit as st
 
 from trials import service, ui
+from trials.answers import most_cups
 from trials.errors import ImportRowsError, TrialsError
 from trials.methods import Family
 
@@ -37,14 +38,16 @@ config = {
 }
 if spec.is_forced_choice:
     st.caption(f"{spec.question} Type the circled code"
-               + (" (tetrad: the two codes of the group, separated by a space)."
-                  if spec.name == "tetrad" else "."))
+               + (f" (the {'two' if spec.choose == 2 else spec.choose} codes of the group, "
+                  "separated by a space)." if spec.choose > 1 else "."))
+    extra = max(1, spec.choose - 1)  # one code, or a group of codes, each three digits
     config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
     config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
     config["chosen"] = st.column_config.TextColumn(
-        "chosen code", validate=r"^\s*\d{3}(\s+\d{3})?\s*$", max_chars=7,
+        "chosen code", validate=rf"^\s*\d{{3}}(\s+\d{{3}}){{0,{extra}}}\s*$",
+        max_chars=4 * (extra + 1) - 1,
         help="The code the panelist circled.")
-    if spec.name == "paired-preference":
+    if spec.allows_no_preference:
         config["no_preference"] = st.column_config.CheckboxColumn("no preference")
 elif spec.family == Family.RATING:
     config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
@@ -53,7 +56,7 @@ elif spec.family == Family.RATING:
             a.name, min_value=a.low, max_value=a.high, step=1,
             help=f"{a.kind}, whole points {a.low} to {a.high}")
 else:
-    k = len(study.samples)
+    k = most_cups(base)  # the cups a panelist got: fewer than the samples in incomplete blocks
     config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
     config["rank"] = st.column_config.NumberColumn("rank", min_value=1, max_value=k, step=1,
                                                    help="1 = most")

@@ -9,13 +9,13 @@ import html
 
 import streamlit as st
 
-from trials import service, ui
+from trials import answers, service, ui
+from trials.answers import NO_PREFERENCE
+from trials.methods import get_method
 
 ui.require_panelist()
 ui.tablet_look()
 token = ui.panelist_token()
-
-NO_PREFERENCE = "no preference"
 
 
 def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
@@ -28,42 +28,16 @@ def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
         st.session_state.pop("taste_problem", None)
 
 
-def _steps(ballot, given, chosen):
-    """Every step of the ballot in serving order, with whether it is answered."""
-    steps = []
-    method = ballot.method
-    if method in ("rating",):
-        for s in ballot.sets:
-            for pos, code in enumerate(s.codes):
-                done = all((s.session, code, a.name) in given for a in ballot.attributes)
-                steps.append(("rate", s, pos, code, done))
-    elif method == "ranking":
-        for s in ballot.sets:
-            done = all((s.session, code, "rank") in given for code in s.codes)
-            steps.append(("rank", s, None, None, done))
-    else:
-        for s in ballot.sets:
-            steps.append(("choose", s, None, None, (s.session, s.set_index) in chosen))
-    return steps
-
-
 @st.fragment
 def ballot_screen() -> None:
     """The current step. A tap reruns this fragment only (not the whole app), with the
     ballot read afresh from the store, so the next step shows as soon as it is saved."""
     ballot = service.ballot_for_token(ui.store(), token)
-    method = ballot.method
+    spec = get_method(ballot.method)
     given = {(a.session, a.code, a.attribute): a.value for a in ballot.answers}
-    chosen = {}  # (session, set_index) -> chosen codes, forced choice
-    for a in ballot.answers:
-        if a.attribute == "choice":
-            for s in ballot.sets:
-                if s.session == a.session and (set(a.code.split()) & set(s.codes)
-                                               or (not a.code and a.value == NO_PREFERENCE)):
-                    chosen[(s.session, s.set_index)] = a.code or NO_PREFERENCE
-
-    steps = _steps(ballot, given, chosen)
-    open_steps = [i for i, step in enumerate(steps) if not step[4]]
+    steps = answers.tasting_steps(spec, ballot.sets, ballot.answers,
+                                  [a.name for a in ballot.attributes])
+    open_steps = [i for i, step in enumerate(steps) if not step.done]
 
     st.markdown("## Tasting")
     if st.session_state.get("taste_problem"):
@@ -81,46 +55,51 @@ def ballot_screen() -> None:
     st.caption("If you have an allergy, feel unwell or want to stop, tell the panel leader at "
                "once. You may stop at any time.")
     index = open_steps[0]
-    kind, current, pos, code, _ = steps[index]
+    current = steps[index]
+    kind, pos, code = current.kind, current.position, current.code
     st.progress(index / len(steps), text=f"Step {index + 1} of {len(steps)}")
     st.markdown(f'<p class="kt-step">Panelist {html.escape(ballot.panelist_code)}</p>',
                 unsafe_allow_html=True)
 
     if kind == "choose":
-        st.markdown(ballot.instructions)
+        st.markdown(spec.tablet_instructions)
         st.markdown(f"### {ballot.question}")
         codes = current.codes
-        if method == "duo-trio":
-            st.markdown(f"Reference first: **{codes[0]}**. Then taste the two coded cups.")
-            options = codes[1:]
+        reference, options = answers.choice_options(spec, codes)
+        if reference:
+            st.markdown(f"Reference first: **{reference}**. Then taste the coded cups: "
+                        + " → ".join(f"**{c}**" for c in options) + ".")
         else:
             st.markdown("Taste in this order, left to right: "
                         + " → ".join(f"**{c}**" for c in codes))
-            options = codes
-        if method == "tetrad":
-            group = st.pills("The two cups that belong together", options, selection_mode="multi",
-                             key=f"tetrad_{current.session}_{current.set_index}")
+        if spec.choose > 1:
+            group = st.pills("The two cups that belong together" if spec.choose == 2
+                             else f"The {spec.choose} cups that belong together", options,
+                             selection_mode="multi",
+                             key=f"group_{current.session}_{current.set_index}")
             picked = sorted(group or [], key=options.index)
-            st.button("Save my choice", type="primary", width="stretch", disabled=len(picked) != 2,
-                      on_click=_save, args=(" ".join(picked), "choice"),
+            st.button("Save my choice", type="primary", width="stretch",
+                      disabled=len(picked) != spec.choose,
+                      on_click=_save, args=(" ".join(picked), answers.CHOICE),
                       kwargs={"session": current.session})
         else:
             cols = st.columns(len(options))
             for col, c in zip(cols, options):
                 col.button(c, key=f"pick_{current.session}_{current.set_index}_{c}",
-                           type="primary", width="stretch", on_click=_save, args=(c, "choice"),
-                           kwargs={"session": current.session})
-            if method == "paired-preference":
+                           type="primary", width="stretch", on_click=_save,
+                           args=(c, answers.CHOICE), kwargs={"session": current.session})
+            if spec.allows_no_preference:
                 st.button("No preference", width="stretch",
                           key=f"nopref_{current.session}_{current.set_index}", on_click=_save,
-                          args=("", "choice", NO_PREFERENCE), kwargs={"session": current.session})
+                          args=("", answers.CHOICE, NO_PREFERENCE),
+                          kwargs={"session": current.session})
 
     elif kind == "rate":
         st.markdown(f'<p class="kt-code">{html.escape(code)}</p>', unsafe_allow_html=True)
         st.markdown(f"Cup {pos + 1} of {len(current.codes)}. Taste the cup marked **{code}**, "
                     "then tap one box on each scale.")
         if pos == 0:
-            st.caption(ballot.instructions)
+            st.caption(spec.tablet_instructions)
         for i, attr in enumerate(ballot.attributes):
             have = given.get((current.session, code, attr.name))
             st.markdown(f"#### {attr.name}" + (f" · you gave **{have}**" if have else ""))
@@ -140,7 +119,7 @@ def ballot_screen() -> None:
                            kwargs={"session": current.session})
 
     else:  # rank
-        st.markdown(ballot.instructions)
+        st.markdown(spec.tablet_instructions)
         st.markdown(f"### {ballot.question}")
         codes = current.codes
         k = len(codes)

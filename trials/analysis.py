@@ -34,15 +34,13 @@ from typing import Any
 
 import pandas as pd
 
+from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
-from trials.methods import Family, MethodSpec, get_method
+from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Response, Study
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
-CHOICE = "choice"
-RANK = "rank"
-NO_PREFERENCE = "no preference"
 SIMILARITY_WORDS = re.compile(r"\bsimilar(ity)?\b|\bsame as\b", re.IGNORECASE)
 
 # --------------------------------------------------------------------------- records
@@ -239,21 +237,28 @@ def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Response]) -
 
 
 def target_sample(study: Study, plan: Sequence[PlanEntry] = ()) -> str:
-    """The sample a 2-AFC or 3-AFC answer must pick: the trial's second sample.
+    """The sample a target-by-role answer (2-AFC, 3-AFC) must pick; "" for other rules.
 
-    Convention (documented for designs and ballots alike): the trial's samples are
-    A and B in their order, and the directional question ("which has more ...") is
-    asked about B, so B (``study.samples[1]``) is the target. Where the trial lists
-    fewer than two samples, the plan's cups with role ``"B"`` name it.
+    The registry names the target by its role in the plan (``MethodSpec.target_role``,
+    ``"B"`` for 2-AFC and 3-AFC): the target is the sample of the plan's cups with that
+    role. Where the plan holds no such cup, the role's letter is read as the plan maker
+    (:func:`trials.design.plan.serving_plan`) reads it: A is the trial's first sample and
+    B its second. Today's plans make the first listed sample A, so the target of 2-AFC
+    and 3-AFC is the trial's second sample.
     """
-    if len(study.samples) >= 2:
-        return study.samples[1].name
-    named = {e.sample_name for e in plan if e.role == "B"}
+    spec = get_method(study.method)
+    role = spec.target_role
+    if spec.scoring is not Scoring.TARGET_BY_ROLE or not role:
+        return ""
+    named = {e.sample_name for e in plan if e.role == role}
     if len(named) == 1:
         return named.pop()
+    place = "AB".find(role)
+    if not named and 0 <= place < len(study.samples):
+        return study.samples[place].name
     raise TrialsError(
         f"trial {study.name!r}: cannot tell the target sample of {study.method!r}; "
-        "list two samples (the second is the target)"
+        f"list two samples or draw a plan whose cups of role {role!r} hold one sample"
     )
 
 
@@ -267,33 +272,35 @@ def _reference(cups: list[PlanEntry]) -> PlanEntry:
 def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
                target: str) -> tuple[bool | None, str]:
     """(correct, problem): problem is '' when the answer could be scored."""
-    name = spec.name
+    rule = spec.scoring
     samples = Counter(e.sample_name for e in cups)
     if spec.set_size and len(cups) != spec.set_size:
         return None, f"the set holds {len(cups)} cups, the method {spec.set_size}"
-    if name == "tetrad":
+    if spec.choose == 2:
         if len(chosen) != 2 or chosen[0].code == chosen[1].code:
-            return None, f"a tetrad answer names two different cups, got {len(chosen)}"
-        return chosen[0].sample_name == chosen[1].sample_name, ""
-    if len(chosen) != 1:
+            return None, f"a {spec.name} answer names two different cups, got {len(chosen)}"
+    elif len(chosen) != spec.choose:
         return None, f"expected one chosen cup, got {len(chosen)}"
     pick = chosen[0]
-    if name == "triangle":
-        if sorted(samples.values()) != [1, 2]:
-            return None, "a triangle set must hold two cups of one sample and one of the other"
+    if rule is Scoring.PAIRS_GROUPED:
+        return len({e.sample_name for e in chosen}) == 1, ""
+    if rule is Scoring.ODD_ONE_OUT:
+        if sorted(samples.values()) != [1, spec.set_size - 1]:
+            many = {2: "two", 3: "three"}.get(spec.set_size - 1, str(spec.set_size - 1))
+            return None, f"a {spec.name} set must hold {many} cups of one sample and one of the other"
         return samples[pick.sample_name] == 1, ""
-    if name == "duo-trio":
+    if rule is Scoring.MATCH_REFERENCE:
         ref = _reference(cups)
         if pick.code == ref.code:
             return None, f"the chosen cup {pick.code!r} is the reference"
         return pick.sample_name == ref.sample_name, ""
-    if name in ("2afc", "3afc"):
+    if rule is Scoring.TARGET_BY_ROLE:
         if samples.get(target, 0) != 1:
             return None, f"the set does not hold exactly one cup of the target {target!r}"
         return pick.sample_name == target, ""
-    if name == "paired-preference":
+    if rule is Scoring.PREFERENCE_COUNT:
         return None, ""
-    raise TrialsError(f"no scoring rule for method {name!r}")  # pragma: no cover
+    raise TrialsError(f"no scoring rule for method {spec.name!r}")  # pragma: no cover
 
 
 def score_choices(study: Study, plan: Sequence[PlanEntry],
@@ -340,7 +347,7 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
     if not spec.is_forced_choice:
         raise TrialsError(f"method {study.method!r} is not a forced-choice method")
     key = _Key(plan)
-    target = target_sample(study, plan) if spec.name in ("2afc", "3afc") else ""
+    target = target_sample(study, plan)
     problems: list[str] = []
     latest: dict[tuple[str, str, int], tuple[Response, list[PlanEntry]]] = {}
     no_pref: dict[tuple[str, str], Response] = {}
@@ -350,7 +357,7 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
         who = f"panelist {r.panelist_code!r}, session {r.session!r}"
         codes = r.code.split()
         if not codes:
-            if spec.name == "paired-preference" and r.value.strip().lower() == NO_PREFERENCE:
+            if spec.allows_no_preference and r.value.strip().lower() == NO_PREFERENCE:
                 no_pref[(r.session, r.panelist_code)] = r
             else:
                 problems.append(f"{who}: an empty choice (value {r.value!r}) left out")
@@ -378,7 +385,7 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
             continue
         sets.append(ScoredSet(sid[0], sid[1], sid[2], r.code,
                               tuple(e.sample_name for e in entries), correct))
-    if spec.name == "paired-preference":
+    if spec.scoring is Scoring.PREFERENCE_COUNT:
         names = [s.name for s in study.samples] or sorted({e.sample_name for e in plan})
         counts = {n: 0 for n in names}
         for s in sets:
@@ -417,7 +424,8 @@ def _forced_choice(study: Study, plan, responses) -> ForcedChoiceAnalysis:
     difference = similarity = preference = None
     notes = []
     correct, n = counts.correct, counts.n
-    if study.method == "paired-preference" and counts.n + counts.no_preference > 0:
+    spec = get_method(study.method)
+    if spec.scoring is Scoring.PREFERENCE_COUNT and counts.n + counts.no_preference > 0:
         values = list(counts.counts.values()) + [0, 0]
         try:
             preference = disc.no_preference_counts(values[0], values[1], counts.no_preference)

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, StudyAnalysis
-from trials.methods import get_method
+from trials.methods import Scoring, get_method
 from trials.model import Record, Study
 
 
@@ -102,15 +102,6 @@ def _level(level: float) -> str:
 
 # --------------------------------------------------------------------------- forced choice
 
-_CORRECT_PHRASE = {
-    "triangle": "picked the odd sample",
-    "duo-trio": "matched the reference",
-    "2afc": "picked {target} as having more of the attribute",
-    "3afc": "picked {target} as having the most of the attribute",
-    "tetrad": "grouped the four cups into the right pairs",
-}
-
-
 def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | None) -> Decision:
     spec = get_method(a.method)
     ref = spec.reference
@@ -135,7 +126,7 @@ def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | No
     details: list[str] = []
     limits: list[str] = []
 
-    if spec.name == "paired-preference":
+    if spec.scoring is Scoring.PREFERENCE_COUNT:
         pref = c.preferred or "neither sample"
         counts = ", ".join(f"{k} {v}" for k, v in c.counts.items())
         folded = ""
@@ -158,7 +149,8 @@ def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | No
             limits.append("Not significant is not the same as equally liked: "
                           + _similarity_limit(fc))
     else:
-        phrase = _CORRECT_PHRASE[spec.name].format(target=c.target or "the target")
+        phrase = (spec.correct_phrase or "answered correctly").format(
+            target=c.target or "the target")
         estimate = (
             f"Estimated proportion of discriminators {fmt(d.pd)} ({_level(d.level)} "
             f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "

@@ -51,3 +51,17 @@ class UnbalancedPlanWarning(TrialsWarning):
 
 class OverdispersionWarning(TrialsWarning):
     """Replicated answers vary more than a binomial allows."""
+
+
+class AnswerError(TrialsError):
+    """One answer that does not fit the plan or the scales.
+
+    ``column`` names the field at fault (``session``, ``panelist``, ``code``,
+    ``attribute``, ``value``; an import adds ``mode`` and ``entered_at``) and ``text``
+    says what was expected; the message is ``"column: text"``.
+    """
+
+    def __init__(self, column: str, text: str):
+        super().__init__(f"{column}: {text}")
+        self.column = column
+        self.text = text

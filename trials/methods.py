@@ -1,9 +1,13 @@
 """The one registry of test methods.
 
 Each method is described once here: its name on the command line, its guessing
-probability, how many cups a set holds, what the ballot asks, and which analysis
-applies. Designs, ballots, screens and statistics read this registry; nothing re-lists
-the methods by hand.
+probability, how many cups a set holds, what the ballot and the tablet ask, how an
+answer is shaped and scored, which cup is the target, the psychometric model, the
+sentence of the decision and the paper-entry columns. Designs, ballots, screens,
+answer checks and statistics read these fields; nothing re-lists the methods by hand
+and no code outside this module branches on a method's name (a test walks the
+package). :func:`register_method` adds a method (see DEVELOPERS.md, "Adding a test
+method").
 """
 
 from __future__ import annotations
@@ -11,8 +15,31 @@ from __future__ import annotations
 from dataclasses import dataclass
 from enum import StrEnum
 
-from trials.errors import UnknownMethodError
+from trials.errors import TrialsError, UnknownMethodError
 from trials.model import Record
+
+
+class Scoring(StrEnum):
+    """How one forced-choice answer is scored (see :func:`trials.analysis.score_choices`)."""
+
+    ODD_ONE_OUT = "odd-one-out"  # correct: the chosen cup's sample is once in the set
+    MATCH_REFERENCE = "match-reference"  # correct: the chosen cup holds the reference's sample
+    TARGET_BY_ROLE = "target-by-role"  # correct: the chosen cup holds the target (target_role)
+    PAIRS_GROUPED = "pairs-grouped"  # correct: the chosen cups hold one sample
+    PREFERENCE_COUNT = "preference-count"  # no right answer: choices counted per sample
+    NONE = ""  # ratings and rankings: no choice to score
+
+
+# Psychometric model keys of trials.stats.thurstonian (its MODELS); a test checks that
+# every key named here is one that module holds.
+MODEL_2AFC = "pc-2afc"
+MODEL_3AFC = "pc-3afc"
+MODEL_DUO_TRIO = "pc-duo-trio"
+MODEL_TRIANGLE = "pc-triangle"
+MODEL_TETRAD = "pc-tetrad"
+
+FORCED_CHOICE_COLUMNS = ("panelist", "set", "cups", "chosen")
+PER_CUP_COLUMNS = ("panelist", "position", "code")
 
 
 class Family(StrEnum):
@@ -31,6 +58,27 @@ class MethodSpec(Record):
     (None: as many as the trial has samples). ``sides`` is 1 for the one-sided
     difference tests, 2 for paired preference. ``patterns`` are the balanced orders of a
     set as letters (A, B; R for a duo-trio reference), whose equal use balances the plan.
+
+    Behaviour (every field has a default that suits a rating-like method, so a new
+    forced-choice method states what it needs):
+
+    - ``choose``: how many codes one answer names (1; 2 for the tetrad's group);
+    - ``allows_no_preference``: whether "no preference" (with no code) is an answer;
+    - ``scoring``: the rule that scores one answer (:class:`Scoring`);
+    - ``target_role``: for :attr:`Scoring.TARGET_BY_ROLE`, the plan role (letter) of the
+      cups whose sample the answer must pick (see :func:`trials.analysis.target_sample`);
+    - ``correct_phrase``: the decision's words for a correct answer ("... of 24 picked
+      the odd sample"); ``{target}`` is replaced by the target sample's name;
+    - ``model``: the psychometric model key of :mod:`trials.stats.thurstonian`;
+    - ``tablet_instructions``: the instructions on the tasting screen ("tap", not
+      "circle"); ``ballot_note``: a line printed under each set's code boxes;
+    - ``asks_attribute``: the question names an attribute, so the ballot has a line to
+      write it on;
+    - ``set_design``: the source of the balanced set design (for design output);
+    - ``reference_first``: the first cup of each set is the reference (role ``"R"``),
+      served before the coded cups and never a valid choice;
+    - ``paper_columns``: the paper-entry grid's columns (a rating grid adds one column
+      per attribute after these).
     """
 
     name: str
@@ -43,6 +91,18 @@ class MethodSpec(Record):
     instructions: str
     patterns: tuple[str, ...]
     reference: str
+    choose: int = 1
+    allows_no_preference: bool = False
+    scoring: Scoring = Scoring.NONE
+    target_role: str = ""
+    correct_phrase: str = ""
+    model: str = ""
+    tablet_instructions: str = ""
+    ballot_note: str = ""
+    asks_attribute: bool = False
+    set_design: str = ""
+    reference_first: bool = False
+    paper_columns: tuple[str, ...] = PER_CUP_COLUMNS
 
     @property
     def is_forced_choice(self) -> bool:
@@ -65,6 +125,16 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AAB", "ABA", "BAA", "BBA", "BAB", "ABB"),
         reference="ISO 4120:2021, Sensory analysis - Methodology - Triangle test",
+        scoring=Scoring.ODD_ONE_OUT,
+        correct_phrase="picked the odd sample",
+        model=MODEL_TRIANGLE,
+        tablet_instructions=(
+            "Two of these three samples are the same and one is different. Taste them "
+            "in the order given, from left to right. Tap the code of the sample that is "
+            "different. You must choose one, even if you are guessing."
+        ),
+        set_design="ISO 4120:2021, six orders AAB, ABA, BAA, BBA, BAB, ABB equally often",
+        paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
         name="duo-trio",
@@ -81,6 +151,18 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AAB", "ABA", "BAB", "BBA"),  # first letter: the reference; balanced
         reference="ISO 10399:2017, Sensory analysis - Methodology - Duo-trio test",
+        scoring=Scoring.MATCH_REFERENCE,
+        correct_phrase="matched the reference",
+        model=MODEL_DUO_TRIO,
+        tablet_instructions=(
+            "Taste the reference first, then the two coded samples in the order given. "
+            "Tap the code of the sample that is the same as the reference. You must "
+            "choose one, even if you are guessing."
+        ),
+        ballot_note="Circle one of the two coded samples (not the reference R).",
+        set_design="ISO 10399:2017, balanced or constant reference",
+        reference_first=True,
+        paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
         name="2afc",
@@ -97,6 +179,18 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AB", "BA"),
         reference="ISO 5495:2005, Sensory analysis - Methodology - Paired comparison test",
+        scoring=Scoring.TARGET_BY_ROLE,
+        target_role="B",
+        correct_phrase="picked {target} as having more of the attribute",
+        model=MODEL_2AFC,
+        tablet_instructions=(
+            "Taste the two samples in the order given. Tap the code of the sample "
+            "with more of the named attribute. You must choose one, even if you are "
+            "guessing."
+        ),
+        asks_attribute=True,
+        set_design="ISO 5495:2005, orders AB and BA equally often",
+        paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
         name="3afc",
@@ -113,6 +207,18 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AAB", "ABA", "BAA"),
         reference="Frijters (1979), Br. J. Math. Stat. Psychol. 32:229-241",
+        scoring=Scoring.TARGET_BY_ROLE,
+        target_role="B",
+        correct_phrase="picked {target} as having the most of the attribute",
+        model=MODEL_3AFC,
+        tablet_instructions=(
+            "Taste the three samples in the order given. Tap the code of the sample "
+            "with the most of the named attribute. You must choose one, even if you "
+            "are guessing."
+        ),
+        asks_attribute=True,
+        set_design="Frijters (1979); each position of the odd sample equally often",
+        paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
         name="tetrad",
@@ -129,6 +235,18 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AABB", "ABAB", "ABBA", "BAAB", "BABA", "BBAA"),
         reference="Ennis and Jesionka (2011), J. Sensory Stud. 26:347-352",
+        choose=2,
+        scoring=Scoring.PAIRS_GROUPED,
+        correct_phrase="grouped the four cups into the right pairs",
+        model=MODEL_TETRAD,
+        tablet_instructions=(
+            "These four samples form two pairs. Taste them in the order given and group "
+            "them into two groups of two that are alike. Tap the codes of one group. "
+            "You must choose, even if you are guessing."
+        ),
+        ballot_note="Circle two codes: the two codes you do not circle form the other group.",
+        set_design="Ennis and Jesionka (2011); six orders of two A and two B",
+        paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
         name="paired-preference",
@@ -144,6 +262,15 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=("AB", "BA"),
         reference="ISO 5495:2005 (two-sided paired comparison); ASTM E2263",
+        allows_no_preference=True,
+        scoring=Scoring.PREFERENCE_COUNT,
+        model=MODEL_2AFC,  # Thurstonian model of preference (trials.stats.thurstonian)
+        tablet_instructions=(
+            "Taste the two samples in the order given. Tap the code of the sample "
+            "you prefer."
+        ),
+        set_design="ISO 5495:2005 (two-sided); orders AB and BA equally often",
+        paper_columns=(*FORCED_CHOICE_COLUMNS, "no_preference"),
     ),
     MethodSpec(
         name="rating",
@@ -159,6 +286,10 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=(),
         reference="Peryam and Pilgrim (1957), Food Technol. 11(9):9-14 (9-point hedonic scale)",
+        tablet_instructions=(
+            "Taste the samples in the order given, one at a time. Rinse your mouth "
+            "between samples. Tap one box on each scale."
+        ),
     ),
     MethodSpec(
         name="ranking",
@@ -175,6 +306,12 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
         patterns=(),
         reference="ISO 8587:2006, Sensory analysis - Methodology - Ranking",
+        tablet_instructions=(
+            "Taste the samples in the order given. Tap rank 1 for the sample with the "
+            "most of the attribute (or the one you like most), rank 2 for the next, and "
+            "so on. Use each rank once."
+        ),
+        paper_columns=(*PER_CUP_COLUMNS, "rank"),
     ),
 )
 
@@ -190,9 +327,67 @@ def get_method(name: str) -> MethodSpec:
         raise UnknownMethodError(f"unknown method {name!r}; expected one of: {known}") from None
 
 
+def all_methods() -> tuple[MethodSpec, ...]:
+    """Every method: the built-in :data:`METHODS`, then those added by
+    :func:`register_method`, in the order they were added."""
+    return tuple(_BY_NAME.values())
+
+
 def method_names(*families: Family) -> tuple[str, ...]:
     """Names of the methods of the given families (all when none is given)."""
-    return tuple(m.name for m in METHODS if not families or m.family in families)
+    return tuple(m.name for m in _BY_NAME.values() if not families or m.family in families)
+
+
+def check_method(spec: MethodSpec) -> None:
+    """Raise :class:`~trials.errors.TrialsError` naming the first field of ``spec`` that
+    cannot work with the rest of the package (designs, answer checks, scoring)."""
+    where = f"method {spec.name!r}"
+    if not spec.name or spec.name != spec.name.strip():
+        raise TrialsError(f"a method needs a name without surrounding spaces, got {spec.name!r}")
+    if not spec.is_forced_choice:
+        return
+    if not spec.patterns or not spec.set_size:
+        raise TrialsError(f"{where}: a forced-choice method needs set patterns and a set size")
+    bad = [x for x in spec.patterns if len(x) != spec.set_size or not set(x) <= {"A", "B"}]
+    if bad:
+        raise TrialsError(f"{where}: patterns {bad!r} are not {spec.set_size} letters A and B")
+    if spec.scoring is Scoring.NONE:
+        raise TrialsError(f"{where}: a forced-choice method needs a scoring rule")
+    if not 1 <= spec.choose < spec.set_size:
+        raise TrialsError(f"{where}: choose={spec.choose} codes from sets of {spec.set_size}")
+    if spec.scoring is Scoring.TARGET_BY_ROLE and spec.target_role not in ("A", "B"):
+        raise TrialsError(f"{where}: a target-by-role rule needs target_role 'A' or 'B', "
+                          f"got {spec.target_role!r}")
+    if spec.guess is None or not 0 < spec.guess < 1:
+        raise TrialsError(f"{where}: a forced-choice method needs a guessing probability "
+                          f"between 0 and 1, got {spec.guess!r}")
+    if not spec.model:
+        raise TrialsError(f"{where}: a forced-choice method needs a psychometric model key")
+    if tuple(spec.paper_columns[:4]) != FORCED_CHOICE_COLUMNS:
+        raise TrialsError(f"{where}: forced-choice paper columns start with "
+                          f"{FORCED_CHOICE_COLUMNS!r}, got {spec.paper_columns!r}")
+
+
+def register_method(spec: MethodSpec) -> MethodSpec:
+    """Add a method to the registry, after :func:`check_method`; returns it.
+
+    Everything that looks methods up by name (:func:`get_method`) then knows it. The
+    name must be new. :data:`METHODS` stays the tuple of built-in methods;
+    :func:`all_methods` lists the registered ones too.
+    """
+    if spec.name in _BY_NAME:
+        raise TrialsError(f"method {spec.name!r} is already registered")
+    check_method(spec)
+    _BY_NAME[spec.name] = spec
+    return spec
+
+
+def unregister_method(name: str) -> None:
+    """Remove a method added by :func:`register_method` (built-in methods stay)."""
+    if name in {m.name for m in METHODS}:
+        raise TrialsError(f"method {name!r} is built in and cannot be removed")
+    get_method(name)
+    del _BY_NAME[name]
 
 
 FORCED_CHOICE = method_names(Family.DISCRIMINATION, Family.PREFERENCE)

@@ -1,11 +1,21 @@
 """The method registry: one entry per method of DESIGN.md's command-line contract."""
 
+import dataclasses
 from fractions import Fraction
 
 import pytest
 
 from trials.errors import TrialsError, UnknownMethodError
-from trials.methods import METHODS, Family, get_method
+from trials.methods import (
+    METHODS,
+    Family,
+    Scoring,
+    all_methods,
+    check_method,
+    get_method,
+    register_method,
+    unregister_method,
+)
 
 # Guessing probabilities: ISO 4120 (triangle 1/3), ISO 10399 (duo-trio 1/2),
 # ISO 5495 (paired comparison 1/2), Frijters 1979 (3-AFC 1/3),
@@ -46,3 +56,50 @@ def test_an_unknown_method_names_the_known_ones():
 def test_families_are_assigned():
     assert get_method("rating").family is Family.RATING
     assert get_method("ranking").family is Family.RANKING
+
+
+@pytest.mark.parametrize("spec", [m for m in METHODS if m.is_forced_choice], ids=lambda m: m.name)
+def test_every_forced_choice_method_names_a_model_whose_chance_is_its_guess(spec):
+    from trials.stats import thurstonian
+
+    assert spec.model in thurstonian.MODELS
+    assert thurstonian.CHANCE[spec.model] == pytest.approx(spec.guess)
+    check_method(spec)
+
+
+def test_tablet_wording_taps_and_never_circles():
+    for spec in METHODS:
+        assert spec.tablet_instructions, spec.name
+        assert "circle" not in spec.tablet_instructions.lower(), spec.name
+        assert "Tap" in spec.tablet_instructions or "tap" in spec.tablet_instructions, spec.name
+
+
+def test_a_method_is_registered_once_and_removed_again():
+    spec = dataclasses.replace(get_method("3afc"), name="3afc-least", target_role="A")
+    register_method(spec)
+    try:
+        assert get_method("3afc-least") is spec
+        assert spec in all_methods() and spec not in METHODS
+        with pytest.raises(TrialsError, match="already registered"):
+            register_method(spec)
+    finally:
+        unregister_method("3afc-least")
+    with pytest.raises(UnknownMethodError):
+        get_method("3afc-least")
+    with pytest.raises(TrialsError, match="built in"):
+        unregister_method("triangle")
+
+
+@pytest.mark.parametrize("change, message", [
+    ({"scoring": Scoring.NONE}, "scoring rule"),
+    ({"choose": 3}, "choose=3"),
+    ({"target_role": "R"}, "target_role"),
+    ({"model": ""}, "model key"),
+    ({"patterns": ("AB",)}, "patterns"),
+], ids=["no-scoring", "choose-all", "bad-target", "no-model", "short-pattern"])
+def test_a_method_that_cannot_work_is_refused_naming_the_field(change, message):
+    spec = dataclasses.replace(get_method("3afc"), name="broken", **change)
+    with pytest.raises(TrialsError, match=message):
+        register_method(spec)
+    with pytest.raises(UnknownMethodError):
+        get_method("broken")

@@ -116,7 +116,7 @@ def serving_plan(
         name = {"A": samples[0], "B": samples[1]}
         for code, cups in zip(panel, coded.sets):
             for cup in cups:
-                role = "R" if spec.name == "duo-trio" and cup.position == 1 else cup.letter
+                role = "R" if spec.reference_first and cup.position == 1 else cup.letter
                 entries.append(PlanEntry(
                     session=session, panelist_code=code, position=cup.position,
                     code=cup.code, sample_name=name[cup.letter], set_index=0, role=role,

@@ -18,15 +18,6 @@ from trials.errors import TrialsError, UnbalancedPlanWarning
 from trials.methods import get_method
 from trials.model import Record
 
-REFERENCES = {
-    "triangle": "ISO 4120:2021, six orders AAB, ABA, BAA, BBA, BAB, ABB equally often",
-    "duo-trio": "ISO 10399:2017, balanced or constant reference",
-    "2afc": "ISO 5495:2005, orders AB and BA equally often",
-    "3afc": "Frijters (1979); each position of the odd sample equally often",
-    "tetrad": "Ennis and Jesionka (2011); six orders of two A and two B",
-    "paired-preference": "ISO 5495:2005 (two-sided); orders AB and BA equally often",
-}
-
 
 @dataclass(frozen=True, slots=True)
 class SetsResult(Record):
@@ -79,7 +70,7 @@ def discrimination_sets(
     rng : int, numpy.random.Generator or None
         Seed or generator; the same seed gives the same sets.
     reference : {"balanced", "constant"}
-        Duo-trio only: ``"balanced"`` serves A and B as the reference equally often
+        Methods whose first cup is the reference (``reference_first``: duo-trio) only: ``"balanced"`` serves A and B as the reference equally often
         (all four patterns); ``"constant"`` always serves A (the control, listed first)
         as the reference (patterns starting with ``A``). ISO 10399 describes both.
 
@@ -119,7 +110,7 @@ def discrimination_sets(
         raise TrialsError(f"reference must be 'balanced' or 'constant', got {reference!r}")
     patterns = tuple(spec.patterns)
     if reference == "constant":
-        if spec.name != "duo-trio":
+        if not spec.reference_first:
             raise TrialsError(
                 f"a constant reference applies to the duo-trio test only, not {method!r}"
             )
@@ -150,7 +141,7 @@ def discrimination_sets(
         patterns=patterns,
         pattern_counts=counts,
         balanced=balanced,
-        reference=REFERENCES.get(spec.name, spec.reference),
+        reference=spec.set_design or spec.reference,
     )
 
 

@@ -153,10 +153,10 @@ def _check_sets(method: MethodSpec, group: PanelistSession) -> None:
                 f"{method.name} set holds {method.set_size} cups, got {len(cups)} "
                 f"(codes {[e.code for e in cups]})"
             )
-        if method.name == "duo-trio" and sum(e.role == "R" for e in cups) > 1:
+        if method.reference_first and sum(e.role == "R" for e in cups) > 1:
             raise TrialsError(
                 f"panelist {group.panelist_code!r}, session {group.session!r}: more than one "
-                f"reference cup in a duo-trio set (codes {[e.code for e in cups]})"
+                f"reference cup in a {method.name} set (codes {[e.code for e in cups]})"
             )
 
 
@@ -718,7 +718,7 @@ def _cautions(allergens: Sequence[str], panelist: Panelist | None):
 
 def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> None:
     b.text(method.question, BOLD, 13, gap=6)
-    if method.name in ("2afc", "3afc"):
+    if method.asks_attribute:
         b.attribute_line()
     b.text(method.instructions, SANS, 9.5, gap=10)
     if method.is_forced_choice:
@@ -727,16 +727,12 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
             if len(sets) > 1:
                 b.text(f"Set {k + 1} of {len(sets)}", BOLD, 10, gap=2)
             reference = None
-            if method.name == "duo-trio":
+            if method.reference_first:
                 reference = next((e for e in cups if e.role == "R"), cups[0])
                 cups = (reference,) + tuple(e for e in cups if e is not reference)
             b.code_boxes(cups, reference=reference)
-            if method.name == "tetrad":
-                b.text("Circle two codes: the two codes you do not circle form the other "
-                       "group.", ITALIC, 9, gap=8)
-            elif method.name == "duo-trio":
-                b.text("Circle one of the two coded samples (not the reference R).",
-                       ITALIC, 9, gap=8)
+            if method.ballot_note:
+                b.text(method.ballot_note, ITALIC, 9, gap=8)
     elif method.family is Family.RATING:
         b.serving_order()
         scales = attrs or (OVERALL_LIKING,)

@@ -27,7 +27,7 @@ import pandas as pd
 
 from trials.analysis import StudyAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
-from trials.methods import get_method
+from trials.methods import Scoring, get_method
 from trials.model import Batch, PlanEntry, Response, Study
 
 CAUTION = (
@@ -317,7 +317,8 @@ def _forced_choice_results(a: StudyAnalysis, charts: _Charts) -> str:
     if d.note:
         rows.append(("note", d.note))
     out.append("<h3>Difference test</h3>" + _kv(rows))
-    if fc.counts.preferred or a.method == "paired-preference":
+    counted = get_method(a.method).scoring is Scoring.PREFERENCE_COUNT
+    if fc.counts.preferred or counted:
         out.append(_table(["sample", "chosen"], fc.counts.counts.items(), numeric=(1,)))
         out.append(f"<p>'No preference' answers: {fc.counts.no_preference}"
                    + (f" ({e(fc.preference.note)})" if fc.preference is not None else "")
@@ -329,7 +330,7 @@ def _forced_choice_results(a: StudyAnalysis, charts: _Charts) -> str:
             ("most correct answers allowed", s.max_correct),
             (f"upper {(1 - s.beta) * 100:g} % limit of pd", _g(s.pd_upper)),
             ("similar", "yes" if s.similar else "no")] + ([("note", s.note)] if s.note else [])))
-    if a.method == "paired-preference":
+    if counted:
         out.append(charts.html(_preference_chart(a)))
     out.append(charts.html(_proportion_chart(a)))
     return "".join(out)

@@ -54,7 +54,16 @@ import numpy as np
 from scipy import special
 
 from trials.errors import TrialsError
-from trials.methods import Family, get_method
+from trials.methods import (
+    MODEL_2AFC,
+    MODEL_3AFC,
+    MODEL_DUO_TRIO,
+    MODEL_TETRAD,
+    MODEL_TRIANGLE,
+    Family,
+    all_methods,
+    get_method,
+)
 from trials.model import Record
 
 DPRIME_MAX = 15.0
@@ -124,17 +133,36 @@ def _pc_tetrad(d):
     return pc, dpc
 
 
-_MODELS: dict[str, Callable] = {
-    "2afc": _pc_2afc,
-    "duo-trio": _pc_duotrio,
-    "3afc": _pc_3afc,
-    "triangle": _pc_triangle,
-    "tetrad": _pc_tetrad,
+MODELS: dict[str, Callable] = {
+    MODEL_2AFC: _pc_2afc,
+    MODEL_DUO_TRIO: _pc_duotrio,
+    MODEL_3AFC: _pc_3afc,
+    MODEL_TRIANGLE: _pc_triangle,
+    MODEL_TETRAD: _pc_tetrad,
 }
-_MODEL_NOTES = {
-    "paired-preference": "d' from the 2-AFC model (Thurstonian preference): pc is the "
-    "share choosing the more-chosen sample",
+"""The psychometric functions by model key (``MethodSpec.model`` of the registry names
+one); each takes a 1-d array of d' >= 0 and returns ``(pc, dpc/dd')``."""
+_MODELS = MODELS
+
+CHANCE: dict[str, float] = {
+    MODEL_2AFC: 1 / 2,  # Green and Swets (1966)
+    MODEL_DUO_TRIO: 1 / 2,  # Ennis (1993)
+    MODEL_3AFC: 1 / 3,  # Frijters (1979)
+    MODEL_TRIANGLE: 1 / 3,  # Frijters (1979)
+    MODEL_TETRAD: 1 / 3,  # Ennis and Jesionka (2011)
 }
+"""Each model's exact chance level ``pc(0)`` (its quadrature agrees within 1e-15)."""
+
+_PREFERENCE_NOTE = ("d' from the 2-AFC model (Thurstonian preference): pc is the "
+                    "share choosing the more-chosen sample")
+
+
+def _model_key(method: str) -> str:
+    """The registry's model key for ``method``, checked to be one of :data:`MODELS`."""
+    spec = get_method(method)
+    if not spec.is_forced_choice or spec.model not in MODELS:
+        raise TrialsError(f"method {method!r} has no Thurstonian model (forced choice only)")
+    return spec.model
 
 
 def model_name(method: str) -> str:
@@ -148,7 +176,8 @@ def model_name(method: str) -> str:
     Returns
     -------
     str
-        The registry name whose model applies (paired preference: ``"2afc"``).
+        The registry name of the discrimination method whose model applies (paired
+        preference: ``"2afc"``, whose model it shares).
 
     Notes
     -----
@@ -161,12 +190,12 @@ def model_name(method: str) -> str:
     ----------
     Ennis, D. M. (1993). J. Sensory Stud. 8:353-370.
     """
+    key = _model_key(method)
     spec = get_method(method)
-    if spec.family is Family.PREFERENCE:
-        return "2afc"
-    if spec.name not in _MODELS:
-        raise TrialsError(f"method {method!r} has no Thurstonian model (forced choice only)")
-    return spec.name
+    if spec.family is Family.DISCRIMINATION:
+        return spec.name
+    return next((m.name for m in all_methods()
+                 if m.family is Family.DISCRIMINATION and m.model == key), spec.name)
 
 
 def _as_array(x, what: str) -> tuple[np.ndarray, bool]:
@@ -203,7 +232,7 @@ def pc_from_dprime(d, *, method: str):
     ----------
     Ennis, D. M. (1993). J. Sensory Stud. 8:353-370.
     """
-    fn = _MODELS[model_name(method)]
+    fn = _MODELS[_model_key(method)]
     arr, scalar = _as_array(d, "d'")
     if np.any(arr < 0):
         raise TrialsError(f"d' must be >= 0, got {d!r}")
@@ -240,7 +269,7 @@ def pc_slope(d, *, method: str):
     ----------
     Bi, J., Ennis, D. M. and O'Mahony, M. (1997). J. Sensory Stud. 12:87-104.
     """
-    fn = _MODELS[model_name(method)]
+    fn = _MODELS[_model_key(method)]
     arr, scalar = _as_array(d, "d'")
     shape = np.shape(d)
     _, slope = fn(np.abs(arr.ravel()))
@@ -256,7 +285,7 @@ def _grid(model: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """
     d = np.concatenate([np.linspace(0.0, 3.0, 3001), np.linspace(3.0, DPRIME_MAX, 4801)[1:]])
     pc, slope = _MODELS[model](d)
-    guess = float(get_method(model).guess)  # exact chance level (quadrature: within 1e-15)
+    guess = CHANCE[model]  # exact chance level (quadrature: within 1e-15)
     pc[0] = guess
     keep = np.concatenate([[True], np.diff(pc) > 0])  # drop the flat, rounded-off tail
     keep &= np.maximum.accumulate(pc) == pc
@@ -354,7 +383,7 @@ def dprime_from_pc(pc, *, method: str, newton_steps: int = 0):
     ----------
     Ennis, D. M. (1993). J. Sensory Stud. 8:353-370 (the psychometric functions).
     """
-    model = model_name(method)
+    model = _model_key(method)
     if isinstance(pc, (float, int)) and not isinstance(pc, bool) and not newton_steps:
         if not 0.0 <= pc <= 1.0:  # also refuses nan
             raise TrialsError(f"pc must lie in [0, 1], got {pc!r}")
@@ -465,7 +494,7 @@ def dprime_conversion(*, method: str, pc: float | None = None,
         raise TrialsError(f"give exactly one of pc or dprime (got pc={pc!r}, dprime={dprime!r})")
     model = model_name(method)
     guess = float(get_method(method).guess)
-    notes = [_MODEL_NOTES[method]] if method in _MODEL_NOTES else []
+    notes = [_PREFERENCE_NOTE] if get_method(method).family is Family.PREFERENCE else []
     if pc is not None:
         if not (0.0 <= pc <= 1.0):
             raise TrialsError(f"pc must lie in [0, 1], got {pc!r}")

@@ -1,0 +1,470 @@
+"""Answers against the serving plan: decode, check, count what is still expected.
+
+Pure: plain records in (:class:`trials.model.PlanEntry`, :class:`trials.model.Response`,
+:class:`trials.model.Attribute`, the method's :class:`trials.methods.MethodSpec`),
+plain records or a DataFrame out. No database, no screen. The service loads the
+plan and the answers on file and calls these; the screens call them for what they
+show (the tasting steps, the paper-entry grid).
+
+- :class:`PlanKey` decodes a code for one panelist in one session (cup -> sample,
+  role, set, position).
+- :class:`AnswerChecker` checks one answer and returns it in the form the store keeps
+  (:class:`CheckedAnswer`), or raises :class:`trials.errors.AnswerError` naming the
+  field at fault and what was expected. The answer's shape comes from the registry:
+  how many codes one answer names (``choose``), whether "no preference" is an answer
+  (``allows_no_preference``), whether the first cup is a reference that may not be
+  chosen (``reference_first``).
+- :func:`expected_answers`, :func:`answer_progress` and :func:`tasting_steps` count
+  what a panelist still has to answer.
+- :func:`paper_columns`, :func:`paper_sheet`, :func:`sheet_answers` and
+  :func:`sheet_problems` are the paper-entry grid.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
+
+from trials.errors import AnswerError
+from trials.methods import Family, MethodSpec, get_method
+from trials.model import Attribute, PlanEntry, Record, Response, Study
+
+CHOICE = "choice"
+RANK = "rank"
+NO_PREFERENCE = "no preference"
+
+# --------------------------------------------------------------------------- the key
+
+
+@dataclass(frozen=True, slots=True)
+class PlanKey:
+    """The decoding key: ``(session, panelist code) -> {code: PlanEntry}``.
+
+    Build it with :meth:`of` from the plan's entries (all of a trial, or one
+    panelist's). ``panelists`` are the panelists with at least one cup, in plan order.
+    """
+
+    cups: Mapping[tuple[str, str], Mapping[str, PlanEntry]]
+    panelists: tuple[str, ...]
+
+    @classmethod
+    def of(cls, entries: Iterable[PlanEntry]) -> PlanKey:
+        cups: dict[tuple[str, str], dict[str, PlanEntry]] = defaultdict(dict)
+        for e in entries:
+            cups[(str(e.session), str(e.panelist_code))][str(e.code)] = e
+        panelists = tuple(dict.fromkeys(k[1] for k in cups))
+        return cls(dict(cups), panelists)
+
+    def served(self, session: str, panelist: str) -> Mapping[str, PlanEntry]:
+        """The cups served to ``panelist`` in ``session`` by code ({} when none)."""
+        return self.cups.get((session, panelist), {})
+
+    def find(self, session: str, panelist: str, code: str) -> PlanEntry | None:
+        """The cup marked ``code`` for this panelist and session, or None."""
+        return self.served(session, panelist).get(code)
+
+    def sets(self, session: str, panelist: str) -> dict[int, tuple[PlanEntry, ...]]:
+        """This panelist's sets in the session: set index -> cups in serving order."""
+        out: dict[int, list[PlanEntry]] = defaultdict(list)
+        for e in self.served(session, panelist).values():
+            out[e.set_index].append(e)
+        return {k: tuple(sorted(v, key=lambda e: e.position)) for k, v in sorted(out.items())}
+
+
+# --------------------------------------------------------------------------- one answer
+
+
+@dataclass(frozen=True, slots=True)
+class CheckedAnswer(Record):
+    """One answer as the store keeps it.
+
+    ``question`` identifies what was asked, so that the same question answered again
+    replaces the earlier answer: ``"choice:<set index>"`` for a forced choice,
+    ``"<code>:rank"`` for a rank, ``"<code>:<attribute>"`` for a score. ``code`` is the
+    chosen code (a tetrad's two codes in serving order, separated by a space; empty
+    with "no preference"), ``value`` the score or rank as a whole number in text, or
+    ``"no preference"``, or empty for a chosen code.
+    """
+
+    session: str
+    panelist: str
+    question: str
+    code: str
+    attribute: str
+    value: str
+
+
+def whole_number(value: str, low: int, high: int) -> int:
+    """``value`` as a whole number from ``low`` to ``high``; else :class:`AnswerError`
+    on column ``value`` quoting the range and the value."""
+    try:
+        x = float(value)
+    except ValueError:
+        x = math.nan
+    if not math.isfinite(x) or x != int(x) or not low <= x <= high:
+        raise AnswerError("value", f"expected a whole number from {low} to {high}, got {value!r}")
+    return int(x)
+
+
+@dataclass(frozen=True, slots=True)
+class AnswerChecker:
+    """Checks answers to one trial against its plan, its method and its scales.
+
+    Parameters
+    ----------
+    spec : MethodSpec
+        The trial's method.
+    key : PlanKey
+        The serving plan (all of it, or the one panelist whose answers are checked).
+    sessions : tuple of str
+        Every session of the trial, in order (a session without cups is still named in
+        the error for an unknown session).
+    attributes : mapping of str to Attribute
+        The trial's rated attributes by name (ratings).
+    """
+
+    spec: MethodSpec
+    key: PlanKey
+    sessions: tuple[str, ...]
+    attributes: Mapping[str, Attribute]
+
+    @classmethod
+    def for_trial(cls, study: Study, plan: Iterable[PlanEntry],
+                  sessions: Sequence[str] | None = None) -> AnswerChecker:
+        """The checker of ``study``; ``sessions`` default to the plan's, in plan order."""
+        entries = list(plan)
+        names = (tuple(str(x) for x in sessions) if sessions is not None
+                 else tuple(dict.fromkeys(str(e.session) for e in entries)))
+        return cls(get_method(study.method), PlanKey.of(entries), names,
+                   {a.name: a for a in study.attributes})
+
+    def check(self, session: str, panelist: str, code: str, attribute: str,
+              value: Any) -> CheckedAnswer:
+        """Check one answer (all fields as text; surrounding spaces are ignored).
+
+        Raises
+        ------
+        trials.errors.AnswerError
+            Naming the column at fault (``panelist``, ``session``, ``code``,
+            ``attribute``, ``value``) and what was expected.
+        """
+        session, panelist = str(session).strip(), str(panelist).strip()
+        code = str(code or "").strip()
+        attribute = str(attribute or "").strip()
+        value = "" if value is None else str(value).strip()
+        if panelist not in self.key.panelists:
+            raise AnswerError("panelist", f"panelist {panelist!r} has no serving plan in this trial")
+        if session not in self.sessions:
+            known = ", ".join(repr(x) for x in self.sessions)
+            raise AnswerError("session", f"expected one of the sessions {known}, got {session!r}")
+        cups = self.key.served(session, panelist)
+        if not cups:
+            raise AnswerError("session",
+                              f"panelist {panelist!r} is not served in session {session!r}")
+        spec = self.spec
+
+        def cup(c: str) -> PlanEntry:
+            if c not in cups:
+                raise AnswerError("code", f"{c!r} is not a code served to panelist "
+                                          f"{panelist!r} in session {session!r}")
+            return cups[c]
+
+        def answer(question: str, code: str, value: str) -> CheckedAnswer:
+            return CheckedAnswer(session, panelist, question, code, attribute, value)
+
+        if spec.is_forced_choice:
+            if attribute != CHOICE:
+                raise AnswerError("attribute", f"a {spec.name} trial takes attribute "
+                                               f"'choice', got {attribute!r}")
+            if value:
+                if spec.allows_no_preference and value.lower() == NO_PREFERENCE:
+                    if code:
+                        raise AnswerError("code",
+                                          f"give no code with 'no preference', got {code!r}")
+                    sets = sorted({c.set_index for c in cups.values()})
+                    if len(sets) != 1:
+                        raise AnswerError("code", "this panelist has several sets; 'no "
+                                                  "preference' needs one set per session")
+                    return answer(f"choice:{sets[0]}", "", NO_PREFERENCE)
+                allowed = "empty or 'no preference'" if spec.allows_no_preference else "empty"
+                raise AnswerError("value", f"expected {allowed} for a choice, got {value!r}")
+            picked = code.split()
+            want = spec.choose
+            if len(picked) != want:
+                what = (f"the {_count(want)} codes of the chosen group" if want > 1
+                        else "one code")
+                raise AnswerError("code", f"expected {what}, got {code!r}")
+            chosen = [cup(c) for c in picked]
+            if len({c.set_index for c in chosen}) != 1 or len(set(picked)) != want:
+                raise AnswerError("code", f"expected {_count(want)} different codes of the "
+                                          f"same set, got {code!r}")
+            if spec.reference_first and any(c.role == "R" for c in chosen):
+                raise AnswerError("code", f"{code!r} is the reference; choose one of the "
+                                          "coded samples")
+            chosen.sort(key=lambda c: c.position)
+            return answer(f"choice:{chosen[0].set_index}", " ".join(c.code for c in chosen), "")
+        if not code:
+            raise AnswerError("code", "a code is required")
+        c = cup(code)
+        if spec.family is Family.RANKING:
+            if attribute != RANK:
+                raise AnswerError("attribute",
+                                  f"a ranking trial takes attribute 'rank', got {attribute!r}")
+            k = sum(1 for x in cups.values() if x.set_index == c.set_index)
+            return answer(f"{code}:rank", code, str(whole_number(value, 1, k)))
+        attr = self.attributes.get(attribute)
+        if attr is None:
+            known = ", ".join(repr(a) for a in self.attributes) or "none"
+            raise AnswerError("attribute", f"expected one of the trial's attributes {known}, "
+                                           f"got {attribute!r}")
+        return answer(f"{code}:{attribute}", code,
+                      str(whole_number(value, attr.low, attr.high)))
+
+    def set_of(self, answer: CheckedAnswer) -> int:
+        """The set index of a checked answer's (first) code; for "no preference", the
+        panelist's one set."""
+        first = answer.code.split()[0] if answer.code else ""
+        cup = self.key.find(answer.session, answer.panelist, first)
+        if cup is not None:
+            return cup.set_index
+        return min((c.set_index for c in self.key.served(answer.session, answer.panelist).values()),
+                   default=0)
+
+
+def _count(n: int) -> str:
+    return {1: "one", 2: "two", 3: "three"}.get(n, str(n))
+
+
+# --------------------------------------------------------------------------- what is expected
+
+
+def expected_answers(spec: MethodSpec, cups_per_set: Iterable[int], *, attributes: int) -> int:
+    """How many answers a panelist owes for sets of the given sizes.
+
+    Forced choice: one per set. Rating: one per cup and attribute. Ranking: one rank
+    per cup.
+    """
+    sizes = list(cups_per_set)
+    if spec.family is Family.RATING:
+        return sum(sizes) * attributes
+    if spec.family is Family.RANKING:
+        return sum(sizes)
+    return len(sizes)
+
+
+def answer_progress(spec: MethodSpec, plan: Iterable[PlanEntry], responses: Iterable[Response],
+                    *, attributes: int) -> pd.DataFrame:
+    """Answers on file against answers expected, per session and panelist.
+
+    Columns ``session panelist expected answered``, sorted by session and panelist;
+    one row per panelist and session of the plan.
+    """
+    sizes: dict[tuple[str, str], dict[int, int]] = defaultdict(lambda: defaultdict(int))
+    for e in plan:
+        sizes[(e.session, e.panelist_code)][e.set_index] += 1
+    answered: dict[tuple[str, str], int] = defaultdict(int)
+    for r in responses:
+        answered[(r.session, r.panelist_code)] += 1
+    rows = [{"session": k[0], "panelist": k[1],
+             "expected": expected_answers(spec, v.values(), attributes=attributes),
+             "answered": answered.get(k, 0)}
+            for k, v in sorted(sizes.items())]
+    return pd.DataFrame(rows, columns=["session", "panelist", "expected", "answered"])
+
+
+@dataclass(frozen=True, slots=True)
+class Step(Record):
+    """One step of the tasting screen.
+
+    ``kind`` is ``"choose"`` (one forced-choice set), ``"rate"`` (one cup, every
+    attribute) or ``"rank"`` (one set, every cup). ``codes`` are the set's codes in
+    serving order; for ``"rate"``, ``position`` is the cup's 0-based place in the set
+    and ``code`` its code. ``done`` says whether the step is answered.
+    """
+
+    kind: str
+    session: str
+    set_index: int
+    codes: tuple[str, ...]
+    position: int | None
+    code: str
+    done: bool
+
+
+def tasting_steps(spec: MethodSpec, sets: Sequence[Any], answers: Sequence[Any],
+                  attributes: Sequence[str]) -> tuple[Step, ...]:
+    """Every step of a panelist's ballot in serving order, with whether it is answered.
+
+    ``sets`` have ``session``, ``set_index`` and ``codes`` (serving order);
+    ``answers`` have ``session``, ``code``, ``attribute`` and ``value`` (as the
+    service's ballot gives them). A forced-choice set is answered when a choice names
+    one of its codes, or (where the method allows it) says "no preference".
+    """
+    given = {(a.session, a.code, a.attribute) for a in answers}
+    steps: list[Step] = []
+    if spec.family is Family.RATING:
+        for s in sets:
+            for pos, code in enumerate(s.codes):
+                done = all((s.session, code, a) in given for a in attributes)
+                steps.append(Step("rate", s.session, s.set_index, tuple(s.codes), pos, code, done))
+    elif spec.family is Family.RANKING:
+        for s in sets:
+            done = all((s.session, code, RANK) in given for code in s.codes)
+            steps.append(Step("rank", s.session, s.set_index, tuple(s.codes), None, "", done))
+    else:
+        chosen = chosen_sets(spec, sets, answers)
+        for s in sets:
+            steps.append(Step("choose", s.session, s.set_index, tuple(s.codes), None, "",
+                              (s.session, s.set_index) in chosen))
+    return tuple(steps)
+
+
+def chosen_sets(spec: MethodSpec, sets: Sequence[Any],
+                answers: Sequence[Any]) -> dict[tuple[str, int], str]:
+    """(session, set index) -> the chosen codes (or "no preference") of each answered
+    forced-choice set."""
+    chosen: dict[tuple[str, int], str] = {}
+    for a in answers:
+        if a.attribute != CHOICE:
+            continue
+        declined = spec.allows_no_preference and not a.code and a.value == NO_PREFERENCE
+        for s in sets:
+            if s.session == a.session and (set(a.code.split()) & set(s.codes) or declined):
+                chosen[(s.session, s.set_index)] = a.code or NO_PREFERENCE
+    return chosen
+
+
+def choice_options(spec: MethodSpec, codes: Sequence[str]) -> tuple[str, tuple[str, ...]]:
+    """(reference code or "", the codes a panelist may choose) of one set in serving
+    order: where the method serves a reference first, it is not a choice."""
+    if spec.reference_first and codes:
+        return codes[0], tuple(codes[1:])
+    return "", tuple(codes)
+
+
+# --------------------------------------------------------------------------- paper entry
+
+
+def paper_columns(spec: MethodSpec, attributes: Sequence[str] = ()) -> tuple[str, ...]:
+    """The paper-entry grid's columns: the registry's, then (ratings) one per attribute."""
+    extra = tuple(attributes) if spec.family is Family.RATING else ()
+    return tuple(spec.paper_columns) + extra
+
+
+def _score_names(spec: MethodSpec, attributes: Sequence[str]) -> list[str]:
+    return list(attributes) if spec.family is Family.RATING else [RANK]
+
+
+def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Response],
+                attributes: Sequence[str] = ()) -> pd.DataFrame:
+    """The paper-entry grid of one session's plan, filled with the answers on file.
+
+    Forced choice: one row per panelist and set, columns ``panelist set cups chosen``
+    (plus ``no_preference`` where the method allows it). Rating: one row per cup in
+    plan order, columns ``panelist position code`` and one per attribute (Float64).
+    Ranking: one row per cup, columns ``panelist position code rank``. Codes are the
+    blinding codes only. ``responses`` should be the session's answers.
+    """
+    got = list(responses)
+    columns = list(paper_columns(spec, attributes))
+    if spec.is_forced_choice:
+        chosen: dict[tuple[str, int], Response] = {}
+        cups: dict[tuple[str, int], list[PlanEntry]] = defaultdict(list)
+        for e in plan:
+            cups[(e.panelist_code, e.set_index)].append(e)
+        code_set = {(e.panelist_code, e.code): e.set_index for e in plan}
+        for r in got:
+            first = r.code.split()[0] if r.code.split() else ""
+            chosen[(r.panelist_code, code_set.get((r.panelist_code, first), 0))] = r
+        rows = []
+        for (p, k), items in sorted(cups.items()):
+            r = chosen.get((p, k))
+            row = {"panelist": p, "set": k + 1,
+                   "cups": " ".join(e.code for e in sorted(items, key=lambda e: e.position)),
+                   "chosen": r.code if r else ""}
+            if spec.allows_no_preference:
+                row["no_preference"] = bool(r and r.value == NO_PREFERENCE)
+            rows.append(row)
+        return pd.DataFrame(rows, columns=columns)
+    names = _score_names(spec, attributes)
+    have = {(r.panelist_code, r.code, r.attribute): r.value for r in got}
+    rows = []
+    for e in plan:
+        row = {"panelist": e.panelist_code, "position": e.position, "code": e.code}
+        for a in names:
+            v = have.get((e.panelist_code, e.code, a))
+            row[a] = float(v) if v not in (None, "") else None
+        rows.append(row)
+    frame = pd.DataFrame(rows, columns=columns)
+    for a in names:
+        frame[a] = frame[a].astype("Float64")
+    return frame
+
+
+def _blank(v: Any) -> bool:
+    return v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)) or not str(v).strip()
+
+
+def sheet_answers(spec: MethodSpec, session: str, frame: pd.DataFrame,
+                  attributes: Sequence[str] = ()) -> list[tuple[int, dict[str, Any]]]:
+    """The answers a paper grid holds, as (0-based grid row, answer fields); blank cells
+    are skipped. The fields are those of :meth:`AnswerChecker.check`."""
+    out: list[tuple[int, dict[str, Any]]] = []
+    for i, rec in enumerate(frame.to_dict("records")):
+        panelist = str(rec.get("panelist") or "").strip()
+        if spec.is_forced_choice:
+            code = str(rec.get("chosen") or "").strip()
+            declined = rec.get("no_preference")
+            if spec.allows_no_preference and not _blank(declined) and bool(declined):
+                out.append((i, {"session": session, "panelist": panelist, "code": "",
+                                "attribute": CHOICE, "value": NO_PREFERENCE}))
+            elif code:
+                out.append((i, {"session": session, "panelist": panelist, "code": code,
+                                "attribute": CHOICE, "value": ""}))
+            continue
+        for a in _score_names(spec, attributes):
+            v = rec.get(a)
+            if _blank(v):
+                continue
+            value = int(v) if isinstance(v, float) and v == int(v) else v
+            out.append((i, {"session": session, "panelist": panelist,
+                            "code": str(rec.get("code") or "").strip(), "attribute": a,
+                            "value": str(value)}))
+    return out
+
+
+def sheet_problems(checker: AnswerChecker, session: str, frame: pd.DataFrame) -> list[str]:
+    """Problems of a paper grid, one message per bad cell, naming the grid row
+    (1-based), the panelist and what was expected; empty when every answer would be
+    accepted. Also flags a rank given twice by one panelist in one set."""
+    spec = checker.spec
+    problems: list[str] = []
+    ranks: dict[tuple[str, int], dict[str, str]] = defaultdict(dict)
+    for i, a in sheet_answers(spec, str(session), frame, tuple(checker.attributes)):
+        try:
+            ans = checker.check(a["session"], a["panelist"], a["code"], a["attribute"],
+                                a["value"])
+        except AnswerError as bad:
+            problems.append(f"row {i + 1} (panelist {a['panelist']!r}), {bad.column}: {bad.text}")
+            continue
+        if spec.family is Family.RANKING:
+            given = ranks[(ans.panelist, checker.set_of(ans))]
+            if ans.value in given:
+                problems.append(f"row {i + 1} (panelist {a['panelist']!r}): rank "
+                                f"{ans.value} is also given to code {given[ans.value]!r}")
+            given[ans.value] = ans.code
+    return problems
+
+
+def most_cups(frame: pd.DataFrame) -> int:
+    """The most cups one panelist has in a per-cup paper grid (rating, ranking): the
+    highest rank anyone can give. With incomplete blocks this is the block size, not
+    the number of samples of the trial. 1 for an empty grid."""
+    if frame.empty or "panelist" not in frame:
+        return 1
+    return int(frame.groupby("panelist").size().max())
