@@ -31,7 +31,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from trials import service
+from trials import methods, service
 from trials.model import Attribute, AttributeKind, Sample, Status, StudySummary
 
 KITCHEN = "Harbour Lane Test Kitchen"
@@ -126,7 +126,7 @@ def _brioche(store) -> int:
                description="Same dough, final proof cut to 60 min at 27 °C."),
     )
     study = service.create_study(
-        store, name=BRIOCHE, method="triangle", product="brioche bun",
+        store, name=BRIOCHE, method=methods.TRIANGLE, product="brioche bun",
         objective="Can tasters tell a bun proofed 60 min from the usual 90 min? "
                   "A shorter proof would free an oven slot each morning.",
         alpha=0.05, beta=0.20, pd=0.30, samples=samples, created_on=dt.date(2026, 3, 9), by=BY,
@@ -191,7 +191,7 @@ def _coatings(store) -> int:
         Attribute("saltiness", AttributeKind.INTENSITY, 1, 9, ("not salty", "very salty")),
     )
     study = service.create_study(
-        store, name=COATINGS, method="rating", product="fried chicken thigh",
+        store, name=COATINGS, method=methods.RATING, product="fried chicken thigh",
         objective="Which dredge gives the crispest coating without losing liking? All four "
                   "share one seasoning blend.",
         alpha=0.05, delta=1.0, samples=COATING_SAMPLES, attributes=attributes,
@@ -227,7 +227,7 @@ def _soup(store) -> int:
         Sample("Roasted tomatoes", description="Tomatoes roasted 25 min at 200 °C first."),
     )
     study = service.create_study(
-        store, name=SOUP, method="paired-preference", product="chilled tomato soup",
+        store, name=SOUP, method=methods.PAIRED_PREFERENCE, product="chilled tomato soup",
         objective="Do guests prefer the soup made with roasted tomatoes?",
         alpha=0.05, samples=samples, created_on=dt.date(2026, 5, 4), by=BY,
     )
@@ -269,7 +269,7 @@ def _crumb(store) -> int:
         Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
     )
     study = service.create_study(
-        store, name=CRUMB, method="rating", product="fried chicken thigh",
+        store, name=CRUMB, method=methods.RATING, product="fried chicken thigh",
         objective="Is a panko crumb worth its extra step against the house dredge?",
         alpha=0.05, delta=1.0, samples=samples, attributes=attributes,
         created_on=dt.date(2025, 11, 18), by=BY,

@@ -109,9 +109,21 @@ class MethodSpec(Record):
         return self.family in (Family.DISCRIMINATION, Family.PREFERENCE)
 
 
+# The methods' names as the command line, files and the store write them; code elsewhere
+# refers to a method through these or through the registry, never by a literal.
+TRIANGLE = "triangle"
+DUO_TRIO = "duo-trio"
+TWO_AFC = "2afc"
+THREE_AFC = "3afc"
+TETRAD = "tetrad"
+PAIRED_PREFERENCE = "paired-preference"
+RATING = "rating"
+RANKING = "ranking"
+
+
 METHODS: tuple[MethodSpec, ...] = (
     MethodSpec(
-        name="triangle",
+        name=TRIANGLE,
         label="Triangle test",
         family=Family.DISCRIMINATION,
         guess=1 / 3,
@@ -137,7 +149,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
-        name="duo-trio",
+        name=DUO_TRIO,
         label="Duo-trio test",
         family=Family.DISCRIMINATION,
         guess=1 / 2,
@@ -165,7 +177,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
-        name="2afc",
+        name=TWO_AFC,
         label="2-AFC (paired comparison, directional)",
         family=Family.DISCRIMINATION,
         guess=1 / 2,
@@ -193,7 +205,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
-        name="3afc",
+        name=THREE_AFC,
         label="3-AFC",
         family=Family.DISCRIMINATION,
         guess=1 / 3,
@@ -221,7 +233,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
-        name="tetrad",
+        name=TETRAD,
         label="Tetrad test (unspecified)",
         family=Family.DISCRIMINATION,
         guess=1 / 3,
@@ -249,7 +261,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=FORCED_CHOICE_COLUMNS,
     ),
     MethodSpec(
-        name="paired-preference",
+        name=PAIRED_PREFERENCE,
         label="Paired preference",
         family=Family.PREFERENCE,
         guess=1 / 2,
@@ -273,7 +285,7 @@ METHODS: tuple[MethodSpec, ...] = (
         paper_columns=(*FORCED_CHOICE_COLUMNS, "no_preference"),
     ),
     MethodSpec(
-        name="rating",
+        name=RATING,
         label="Rating (hedonic, intensity and just-about-right scales)",
         family=Family.RATING,
         guess=None,
@@ -292,7 +304,7 @@ METHODS: tuple[MethodSpec, ...] = (
         ),
     ),
     MethodSpec(
-        name="ranking",
+        name=RANKING,
         label="Ranking",
         family=Family.RANKING,
         guess=None,

@@ -305,45 +305,20 @@ class AuditEntry(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class ServedCup(Record):
-    """One cup of a panelist's plan as the answer checks see it: its code, place in the
-    serving order, set, sample and role letter in the set's pattern."""
-
-    code: str
-    position: int
-    set_index: int
-    sample: str
-    role: str
-
-
-@dataclass(slots=True)
 class PlanBook:
-    """A trial's serving plan as the answer checks need it, loaded once.
+    """A trial's serving plan as the answer checks need it, loaded once by the store.
 
-    ``plan`` maps (session, panelist code) to that panelist's cups by code;
-    ``sessions`` and ``panelists`` map names and codes to the store's ids, which the
-    checked answers carry back; ``existing`` maps (session id, panelist id, question)
-    to the (code, value) on file.
+    ``entries`` are the plan's cups (all of the trial, or one panelist's);
+    ``session_ids`` and ``panelist_ids`` map names and codes to the store's ids, in the
+    trial's order (the store turns checked answers back into rows with them);
+    ``existing`` maps (session, panelist code, question) to the (code, value) on file.
     """
 
     trial: Study
-    sessions: dict[str, int]
-    session_order: dict[str, int]
-    panelists: dict[str, int]
-    plan: dict[tuple[str, str], dict[str, ServedCup]]
-    existing: dict[tuple[int, int, str], tuple[str, str]] = field(default_factory=dict)
-
-
-@dataclass(frozen=True, slots=True)
-class StoredAnswer:
-    """One checked answer, ready to store: its question key and what was answered."""
-
-    session_id: int
-    panelist_id: int
-    question: str
-    code: str
-    attribute: str
-    value: str
+    entries: tuple[PlanEntry, ...]
+    session_ids: dict[str, int]
+    panelist_ids: dict[str, int]
+    existing: dict[tuple[str, str, str], tuple[str, str]] = field(default_factory=dict)
 
 
 @dataclass(frozen=True, slots=True)

@@ -59,7 +59,7 @@ def test_the_entry_script_is_not_beside_a_pages_folder():
 # trials/service.py (answer checks and the paper sheet, being split into a package)
 # and trials/demo.py (the demo's trials name their methods; moving with the service).
 ROOT = PACKAGE.parent
-NAME_EXEMPT = {"trials/methods.py", "trials/service.py", "trials/demo.py"}
+NAME_EXEMPT = {"trials/methods.py"}
 
 
 def _method_name_literals(path: Path, names: set[str]) -> list[tuple[int, str]]:
@@ -90,9 +90,3 @@ def test_the_name_check_finds_a_comparison_and_not_a_sentence(tmp_path):
     sample = tmp_path / "x.py"
     sample.write_text('if spec.name == "duo-trio":\n    label = "a duo-trio test"\n')
     assert _method_name_literals(sample, {"duo-trio"}) == [(1, "duo-trio")]
-
-
-@pytest.mark.parametrize("path", sorted(NAME_EXEMPT - {"trials/methods.py"}))
-def test_each_exemption_is_still_needed(path):
-    # when an exempt module no longer names a method, its exemption must go
-    assert _method_name_literals(ROOT / path, _method_names()), path

@@ -54,7 +54,7 @@ def test_the_store_never_imports_the_use_cases_or_the_screens():
 
 
 def test_the_answer_check_is_pure():
-    bad = {n for n in _imports(PACKAGE / "service" / "checking.py")
+    bad = {n for n in _imports(PACKAGE / "answers.py")
            if n.startswith(("trials.store", "sqlalchemy", "streamlit"))}
     assert bad == set()
 

@@ -25,7 +25,7 @@ module             holds
 =================  =================================================================
 
 Only :mod:`trials.store` touches the database; the answer checks are pure
-(:mod:`trials.service.checking`).
+(:mod:`trials.answers`).
 """
 
 from trials.model import (
@@ -53,7 +53,7 @@ from trials.service.batches import (
     measures_frame,
     sign_off_batch,
 )
-from trials.service.checking import NO_PREFERENCE
+from trials.answers import NO_PREFERENCE
 from trials.service.documents import (
     print_bytes,
     print_document,

@@ -8,11 +8,11 @@ import io
 import json
 import zipfile
 
-from trials.errors import TrialsError
+from trials.errors import AnswerError, TrialsError
 from trials.methods import get_method
 from trials.model import EntryMode
 from trials.service import _input
-from trials.service.checking import BadAnswer, check_answer
+from trials.service.tasting import checker_of
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import archive as archive_rows
@@ -84,23 +84,21 @@ def import_archive(store: Store, data: bytes, *, by: str = "import") -> int:
     def work(tx) -> int:
         trial_id = archive_rows.insert_archived_trial(tx, doc, fields, by)
         book = answer_rows.plan_book(tx, trial_id)
-        values = []
+        checker = checker_of(book)
+        found = []
         for r in doc["responses"]:
             try:
-                ans = check_answer(book, r["session"], r["panelist_code"], r["code"],
-                                   r["attribute"], r["value"])
-            except BadAnswer as bad:
-                raise TrialsError(f"archive response {r!r}: {bad.column}: {bad.text}") from None
-            values.append({
-                "study_id": trial_id, "session_id": ans.session_id,
-                "panelist_id": ans.panelist_id, "question": ans.question, "code": ans.code,
-                "attribute": ans.attribute, "value": ans.value, "comment": r["comment"],
-                "entered_by": r["entered_by"],
+                ans = checker.check(r["session"], r["panelist_code"], r["code"],
+                                    r["attribute"], r["value"])
+            except AnswerError as bad:
+                raise TrialsError(f"archive response {r!r}: {bad}") from None
+            found.append((ans, {
+                "comment": r["comment"], "entered_by": r["entered_by"],
                 "entered_at": (dt.datetime.fromisoformat(r["entered_at"])
                                if r["entered_at"] else None),
                 "mode": EntryMode(r["mode"]).value,
-            })
-        answer_rows.insert_answers(tx, trial_id, values, by=by, note=None)
+            }))
+        answer_rows.insert_answers(tx, book, found, by=by, note=None)
         return trial_id
 
     return store.write(work)

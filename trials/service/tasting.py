@@ -5,7 +5,6 @@ leader), how many are still expected, and the audit log."""
 from __future__ import annotations
 
 import datetime as dt
-from collections import defaultdict
 from typing import Any
 
 import numpy as np
@@ -13,6 +12,8 @@ import pandas as pd
 
 from trials.errors import TrialsError
 from trials.methods import Family, get_method
+from trials.answers import CHOICE, AnswerChecker, PlanKey, expected_answers
+from trials.answers import answer_progress as progress
 from trials.model import (
     AuditEntry,
     BallotAnswer,
@@ -21,13 +22,16 @@ from trials.model import (
     PanelistBallot,
     PlanBook,
     Response,
-    ServedCup,
 )
 from trials.service import _input
-from trials.service.checking import BadAnswer, check_answer
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import plans as plan_rows
+
+
+def checker_of(book: PlanBook) -> AnswerChecker:
+    """The answer checker of a loaded plan (:class:`trials.answers.AnswerChecker`)."""
+    return AnswerChecker.for_trial(book.trial, book.entries, sessions=tuple(book.session_ids))
 
 
 def ballot_for_token(store: Store, token: str) -> PanelistBallot:
@@ -40,24 +44,14 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
         book = answer_rows.plan_book(tx, trial_id, panelist_code=code)
         mine = answer_rows.responses(tx, trial_id, panelist_code=code)
     spec = get_method(book.trial.method)
-    sets: list[BallotSet] = []
-    for (sess, _), cups in sorted(book.plan.items(), key=lambda kv: (
-            book.session_order[kv[0][0]], kv[0][1])):
-        by_set: dict[int, list[ServedCup]] = defaultdict(list)
-        for cup in cups.values():
-            by_set[cup.set_index].append(cup)
-        for k in sorted(by_set):
-            ordered = sorted(by_set[k], key=lambda c: c.position)
-            sets.append(BallotSet(sess, k, tuple(c.code for c in ordered)))
+    key = PlanKey.of(book.entries)
+    sets = [BallotSet(sess, k, tuple(c.code for c in cups))
+            for sess in book.session_ids
+            for k, cups in key.sets(sess, code).items()]
     answers = tuple(BallotAnswer(r.session, r.code, r.attribute, r.value, r.comment)
                     for r in mine)
     attributes = book.trial.attributes
-    if spec.family == Family.RATING:
-        expected = sum(len(x.codes) for x in sets) * len(attributes)
-    elif spec.family == Family.RANKING:
-        expected = sum(len(x.codes) for x in sets)
-    else:
-        expected = len(sets)
+    expected = expected_answers(spec, [len(x.codes) for x in sets], attributes=len(attributes))
     return PanelistBallot(
         title=f"Tasting - {spec.label}",
         method=spec.name, question=spec.question, instructions=spec.instructions,
@@ -69,17 +63,14 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
 
 def save_checked(tx, book: PlanBook, session: str, panelist: str, code: str,
                  attribute: str, value: Any, *, comment: str, entered_by: str,
-                 entered_at: dt.datetime | None, mode: EntryMode) -> Response:
-    """Check one answer against the plan and store it (recorded once; a changed answer
-    replaces the old one, audited)."""
-    try:
-        ans = check_answer(book, str(session), str(panelist), str(code or ""),
-                           str(attribute or ""), "" if value is None else str(value))
-    except BadAnswer as bad:
-        raise TrialsError(f"{bad.column}: {bad.text}") from None
-    return answer_rows.save_answer(
-        tx, book.trial.id, ans, session=str(session).strip(), panelist=str(panelist).strip(),
-        comment=comment, entered_by=entered_by, entered_at=entered_at, mode=mode)
+                 entered_at: dt.datetime | None, mode: EntryMode,
+                 checker: AnswerChecker | None = None) -> Response:
+    """Check one answer against the plan (an :class:`~trials.errors.AnswerError`, a
+    TrialsError, names what was expected) and store it: recorded once; a changed
+    answer replaces the old one, audited."""
+    ans = (checker or checker_of(book)).check(session, panelist, code, attribute, value)
+    return answer_rows.save_answer(tx, book, ans, comment=comment, entered_by=entered_by,
+                                   entered_at=entered_at, mode=mode)
 
 
 def record_answer(
@@ -104,7 +95,7 @@ def record_answer(
         book = answer_rows.plan_book(tx, trial_id, panelist_code=panelist)
         sess = session
         if sess is None:
-            mine = [k[0] for k in book.plan if k[1] == panelist]
+            mine = list(dict.fromkeys(e.session for e in book.entries))
             if len(mine) != 1:
                 raise TrialsError(f"say which session; panelist {panelist!r} is served in "
                                   f"{', '.join(map(repr, mine)) or 'none'}")
@@ -155,21 +146,22 @@ ANSWER_COLUMNS = ["session", "panelist", "code", "attribute", "value", "score", 
 
 def answers_table(book: PlanBook, answers: list[Response]) -> pd.DataFrame:
     """Answers joined with the key, tidy (see :func:`responses_frame`)."""
+    key = PlanKey.of(book.entries)
     out = []
     for r in answers:
-        cups = book.plan.get((r.session, r.panelist_code), {})
+        cups = key.served(r.session, r.panelist_code)
         picked = [cups[c] for c in r.code.split() if c in cups]
         k = picked[0].set_index if picked else min((c.set_index for c in cups.values()),
                                                     default=0)
         in_set = sorted((c for c in cups.values() if c.set_index == k), key=lambda c: c.position)
         try:
-            score = float(r.value) if r.attribute != "choice" else np.nan
+            score = float(r.value) if r.attribute != CHOICE else np.nan
         except ValueError:
             score = np.nan
         out.append({
             "session": r.session, "panelist": r.panelist_code, "code": r.code,
             "attribute": r.attribute, "value": r.value, "score": score,
-            "sample": " + ".join(c.sample for c in picked),
+            "sample": " + ".join(c.sample_name for c in picked),
             "set_index": k, "position": picked[0].position if len(picked) == 1 else None,
             "role": "".join(c.role for c in picked),
             "pattern": "".join(c.role for c in in_set),
@@ -198,28 +190,14 @@ def responses_frame(store: Store, study_id: int) -> pd.DataFrame:
 
 
 def answer_progress(store: Store, study_id: int) -> pd.DataFrame:
-    """Answers on file against answers expected, per panelist and session.
-
-    Columns ``session panelist expected answered``.
-    """
+    """Answers on file against answers expected, per panelist and session
+    (:func:`trials.answers.answer_progress`). Columns ``session panelist expected
+    answered``."""
     with store.read() as tx:
         book = answer_rows.plan_book(tx, study_id)
         got = answer_rows.responses(tx, study_id)
-    spec = get_method(book.trial.method)
-    expected: dict[tuple[str, str], int] = {}
-    for key, cups in book.plan.items():
-        if spec.is_forced_choice:
-            expected[key] = len({c.set_index for c in cups.values()})
-        elif spec.family == Family.RATING:
-            expected[key] = len(cups) * len(book.trial.attributes)
-        else:
-            expected[key] = len(cups)
-    answered: dict[tuple[str, str], int] = defaultdict(int)
-    for r in got:
-        answered[(r.session, r.panelist_code)] += 1
-    rows = [{"session": k[0], "panelist": k[1], "expected": v, "answered": answered.get(k, 0)}
-            for k, v in sorted(expected.items())]
-    return pd.DataFrame(rows, columns=["session", "panelist", "expected", "answered"])
+    return progress(get_method(book.trial.method), book.entries, got,
+                    attributes=len(book.trial.attributes))
 
 
 def audit_log(store: Store, study_id: int) -> list[AuditEntry]:

@@ -5,13 +5,14 @@ checked import in bulk, reading the answers back, and the audit log."""
 from __future__ import annotations
 
 import datetime as dt
-from collections import defaultdict
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from typing import Any
 
 import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
-from trials.model import AuditEntry, EntryMode, PlanBook, Response, ServedCup, StoredAnswer
+from trials.answers import CheckedAnswer
+from trials.model import AuditEntry, EntryMode, PlanBook, PlanEntry, Response
 from trials.store import limits, rows
 from trials.store.schema import (
     AuditRow,
@@ -28,55 +29,54 @@ def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
     """The plan of a trial (or of one panelist) for checking answers."""
     trial = rows.trial_row(s, trial_id)
     q = (
-        sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.code,
-                  PlanEntryRow.position, PlanEntryRow.set_index, SampleRow.name,
-                  PlanEntryRow.role)
+        sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.position,
+                  PlanEntryRow.code, SampleRow.name, PlanEntryRow.set_index, PlanEntryRow.role)
         .select_from(PlanEntryRow)
         .join(SessionRow, PlanEntryRow.session_id == SessionRow.id)
         .join(PanelistRow, PlanEntryRow.panelist_id == PanelistRow.id)
         .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
         .where(SessionRow.study_id == trial.id)
+        .order_by(SessionRow.id, PanelistRow.code, PlanEntryRow.position)
     )
     if panelist_code is not None:  # one panelist's answers need only their own cups
         q = q.where(PanelistRow.code == panelist_code)
-    plan: dict[tuple[str, str], dict[str, ServedCup]] = defaultdict(dict)
-    panelists: dict[str, int] = {}
-    for sess, pcode, pid, code, pos, k, sample, role in s.execute(q).all():
-        plan[(sess, pcode)][code] = ServedCup(code, pos, k, sample, role)
+    entries, panelists = [], {}
+    for sess, pcode, pid, pos, code, sample, k, role in s.execute(q).all():
+        entries.append(PlanEntry(sess, pcode, pos, code, sample, k, role))
         panelists[pcode] = pid
-    book = PlanBook(
-        rows.trial_record(trial), {x.name: x.id for x in trial.sessions},
-        {x.name: i for i, x in enumerate(trial.sessions)}, panelists, dict(plan),
-    )
+    book = PlanBook(rows.trial_record(trial), tuple(entries),
+                    {x.name: x.id for x in trial.sessions}, panelists)
     if with_existing:
-        for sid, pid, question, code, value in s.execute(
-            sa.select(ResponseRow.session_id, ResponseRow.panelist_id, ResponseRow.question,
+        for sess, pcode, question, code, value in s.execute(
+            sa.select(SessionRow.name, PanelistRow.code, ResponseRow.question,
                       ResponseRow.code, ResponseRow.value)
+            .join(SessionRow, ResponseRow.session_id == SessionRow.id)
+            .join(PanelistRow, ResponseRow.panelist_id == PanelistRow.id)
             .where(ResponseRow.study_id == trial.id)
         ):
-            book.existing[(sid, pid, question)] = (code, value)
+            book.existing[(sess, pcode, question)] = (code, value)
     return book
 
 
-def save_answer(s: Session, trial_id: int, ans: StoredAnswer, *, session: str,
-                panelist: str, comment: str, entered_by: str,
-                entered_at: dt.datetime | None, mode: EntryMode) -> Response:
+def save_answer(s: Session, book: PlanBook, ans: CheckedAnswer, *, comment: str,
+                entered_by: str, entered_at: dt.datetime | None, mode: EntryMode) -> Response:
     """Insert, or update (audited) a different answer; the same answer is kept once."""
+    trial_id = book.trial.id
+    sid, pid = book.session_ids[ans.session], book.panelist_ids[ans.panelist]
     row = s.scalar(sa.select(ResponseRow).where(
-        ResponseRow.session_id == ans.session_id, ResponseRow.panelist_id == ans.panelist_id,
+        ResponseRow.session_id == sid, ResponseRow.panelist_id == pid,
         ResponseRow.question == ans.question))
     if row is None:
         row = ResponseRow(
-            study_id=trial_id, session_id=ans.session_id, panelist_id=ans.panelist_id,
-            question=ans.question, code=ans.code, attribute=ans.attribute, value=ans.value,
-            comment=comment or "", entered_by=entered_by, entered_at=entered_at or rows.now(),
-            mode=mode.value,
+            study_id=trial_id, session_id=sid, panelist_id=pid, question=ans.question,
+            code=ans.code, attribute=ans.attribute, value=ans.value, comment=comment or "",
+            entered_by=entered_by, entered_at=entered_at or rows.now(), mode=mode.value,
         )
         s.add(row)
         s.flush()
         rows.audit(s, trial_id, entered_by, "response", row.id, "created", None,
                    f"{ans.question} = {ans.code} {ans.value}".strip())
-        return rows.response_record(row, session, panelist)
+        return rows.response_record(row, ans.session, ans.panelist)
     for key, new in (("code", ans.code), ("value", ans.value), ("comment", comment or "")):
         old = getattr(row, key)
         if key == "comment" and not new:
@@ -84,18 +84,26 @@ def save_answer(s: Session, trial_id: int, ans: StoredAnswer, *, session: str,
         if old != new:
             rows.audit(s, trial_id, entered_by, "response", row.id, key, old, new)
             setattr(row, key, new)
-    return rows.response_record(row, session, panelist)
+    return rows.response_record(row, ans.session, ans.panelist)
 
 
-def insert_answers(s: Session, trial_id: int, values: Sequence[dict], *, by: str,
+def insert_answers(s: Session, book: PlanBook,
+                   answers: Sequence[tuple[CheckedAnswer, Mapping[str, Any]]], *, by: str,
                    note: str | None) -> int:
-    """Insert checked new answers (the columns of ``response``) in chunks of 5,000 and
-    audit the import once (not when ``note`` is None)."""
+    """Insert checked new answers, each with its ``comment entered_by entered_at mode``,
+    in chunks of 5,000, and audit the import once (not when ``note`` is None)."""
+    values = [{
+        "study_id": book.trial.id, "session_id": book.session_ids[a.session],
+        "panelist_id": book.panelist_ids[a.panelist], "question": a.question, "code": a.code,
+        "attribute": a.attribute, "value": a.value, "comment": extra.get("comment", ""),
+        "entered_by": extra.get("entered_by", by), "entered_at": extra.get("entered_at"),
+        "mode": str(extra.get("mode", EntryMode.IMPORT.value)),
+    } for a, extra in answers]
     limits.check_values("response", values)
     for start in range(0, len(values), 5000):
-        s.execute(sa.insert(ResponseRow), list(values[start:start + 5000]))
+        s.execute(sa.insert(ResponseRow), values[start:start + 5000])
     if note is not None:
-        rows.audit(s, trial_id, by, "response", None, "import", None, note)
+        rows.audit(s, book.trial.id, by, "response", None, "import", None, note)
     return len(values)
 
 
