@@ -276,7 +276,7 @@ def _penalty_line(at: AttributeAnalysis) -> str:
 
 def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
     spec = get_method(a.method)
-    ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1949) HSD"
+    ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1953) HSD"
     details, numbers = [], {}
     differ, flat = [], []
     for at in a.attributes:

@@ -221,7 +221,8 @@ def critical_value(n: int, *, method: str, alpha: float = 0.05) -> CriticalResul
 
     References
     ----------
-    Roessler, E. B. et al. (1978). J. Food Sci. 43:940-943.
+    Roessler, E. B., Pangborn, R. M., Sidel, J. L. and Stone, H. (1978). J. Food Sci.
+    43:940-943.
     """
     spec = _forced_choice(method)
     n = _count(n, "n", low=1)
@@ -295,7 +296,8 @@ def critical_table(ns: Iterable[int] = range(5, 201),
 
     References
     ----------
-    ISO 4120:2021, annex A; Roessler, E. B. et al. (1978). J. Food Sci. 43:940-943.
+    ISO 4120:2021, annex A; Roessler, E. B., Pangborn, R. M., Sidel, J. L. and Stone, H.
+    (1978). J. Food Sci. 43:940-943.
     """
     ns, alphas = list(ns), tuple(alphas)
     arr = critical_array(ns, alphas, method=method)
@@ -368,7 +370,7 @@ def difference_test(correct: int, n: int, *, method: str, alpha: float = 0.05,
     Notes
     -----
     Guessing model of ISO 4120 / ASTM E1885 (pd floored at 0 as those standards do).
-    Intervals: Clopper-Pearson (1934) exact interval of pc, mapped through the monotone
+    Intervals: the exact interval of pc of Clopper and Pearson (1934), mapped through the monotone
     transforms to pd and d' (floored at 0 below chance; d' capped at
     ``thurstonian.DPRIME_MAX``). d' standard error by the delta method with the B-value
     of Bi, Ennis and O'Mahony (1997). Paired preference: pd and d' are computed on the
@@ -379,8 +381,8 @@ def difference_test(correct: int, n: int, *, method: str, alpha: float = 0.05,
 
     References
     ----------
-    ISO 4120:2021; ASTM E1885-04; Clopper and Pearson (1934) Biometrika 26:404-413;
-    Bi, J., Ennis, D. M. and O'Mahony, M. (1997) J. Sensory Stud. 12:87-104.
+    ISO 4120:2021; ASTM E1885-04; Clopper, C. J. and Pearson, E. S. (1934). Biometrika
+    26:404-413; Bi, J., Ennis, D. M. and O'Mahony, M. (1997). J. Sensory Stud. 12:87-104.
     """
     spec = _forced_choice(method)
     correct, n = _counts(correct, n)
@@ -545,7 +547,8 @@ def similarity_test(correct: int, n: int, *, method: str, pd: float,
 
     References
     ----------
-    ISO 4120:2021; ASTM E1885-04; Clopper and Pearson (1934) Biometrika 26:404-413.
+    ISO 4120:2021; ASTM E1885-04; Clopper, C. J. and Pearson, E. S. (1934). Biometrika
+    26:404-413.
     """
     spec = _forced_choice(method)
     correct, n = _counts(correct, n)
@@ -704,7 +707,7 @@ def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.2
 
     References
     ----------
-    ISO 4120:2021 annex A; ASTM E1885-04; Ennis, D. M. (1993) J. Sensory Stud. 8:353-370.
+    ISO 4120:2021 annex A; ASTM E1885-04; Ennis, D. M. (1993). J. Sensory Stud. 8:353-370.
     """
     spec = _forced_choice(method)
     pd = _prob(pd, "pd")

@@ -110,7 +110,7 @@ class RankTestResult(Record):
 
     ``statistic`` is the chi-square form with the tie correction on ``df`` degrees of
     freedom, ``p_value`` its upper tail. ``f_statistic``/``f_p_value`` give the F form
-    (Conover). ``rank_sums``: sample -> sum of ranks (ascending: rank 1 = lowest value);
+    (Conover 1999). ``rank_sums``: sample -> sum of ranks (ascending: rank 1 = lowest value);
     ``lsd`` the least significant difference of two rank sums at alpha in the normal
     (z) form of ISO 8587, ``lsd_t`` Conover's t form; for incomplete blocks both are
     averages over pairs and ``pairs`` gives each. ``groups``: samples sharing a letter
@@ -193,7 +193,7 @@ def _rank_core(tab: RankTable, alpha: float) -> RankTestResult:
         f_stat, f_p = math.inf, 0.0
     zc = float(stats.norm.ppf(1 - alpha / 2))
     tc = float(stats.t.ppf(1 - alpha / 2, df2))
-    # t form (Conover): var of a rank-sum difference estimated from the residual
+    # t form (Conover 1999): var of a rank-sum difference estimated from the residual
     if complete:
         s2_t = 2.0 * (b * a - ssr) / ((b - 1) * (k - 1))
     else:

@@ -11,7 +11,7 @@ function ``pc(d')``: the probability of a correct answer when the two samples di
 - triangle: ``pc = 2 integral_0^inf [Phi(-z sqrt 3 + d' sqrt(2/3)) +
   Phi(-z sqrt 3 - d' sqrt(2/3))] phi(z) dz`` (Frijters 1979; Ennis 1993).
 - unspecified tetrad: ``pc = 1 - 2 integral phi(z) [2 Phi(z) Phi(z - d') -
-  Phi(z - d')^2] dz`` (Ennis, Ennis, Yip and O'Mahony 1998; Ennis and Jesionka 2011).
+  Phi(z - d')^2] dz`` (Ennis et al. 1998; Ennis and Jesionka 2011).
 - paired preference uses the 2-AFC model (a Thurstonian model of preference with the
   share of the more-chosen sample as ``pc``); this is a modelling choice, stated in every
   result that uses it.
@@ -36,6 +36,8 @@ Ennis, D. M. (1993). The power of sensory discrimination methods. J. Sensory Stu
 8:353-370. doi:10.1111/j.1745-459X.1993.tb00225.x
 Ennis, D. M. and Jesionka, V. (2011). The power of sensory discrimination methods
 revisited. J. Sensory Stud. 26:371-382. doi:10.1111/j.1745-459X.2011.00353.x
+Ennis, J. M., Ennis, D. M., Yip, D. and O'Mahony, M. (1998). Thurstonian models for
+variants of the method of tetrads. Br. J. Math. Stat. Psychol. 51:205-215.
 Bi, J. (2006). Sensory Discrimination Tests and Measurements. Blackwell (B-values,
 chapter 2).
 Bi, J., Ennis, D. M. and O'Mahony, M. (1997). How to estimate and use the variance of d'
