@@ -12,7 +12,13 @@ import pytest
 from scipy import stats
 
 from trials.errors import IncompleteBlocksError, TrialsError
-from trials.stats.ranks import durbin_test, friedman_test, page_test, rank_table, rank_test
+from trials.stats.ranks import (
+    durbin_test,
+    friedman_test,
+    page_test,
+    rank_table,
+    rank_test,
+)
 
 DATA = Path(__file__).parent / "data"
 
