@@ -44,12 +44,13 @@ import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from numbers import Integral, Real
+from typing import Protocol, cast
 
 import numpy as np
 from scipy import special, stats
 
 from trials.errors import TrialsError
-from trials.methods import MethodSpec, get_method
+from trials.methods import get_method
 from trials.model import Record
 from trials.stats import thurstonian
 
@@ -60,17 +61,28 @@ _N_LIMIT = 100_000
 # ------------------------------------------------------------------ input checks
 
 
-def _forced_choice(method: str) -> MethodSpec:
+class _ForcedChoice(Protocol):
+    """What this module reads of a forced-choice method's spec: its guess is known."""
+
+    @property
+    def name(self) -> str: ...
+    @property
+    def guess(self) -> float: ...
+    @property
+    def sides(self) -> int: ...
+
+
+def _forced_choice(method: str) -> _ForcedChoice:
     spec = get_method(method)
     if not spec.is_forced_choice or spec.guess is None:
         raise TrialsError(f"method {method!r} is not a forced-choice test")
-    return spec
+    return cast(_ForcedChoice, spec)  # guess checked above: a float, not None
 
 
 def _count(value, name: str, *, low: int = 0) -> int:
     if isinstance(value, bool) or not isinstance(value, Integral):
         if isinstance(value, Real) and float(value).is_integer():
-            value = int(value)
+            value = int(float(value))
         else:
             raise TrialsError(f"{name} must be a whole number, got {value!r}")
     if value < low:
@@ -79,7 +91,7 @@ def _count(value, name: str, *, low: int = 0) -> int:
 
 
 def _prob(value, name: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, Real) or not (0.0 < value < 1.0):
+    if isinstance(value, bool) or not isinstance(value, Real) or not (0.0 < float(value) < 1.0):
         raise TrialsError(f"{name} must be a number strictly between 0 and 1, got {value!r}")
     return float(value)
 
@@ -92,7 +104,7 @@ def _counts(correct, n) -> tuple[int, int]:
     return correct, n
 
 
-def _preference_count(correct: int, n: int, spec: MethodSpec) -> None:
+def _preference_count(correct: int, n: int, spec: _ForcedChoice) -> None:
     if spec.sides == 2 and correct < n - correct:
         raise TrialsError(
             f"for {spec.name} give the count of the more-chosen sample: got {correct!r} "

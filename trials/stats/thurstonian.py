@@ -249,6 +249,14 @@ def pc_slope(d, *, method: str):
     return float(slope[0]) if scalar else slope.reshape(shape)
 
 
+def _guess(method: str) -> float:
+    """The method's guessing probability; a method without one has no Thurstonian model."""
+    guess = get_method(method).guess
+    if guess is None:
+        raise TrialsError(f"method {method!r} has no Thurstonian model (forced choice only)")
+    return float(guess)
+
+
 @cache
 def _grid(model: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """Knots for the inverse: ``s = sqrt(pc - guess)``, d' and dd'/ds (cubic Hermite).
@@ -258,7 +266,7 @@ def _grid(model: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """
     d = np.concatenate([np.linspace(0.0, 3.0, 3001), np.linspace(3.0, DPRIME_MAX, 4801)[1:]])
     pc, slope = _MODELS[model](d)
-    guess = float(get_method(model).guess)  # exact chance level (quadrature: within 1e-15)
+    guess = _guess(model)  # exact chance level (quadrature: within 1e-15)
     pc[0] = guess
     keep = np.concatenate([[True], np.diff(pc) > 0])  # drop the flat, rounded-off tail
     keep &= np.maximum.accumulate(pc) == pc
@@ -466,7 +474,7 @@ def dprime_conversion(*, method: str, pc: float | None = None,
     if (pc is None) == (dprime is None):
         raise TrialsError(f"give exactly one of pc or dprime (got pc={pc!r}, dprime={dprime!r})")
     model = model_name(method)
-    guess = float(get_method(method).guess)
+    guess = _guess(method)
     notes = [_MODEL_NOTES[method]] if method in _MODEL_NOTES else []
     if pc is not None:
         if not (0.0 <= pc <= 1.0):
@@ -476,6 +484,7 @@ def dprime_conversion(*, method: str, pc: float | None = None,
             notes.append(f"pc {pc!r} is at or below chance ({guess:.4g}): d' set to 0")
         out_pc = float(pc)
     else:
+        assert dprime is not None  # exactly one of pc and dprime was given (checked above)
         if not np.isfinite(dprime) or dprime < 0:
             raise TrialsError(f"d' must be a finite number >= 0, got {dprime!r}")
         d = min(float(dprime), DPRIME_MAX)
