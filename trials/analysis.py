@@ -16,7 +16,8 @@ responses and its batches, all as plain records, and returns a frozen
   analysis of each just-about-right attribute against the hedonic attribute where the
   trial has one, and the relation of each sample's mean to its batches' numeric
   measures and settings (:mod:`trials.stats.measures`);
-- ranking: :func:`trials.stats.ranks.friedman_test`.
+- ranking: :func:`trials.stats.ranks.rank_test` (Friedman's test for complete blocks,
+  Durbin's for incomplete ones).
 
 A trial without answers gives an analysis that says "no answers yet" instead of
 failing; an analysis the data cannot support yet (one panelist, one sample) carries a
@@ -120,7 +121,7 @@ class AttributeAnalysis(Record):
 
 @dataclass(frozen=True, slots=True)
 class RankingAnalysis(Record):
-    """The Friedman test of the ranks (``ranks``: how many were decoded)."""
+    """The rank test of the ranks, Friedman's or Durbin's (``ranks``: how many were decoded)."""
 
     panelists: int
     ranks: int
@@ -584,14 +585,14 @@ def _ranking(study: Study, plan, responses) -> tuple[RankingAnalysis, list[str]]
     n_pan = int(frame["panelist"].nunique())
     if frame["sample"].nunique() < 2 or n_pan < 2:
         return RankingAnalysis(n_pan, len(frame), rank_means, None,
-                               "too few panelists or samples for the Friedman test"), problems
-    from trials.stats.ranks import friedman_test
+                               "too few panelists or samples for a rank test"), problems
+    from trials.stats.ranks import rank_test
 
     try:
-        res = friedman_test(frame, rank="rank", sample="sample", panelist="panelist",
-                            alpha=study.alpha)
+        res = rank_test(frame, rank="rank", sample="sample", panelist="panelist",
+                        alpha=study.alpha)
     except TrialsError as exc:
-        return RankingAnalysis(n_pan, len(frame), rank_means, None, f"Friedman test not run: {exc}"), problems
+        return RankingAnalysis(n_pan, len(frame), rank_means, None, f"rank test not run: {exc}"), problems
     return RankingAnalysis(n_pan, len(frame), rank_means, res), problems
 
 

@@ -137,10 +137,10 @@ def _analyze_ratings(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def _analyze_ranks(args: argparse.Namespace) -> dict[str, Any]:
-    from trials.stats.ranks import friedman_test
+    from trials.stats.ranks import rank_test
 
     data = _read_csv(args.file)
-    return friedman_test(
+    return rank_test(
         data, rank=args.rank, sample=args.sample, panelist=args.panelist, alpha=args.alpha
     ).to_dict()
 
@@ -386,7 +386,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--replicate", default=None)
     p.add_argument("--alpha", type=_fraction, default=0.05)
-    p = _leaf(asub, "ranks", _analyze_ranks, "Friedman rank test with rank-sum comparisons")
+    p = _leaf(asub, "ranks", _analyze_ranks, (
+        "rank test with rank-sum comparisons: Friedman (1937) for complete blocks, "
+        "Durbin (1951) when each panelist ranked only some samples"
+    ))
     p.add_argument("file")
     p.add_argument("--rank", default="rank")
     p.add_argument("--sample", default="sample")

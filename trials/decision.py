@@ -275,7 +275,7 @@ def _penalty_line(at: AttributeAnalysis) -> str:
 
 def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
     spec = get_method(a.method)
-    ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1949) HSD"
+    ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1953) HSD"
     details, numbers = [], {}
     differ, flat = [], []
     for at in a.attributes:
@@ -330,24 +330,25 @@ def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
 def _ranking(a: StudyAnalysis) -> Decision:
     spec = get_method(a.method)
     rk = a.ranking
-    ref = spec.reference + "; Friedman (1937) rank test"
     if rk is None or rk.result is None:
         note = rk.note if rk is not None else NO_ANSWERS
         if note == NO_ANSWERS:
             return _no_answers(a)
+        ref = spec.reference + "; Friedman (1937) or Durbin (1951) rank test"
         return Decision(Verdict.INCOMPLETE, f"No decision: {note}.", (), (), a.method, ref)
     r = rk.result
+    ref = f"{spec.reference}; {r.reference()} rank test"
     sums = sorted(r.rank_sums.items(), key=lambda kv: kv[1])
     listed = ", ".join(f"{s} {fmt(v, 1)} {r.groups.get(s, '')}".rstrip() for s, v in sums)
-    test = (f"Friedman chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}, "
+    test = (f"{r.name()} chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}, "
             f"{r.panelists} panelists")
     differs = r.p_value <= a.alpha
     if differs:
         verdict = Verdict.DIFFERENCE
-        head = f"The rankings differ between samples ({test}; {spec.reference})."
+        head = f"The rankings differ between samples ({test}; {r.reference()}; {spec.reference})."
     else:
         verdict = Verdict.NO_DIFFERENCE
-        head = f"No difference in rank was shown ({test}; {spec.reference})."
+        head = f"No difference in rank was shown ({test}; {r.reference()}; {spec.reference})."
     details = (f"Rank sums, rank 1 = most (samples sharing a letter do not differ by the least "
                f"significant difference {fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, "
                f"{r.lsd_method}): {listed}.",)
@@ -394,7 +395,9 @@ def decide(analysis: StudyAnalysis, *, study: Study | None = None) -> Decision:
     says that no similarity test was planned and, when the trial states a pd, the
     power the panel had to detect it. Ratings: per attribute, the ANOVA's F test of
     samples against the error term named by the analysis, the Tukey HSD and the
-    letters. Ranking: Friedman's test and the rank-sum least significant difference.
+    letters. Ranking: Friedman's test (complete blocks) or Durbin's (each panelist
+    ranked only some samples), named with its source, and the rank-sum least significant
+    difference.
     """
     if not analysis.has_answers:
         return _no_answers(analysis)

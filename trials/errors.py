@@ -16,6 +16,10 @@ class UnknownMethodError(TrialsError):
     """A method name that the registry does not hold."""
 
 
+class IncompleteBlocksError(TrialsError):
+    """A test for complete blocks given panelists who each ranked only some samples."""
+
+
 class NotFoundError(TrialsError):
     """A trial, sample, panelist or code that is not in the store."""
 

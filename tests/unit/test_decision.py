@@ -6,7 +6,9 @@ binomial tails, with scipy (independent computation)."""
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
+import pandas as pd
 import pytest
 from scipy import stats as sps
 
@@ -23,7 +25,7 @@ from tests.unit.test_analysis import (
 )
 from trials.analysis import analyse
 from trials.decision import Verdict, decide, decision_text, fmt, fmt_p
-from trials.model import PlanEntry, Response, Study
+from trials.model import PlanEntry, Response, Sample, Study
 from trials.stats.discrimination import difference_test, power, similarity_test
 
 
@@ -151,6 +153,32 @@ def test_ranking_decision_quotes_friedman_and_rank_sums():
     assert d.numbers["statistic"] == pytest.approx(ref.statistic)
     assert f"Friedman chi-square = {fmt(r.statistic)} on 2 df" in d.headline
     assert "ISO 8587" in d.headline and "rank 1 = most" in d.details[0]
+    assert "Friedman (1937)" in d.headline and "Friedman (1937)" in d.reference
+    assert "Durbin" not in d.headline + d.reference
+
+
+def ice_cream_ranking_trial():
+    """Conover (1999) sec. 5.8 ice cream trial (from memory) as a ranking trial: 7 judges
+    each rank 3 of 7 samples, a balanced incomplete block design."""
+    bib = pd.read_csv(Path(__file__).parent / "data" / "durbin_ice_cream.csv")
+    s = Study(name="Ice cream", method="ranking", samples=tuple(Sample(x) for x in "ABCDEFG"))
+    plan, responses = [], []
+    for code, row in enumerate(bib.itertuples(), start=100):
+        position = int((bib.panelist.iloc[: code - 99] == row.panelist).sum())
+        plan.append(PlanEntry("S1", row.panelist, position, str(code), row.sample, 0))
+        responses.append(Response("S1", row.panelist, str(code), "rank", str(row.rank)))
+    return s, plan, responses
+
+
+def test_an_incomplete_block_ranking_decision_names_durbin_and_cites_durbin_1951():
+    s, plan, responses = ice_cream_ranking_trial()
+    a = analyse(s, plan, responses)
+    d = decide(a)
+    assert a.ranking.result.test == "durbin"
+    assert d.numbers["statistic"] == pytest.approx(12.0)  # Conover (1999), from memory
+    assert f"Durbin chi-square = {fmt(12.0)} on 6 df" in d.headline
+    assert "Durbin (1951)" in d.headline and "Durbin (1951)" in d.reference
+    assert "Friedman" not in d.headline + d.reference
 
 
 def test_the_decision_quotes_only_the_measured_variables_that_follow_the_means():

@@ -1,7 +1,7 @@
 """Williams designs: Latin in every square and balanced for first-order carry-over.
 
 Published squares: Williams (1949), Aust. J. Sci. Res. A 2:149-168, and the tables of
-MacFie, Bratchell, Greenhoff and Vallis (1989), J. Sensory Stud. 4:129-148. The rows
+MacFie et al. (1989), J. Sensory Stud. 4:129-148. The rows
 below are quoted from memory (the standard construction as those papers present it)
 and every test also checks the balance properties directly.
 """

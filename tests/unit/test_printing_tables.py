@@ -13,6 +13,7 @@ from trials.printing import critical_table_pdf
 from trials.stats.discrimination import critical_table
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("method", FORCED_CHOICE)
 def test_every_row_of_the_printed_table_equals_the_computed_one(method):
     table = critical_table(method=method)  # n = 5..200, alpha .20 .10 .05 .01 .001

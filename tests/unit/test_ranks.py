@@ -1,5 +1,5 @@
 """Friedman, Durbin and Page tests against scipy, Conover's worked example (from memory)
-and exact enumeration of the null distributions."""
+and exact enumeration of the null distributions; rank_test picks between the first two."""
 
 from __future__ import annotations
 
@@ -11,8 +11,14 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from trials.errors import TrialsError
-from trials.stats.ranks import durbin_test, friedman_test, page_test, rank_table
+from trials.errors import IncompleteBlocksError, TrialsError
+from trials.stats.ranks import (
+    durbin_test,
+    friedman_test,
+    page_test,
+    rank_table,
+    rank_test,
+)
 
 DATA = Path(__file__).parent / "data"
 
@@ -169,6 +175,39 @@ def test_durbin_refuses_unequal_block_sizes():
     data = pd.read_csv(DATA / "durbin_ice_cream.csv").iloc[1:]
     with pytest.raises(TrialsError, match="different numbers of samples"):
         durbin_test(data)
+
+
+# ---------------------------------------------------------------- which test runs
+
+
+def test_friedman_on_incomplete_blocks_is_refused_and_points_to_durbin():
+    data = pd.read_csv(DATA / "durbin_ice_cream.csv")
+    with pytest.raises(IncompleteBlocksError, match=r"judge1.*durbin_test"):
+        friedman_test(data)
+
+
+def test_friedman_refuses_a_single_missing_rank_too():
+    d = _long(_random_ranks(5, 4, seed=7)).drop(index=[6])  # p01 did not rank S2
+    with pytest.raises(IncompleteBlocksError, match=r"\['p01'\]"):
+        friedman_test(d)
+
+
+def test_rank_test_runs_durbin_on_incomplete_blocks_and_names_it():
+    data = pd.read_csv(DATA / "durbin_ice_cream.csv")
+    res = rank_test(data)
+    assert res.test == "durbin" and res.name() == "Durbin"
+    assert res.reference() == "Durbin (1951)" and res.method.startswith("Durbin (1951)")
+    assert res.statistic == pytest.approx(12.0, rel=1e-12)  # Conover (1999) sec. 5.8, from memory
+    assert res.to_dict() == durbin_test(data).to_dict()
+
+
+def test_rank_test_runs_friedman_on_complete_blocks_and_names_it():
+    r = _random_ranks(8, 4, seed=8)
+    res = rank_test(_long(r))
+    assert res.test == "friedman" and res.name() == "Friedman"
+    assert res.reference() == "Friedman (1937)" and res.method.startswith("Friedman (1937)")
+    assert res.statistic == pytest.approx(stats.friedmanchisquare(*r.T).statistic, rel=1e-10)
+    assert res.to_dict() == friedman_test(_long(r)).to_dict()
 
 
 # ---------------------------------------------------------------- Page

@@ -137,8 +137,14 @@ def test_letters_are_shared_exactly_by_the_pairs_not_declared_different(case):
 # ---------------------------------------------------------------- the quadrature
 
 
-@pytest.mark.parametrize("k", [2, 3, 5, 10, 20])
-@pytest.mark.parametrize("df", [1, 2, 5, 15, 60, 1000, 99_999, 1e6])
+# Every k and every df of the former full 5 x 8 grid appears at least once: both ends
+# of k at df = 1 (the heaviest tail), the largest df before scipy's infinite-df form,
+# and every k in that form (df = 1e6), where the tolerance changes.
+@pytest.mark.slow
+@pytest.mark.parametrize(("k", "df"), [
+    (2, 1), (20, 1), (3, 2), (5, 5), (10, 15), (20, 60), (3, 1000), (10, 99_999),
+    (2, 1e6), (3, 1e6), (5, 1e6), (10, 1e6), (20, 1e6),
+])
 def test_studentized_range_quadrature_agrees_with_scipy(k, df):
     from trials.stats.posthoc import studentized_range_cdf
 

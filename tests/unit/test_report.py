@@ -245,3 +245,16 @@ def test_a_ranking_report_shows_the_rank_sums():
     assert "Rank sums" in doc and "Friedman chi-square" in text
     for sample, total in a.ranking.result.rank_sums.items():
         assert f"{sample} {fmt(total, 1)}" in text
+
+
+def test_an_incomplete_block_ranking_report_names_durbin_in_html_and_pdf():
+    from tests.unit.test_decision import ice_cream_ranking_trial
+
+    s, plan, responses = ice_cream_ranking_trial()
+    a = analyse(s, plan, responses)
+    text = " ".join(parse(report_html(s, a, plan=plan, responses=responses)).text)
+    assert "Durbin (1951)" in text and "Durbin chi-square" in text
+    assert "Friedman" not in text
+    pdf = " ".join(pg.extract_text() for pg in
+                   PdfReader(io.BytesIO(report_pdf(s, a, plan=plan, responses=responses))).pages)
+    assert f"Durbin (1951) chi-square {fmt(12.0)} on 6 df" in " ".join(pdf.split())

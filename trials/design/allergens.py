@@ -149,7 +149,7 @@ def screen_plan(
             batch_label=e.batch_label,
         ))
     # keep the caller's order of panelists and sessions
-    rank = {}
+    rank: dict[tuple[str, str], int] = {}
     for e in entries:
         rank.setdefault((e.session, e.panelist_code), len(rank))
     kept.sort(key=lambda e: (rank[(e.session, e.panelist_code)], e.set_index, e.position))

@@ -716,16 +716,16 @@ def incomplete_blocks(
     _order_blocks(blocks, t, gen)
 
     lam_all = concurrence_matrix(blocks, t)
-    rep = np.diag(lam_all)
+    replication = np.diag(lam_all)
     off = lam_all[~np.eye(t, dtype=bool)]
     pos = position_counts(blocks, t)
     carry = carryover_counts(blocks, t)
-    balanced = bool(rep.min() == rep.max() and off.min() == off.max())
+    balanced = bool(replication.min() == replication.max() and off.min() == off.max())
     eff = efficiency_factor(blocks, t)
     if not balanced:
         warnings.warn(
             f"no balanced incomplete block design of {n} panelists is known here for "
-            f"t={t}, k={k}: replication {rep.min()}..{rep.max()}, pair concurrences "
+            f"t={t}, k={k}: replication {replication.min()}..{replication.max()}, pair concurrences "
             f"{off.min()}..{off.max()}, efficiency {eff:.4f} (a BIBD would reach "
             f"{t * (k - 1) / (k * (t - 1)):.4f})",
             UnbalancedPlanWarning,
@@ -738,8 +738,8 @@ def incomplete_blocks(
         blocks=blocks,
         construction=construction,
         balanced=balanced,
-        replication_min=int(rep.min()),
-        replication_max=int(rep.max()),
+        replication_min=int(replication.min()),
+        replication_max=int(replication.max()),
         lambda_min=int(off.min()),
         lambda_max=int(off.max()),
         efficiency=round(eff, 12),

@@ -137,7 +137,7 @@ def blinding_codes(
             "use fewer codes per session or codes unique within each set"
         )
     gen = as_generator(rng)
-    picks = gen.choice(len(free), size=count, replace=False) if count else []
+    picks: list[int] = gen.choice(len(free), size=count, replace=False).tolist() if count else []
     return CodesResult(
         codes=[free[int(i)] for i in picks],
         count=count,

@@ -200,8 +200,9 @@ def williams_design(
 
     References
     ----------
-    Williams (1949), Aust. J. Sci. Res. A 2:149-168. MacFie, Bratchell, Greenhoff and
-    Vallis (1989), J. Sensory Stud. 4:129-148.
+    Williams, E. J. (1949). Aust. J. Sci. Res. A 2:149-168.
+    MacFie, H. J. H., Bratchell, N., Greenhoff, K. and Vallis, L. V. (1989). J. Sensory
+    Stud. 4:129-148.
     """
     t = whole(t, "samples", minimum=2)
     session = whole(session, "session", minimum=0)

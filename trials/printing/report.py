@@ -373,7 +373,8 @@ def _ranking_results(a: StudyAnalysis, charts: _Charts) -> str:
     if rk is None or rk.result is None:
         return f"<p>{e(rk.note if rk else 'No result.')}</p>"
     r = rk.result
-    out = [_kv([("test", r.test), ("method", r.method), ("chi-square", _g(r.statistic)),
+    out = [_kv([("test", r.reference()), ("method", r.method),
+                (f"{r.name()} chi-square", _g(r.statistic)),
                 ("df", r.df), ("p-value", _g(r.p_value)), ("panelists", r.panelists),
                 ("least significant difference of rank sums", _g(r.lsd)),
                 ("LSD method", r.lsd_method)])]
@@ -644,8 +645,9 @@ def _pdf_results(analysis: StudyAnalysis, p, body, h2, grid) -> list:
         res = r.result
         rows = [["sample", "rank sum"]] + [[k, fmt(v, 1)] for k, v in res.rank_sums.items()]
         out += [grid(rows, [80, 30]), Paragraph(p(
-            f"Chi-square {fmt(res.statistic)} on {res.df} df, {fmt_p(res.p_value)}; least "
-            f"significant difference of rank sums {fmt(res.lsd)}."), body)]
+            f"{res.reference()} chi-square {fmt(res.statistic)} on {res.df} df, "
+            f"{fmt_p(res.p_value)}; least significant difference of rank sums "
+            f"{fmt(res.lsd)}."), body)]
     return out
 
 

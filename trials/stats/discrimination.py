@@ -44,12 +44,13 @@ import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from numbers import Integral, Real
+from typing import Protocol, cast
 
 import numpy as np
 from scipy import special, stats
 
 from trials.errors import TrialsError
-from trials.methods import MethodSpec, get_method
+from trials.methods import get_method
 from trials.model import Record
 from trials.stats import thurstonian
 
@@ -60,17 +61,28 @@ _N_LIMIT = 100_000
 # ------------------------------------------------------------------ input checks
 
 
-def _forced_choice(method: str) -> MethodSpec:
+class _ForcedChoice(Protocol):
+    """What this module reads of a forced-choice method's spec: its guess is known."""
+
+    @property
+    def name(self) -> str: ...
+    @property
+    def guess(self) -> float: ...
+    @property
+    def sides(self) -> int: ...
+
+
+def _forced_choice(method: str) -> _ForcedChoice:
     spec = get_method(method)
     if not spec.is_forced_choice or spec.guess is None:
         raise TrialsError(f"method {method!r} is not a forced-choice test")
-    return spec
+    return cast(_ForcedChoice, spec)  # guess checked above: a float, not None
 
 
 def _count(value, name: str, *, low: int = 0) -> int:
     if isinstance(value, bool) or not isinstance(value, Integral):
         if isinstance(value, Real) and float(value).is_integer():
-            value = int(value)
+            value = int(float(value))
         else:
             raise TrialsError(f"{name} must be a whole number, got {value!r}")
     if value < low:
@@ -79,7 +91,7 @@ def _count(value, name: str, *, low: int = 0) -> int:
 
 
 def _prob(value, name: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, Real) or not (0.0 < value < 1.0):
+    if isinstance(value, bool) or not isinstance(value, Real) or not (0.0 < float(value) < 1.0):
         raise TrialsError(f"{name} must be a number strictly between 0 and 1, got {value!r}")
     return float(value)
 
@@ -92,7 +104,7 @@ def _counts(correct, n) -> tuple[int, int]:
     return correct, n
 
 
-def _preference_count(correct: int, n: int, spec: MethodSpec) -> None:
+def _preference_count(correct: int, n: int, spec: _ForcedChoice) -> None:
     if spec.sides == 2 and correct < n - correct:
         raise TrialsError(
             f"for {spec.name} give the count of the more-chosen sample: got {correct!r} "
@@ -221,7 +233,8 @@ def critical_value(n: int, *, method: str, alpha: float = 0.05) -> CriticalResul
 
     References
     ----------
-    Roessler, E. B. et al. (1978). J. Food Sci. 43:940-943.
+    Roessler, E. B., Pangborn, R. M., Sidel, J. L. and Stone, H. (1978). J. Food Sci.
+    43:940-943.
     """
     spec = _forced_choice(method)
     n = _count(n, "n", low=1)
@@ -295,7 +308,8 @@ def critical_table(ns: Iterable[int] = range(5, 201),
 
     References
     ----------
-    ISO 4120:2021, annex A; Roessler, E. B. et al. (1978). J. Food Sci. 43:940-943.
+    ISO 4120:2021, annex A; Roessler, E. B., Pangborn, R. M., Sidel, J. L. and Stone, H.
+    (1978). J. Food Sci. 43:940-943.
     """
     ns, alphas = list(ns), tuple(alphas)
     arr = critical_array(ns, alphas, method=method)
@@ -368,7 +382,7 @@ def difference_test(correct: int, n: int, *, method: str, alpha: float = 0.05,
     Notes
     -----
     Guessing model of ISO 4120 / ASTM E1885 (pd floored at 0 as those standards do).
-    Intervals: Clopper-Pearson (1934) exact interval of pc, mapped through the monotone
+    Intervals: the exact interval of pc of Clopper and Pearson (1934), mapped through the monotone
     transforms to pd and d' (floored at 0 below chance; d' capped at
     ``thurstonian.DPRIME_MAX``). d' standard error by the delta method with the B-value
     of Bi, Ennis and O'Mahony (1997). Paired preference: pd and d' are computed on the
@@ -379,8 +393,8 @@ def difference_test(correct: int, n: int, *, method: str, alpha: float = 0.05,
 
     References
     ----------
-    ISO 4120:2021; ASTM E1885-04; Clopper and Pearson (1934) Biometrika 26:404-413;
-    Bi, J., Ennis, D. M. and O'Mahony, M. (1997) J. Sensory Stud. 12:87-104.
+    ISO 4120:2021; ASTM E1885-04; Clopper, C. J. and Pearson, E. S. (1934). Biometrika
+    26:404-413; Bi, J., Ennis, D. M. and O'Mahony, M. (1997). J. Sensory Stud. 12:87-104.
     """
     spec = _forced_choice(method)
     correct, n = _counts(correct, n)
@@ -545,7 +559,8 @@ def similarity_test(correct: int, n: int, *, method: str, pd: float,
 
     References
     ----------
-    ISO 4120:2021; ASTM E1885-04; Clopper and Pearson (1934) Biometrika 26:404-413.
+    ISO 4120:2021; ASTM E1885-04; Clopper, C. J. and Pearson, E. S. (1934). Biometrika
+    26:404-413.
     """
     spec = _forced_choice(method)
     correct, n = _counts(correct, n)
@@ -704,7 +719,7 @@ def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.2
 
     References
     ----------
-    ISO 4120:2021 annex A; ASTM E1885-04; Ennis, D. M. (1993) J. Sensory Stud. 8:353-370.
+    ISO 4120:2021 annex A; ASTM E1885-04; Ennis, D. M. (1993). J. Sensory Stud. 8:353-370.
     """
     spec = _forced_choice(method)
     pd = _prob(pd, "pd")

@@ -140,6 +140,7 @@ def jar_penalty(
     require_columns(data, cols)
     like = numeric_column(data, liking, low=liking_low, high=liking_high)
     p_codes, p_names = label_codes(data, panelist)
+    s_names: Sequence[str | None]  # [None]: one unnamed sample
     if sample:
         s_codes, s_names = label_codes(data, sample)
         check_unique([p_codes, s_codes], [len(p_names), len(s_names)], [panelist, sample])
@@ -168,7 +169,7 @@ def jar_penalty(
                 share = n_g / n_all
                 mean_g = float(vals.mean()) if n_g else None
                 drop = penalty = p = None
-                if g != 1 and n_g and ref_mean is not None:
+                if g != 1 and mean_g is not None and ref_mean is not None:  # n_g > 0
                     drop = ref_mean - mean_g
                     penalty = drop * share
                     if n_g >= 2 and len(ref) >= 2:

@@ -160,7 +160,7 @@ def panel_performance(
     median_mse = float(np.median(mses)) if mses else None
     rated_count = {p_names[j]: int((n[j] > 0).sum()) for j in range(b)}
     result = []
-    for name, nj, f, p, mse, df_e, agreement in out_rows:
+    for name, nj, f, p, mse, df_error, agreement in out_rows:
         flags = []
         if p is not None and p >= alpha:
             flags.append(f"does not discriminate (p = {p:.3g} >= {alpha:g})")
@@ -170,7 +170,7 @@ def panel_performance(
             flags.append(f"disagrees with the panel (r = {agreement:.2f} < {min_agreement:g})")
         elif agreement is None and rated_count[name] >= 3:
             flags.append("agreement not computable (constant means)")
-        result.append(PanelistPerformance(name, nj, f, p, mse, df_e, agreement, tuple(flags)))
+        result.append(PanelistPerformance(name, nj, f, p, mse, df_error, agreement, tuple(flags)))
     rule = (
         f"house rule (no published source): flag p >= {alpha:g} for the panelist's F across "
         f"samples, agreement r < {min_agreement:g} with the other panelists' means, or "

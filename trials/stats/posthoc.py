@@ -84,9 +84,9 @@ def studentized_range_cdf(q: np.ndarray | float, k: int, df: float) -> np.ndarra
         inner = np.clip(_CDF_Z - special.ndtr(_Z - w[..., None]), 0.0, 1.0) ** (k - 1)
         return k * (inner * _PHI_Z).sum(axis=-1)
 
-    q = np.maximum(q, 0.0)
+    q_arr = np.maximum(np.asarray(q, dtype=float), 0.0)
     if df > 1e10:
-        return np.clip(w_of(q), 0.0, 1.0)
+        return np.clip(w_of(q_arr), 0.0, 1.0)
     lo = 0.5 * math.log(stats.chi2.ppf(1e-15, df) / df)
     hi = 0.5 * math.log(stats.chi2.isf(1e-15, df) / df)
     x, wx = _legendre(int(min(400, max(96, math.ceil(10.0 * (hi - lo))))))
@@ -94,8 +94,8 @@ def studentized_range_cdf(q: np.ndarray | float, k: int, df: float) -> np.ndarra
     y = df * np.exp(2.0 * t)
     weight = np.exp(stats.chi2.logpdf(y, df) + np.log(2.0 * y)) * wx
     weight /= weight.sum()  # the density integrates to 1 - 2e-15; remove rounding drift
-    out = np.empty(q.shape)
-    flat, res = q.ravel(), out.ravel()
+    out = np.empty(q_arr.shape)
+    flat, res = q_arr.ravel(), out.ravel()
     for start in range(0, flat.size, 64):  # bounded memory for many pairs
         chunk = flat[start : start + 64]
         res[start : start + 64] = (w_of(chunk[:, None] * np.exp(t)[None, :]) * weight).sum(axis=-1)
@@ -230,7 +230,7 @@ def pairwise_comparisons(
     with np.errstate(divide="ignore", invalid="ignore"):
         q_all = np.where(se_all > 0, np.abs(d_all) / (se_all / math.sqrt(2.0)), 0.0)
     p_all = studentized_range_sf(q_all, k, df)
-    out = []
+    out: list[PairComparison] = []
     for i in range(k):
         for j in range(i + 1, k):
             d = float(means[names[i]] - means[names[j]])

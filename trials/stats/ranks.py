@@ -1,6 +1,10 @@
 """Rank tests for ranking trials: Friedman (complete blocks), Durbin (incomplete
 blocks) and Page (an expected order), with least significant differences of rank sums.
 
+:func:`friedman_test` takes complete blocks only, :func:`durbin_test` incomplete ones
+(a balanced incomplete block design, as a rule); :func:`rank_test` picks between them
+by the blocks and says in ``test`` which one ran.
+
 Each panelist is a block. The value column may hold ranks (1 = first) or scores: the
 values are ranked within each panelist, ascending, ties getting the average rank, so
 given ranks come back unchanged and tied ranks are averaged.
@@ -17,7 +21,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from trials.errors import TrialsError
+from trials.errors import IncompleteBlocksError, TrialsError
 from trials.model import Record
 from trials.stats.posthoc import _check_alpha, compact_letter_display
 from trials.stats.ratings import (
@@ -90,13 +94,23 @@ class RankPair(Record):
     different: bool
 
 
+# test -> (name, the published source in the package's one form)
+_TESTS = {
+    "friedman": ("Friedman", "Friedman (1937)"),
+    "durbin": ("Durbin", "Durbin (1951)"),
+}
+
+
 @dataclass(frozen=True, slots=True)
-class FriedmanResult(Record):
+class RankTestResult(Record):
     """Friedman's (complete blocks) or Durbin's (incomplete blocks) rank test.
+
+    ``test`` is ``"friedman"`` or ``"durbin"``: which of the two ran; :meth:`name` and
+    :meth:`reference` give its name and published source for texts.
 
     ``statistic`` is the chi-square form with the tie correction on ``df`` degrees of
     freedom, ``p_value`` its upper tail. ``f_statistic``/``f_p_value`` give the F form
-    (Conover). ``rank_sums``: sample -> sum of ranks (ascending: rank 1 = lowest value);
+    (Conover 1999). ``rank_sums``: sample -> sum of ranks (ascending: rank 1 = lowest value);
     ``lsd`` the least significant difference of two rank sums at alpha in the normal
     (z) form of ISO 8587, ``lsd_t`` Conover's t form; for incomplete blocks both are
     averages over pairs and ``pairs`` gives each. ``groups``: samples sharing a letter
@@ -123,8 +137,21 @@ class FriedmanResult(Record):
     pairs: tuple[RankPair, ...]
     groups: dict[str, str]
 
+    def name(self) -> str:
+        """The test's name: ``"Friedman"`` or ``"Durbin"``."""
+        return _TESTS[self.test][0]
 
-def _rank_test(tab: RankTable, alpha: float) -> FriedmanResult:
+    def reference(self) -> str:
+        """The published source of the test that ran, e.g. ``"Durbin (1951)"``."""
+        return _TESTS[self.test][1]
+
+
+def _complete(tab: RankTable) -> bool:
+    return bool(np.isfinite(tab.array()).all())
+
+
+def _rank_core(tab: RankTable, alpha: float) -> RankTestResult:
+    """Friedman's statistic on complete blocks, Durbin's on incomplete ones (one formula)."""
     r = tab.array()
     names = list(tab.samples)
     present = np.isfinite(r)
@@ -166,7 +193,7 @@ def _rank_test(tab: RankTable, alpha: float) -> FriedmanResult:
         f_stat, f_p = math.inf, 0.0
     zc = float(stats.norm.ppf(1 - alpha / 2))
     tc = float(stats.t.ppf(1 - alpha / 2, df2))
-    # t form (Conover): var of a rank-sum difference estimated from the residual
+    # t form (Conover 1999): var of a rank-sum difference estimated from the residual
     if complete:
         s2_t = 2.0 * (b * a - ssr) / ((b - 1) * (k - 1))
     else:
@@ -204,7 +231,7 @@ def _rank_test(tab: RankTable, alpha: float) -> FriedmanResult:
             "the panelists ranking both samples (the null variance without ties), averaged "
             "over pairs; lsd_t: Conover's t form on b k - b - t + 1 df"
         )
-    return FriedmanResult(
+    return RankTestResult(
         test=test,
         method=method,
         alpha=alpha,
@@ -236,8 +263,8 @@ def friedman_test(
     alpha: float = 0.05,
     low: float | None = None,
     high: float | None = None,
-) -> FriedmanResult:
-    """Friedman's rank test (Durbin's when each panelist ranked only some samples).
+) -> RankTestResult:
+    """Friedman's rank test for complete blocks: every panelist ranks every sample.
 
     Parameters
     ----------
@@ -253,9 +280,14 @@ def friedman_test(
 
     Returns
     -------
-    FriedmanResult
-        ``test`` is ``"friedman"`` for complete blocks, ``"durbin"`` for incomplete
-        ones (then see :func:`durbin_test`).
+    RankTestResult
+        With ``test == "friedman"``.
+
+    Raises
+    ------
+    IncompleteBlocksError
+        When some panelist did not rank every sample: use :func:`durbin_test` (or
+        :func:`rank_test`, which picks by the blocks).
 
     Notes
     -----
@@ -277,7 +309,8 @@ def friedman_test(
 
     References
     ----------
-    Friedman, M. (1937). J. Am. Stat. Assoc. 32(200):675-701.
+    Friedman, M. (1937). The use of ranks to avoid the assumption of normality implicit
+    in the analysis of variance. J. Am. Stat. Assoc. 32(200):675-701.
     ISO 8587:2006 Sensory analysis - Methodology - Ranking.
     Conover, W. J. (1999). Practical Nonparametric Statistics, 3rd ed. Wiley, sec. 5.8.
     Christensen, Z. T., Ogden, L. V., Dunn, M. L. and Eggett, D. L. (2006). Multiple
@@ -293,7 +326,15 @@ def friedman_test(
     """
     alpha = _check_alpha(alpha)
     tab = rank_table(data, rank=rank, sample=sample, panelist=panelist, low=low, high=high)
-    return _rank_test(tab, alpha)
+    if not _complete(tab):
+        r = np.isfinite(tab.array())
+        short = [tab.panelists[i] for i in np.flatnonzero(~r.all(axis=1))]
+        raise IncompleteBlocksError(
+            f"Friedman's test needs complete blocks, but panelist(s) {short[:10]!r} ranked "
+            f"only some of the {len(tab.samples)} samples; use durbin_test for incomplete "
+            "blocks (or rank_test, which picks by the blocks)"
+        )
+    return _rank_core(tab, alpha)
 
 
 def durbin_test(
@@ -305,7 +346,7 @@ def durbin_test(
     alpha: float = 0.05,
     low: float | None = None,
     high: float | None = None,
-) -> FriedmanResult:
+) -> RankTestResult:
     """Durbin's rank test for incomplete blocks: each panelist ranks ``k`` of ``t`` samples.
 
     Parameters
@@ -314,9 +355,16 @@ def durbin_test(
 
     Returns
     -------
-    FriedmanResult
-        With ``test == "durbin"`` (``"friedman"`` if the blocks turn out complete, where
-        the two tests coincide).
+    RankTestResult
+        With ``test == "durbin"``. On complete blocks (``k = t``) Durbin's statistic is
+        Friedman's, and the result says ``test == "friedman"`` so that texts cite the
+        test that applies.
+
+    Raises
+    ------
+    TrialsError
+        When panelists ranked different numbers of samples, or samples were ranked
+        unequally often.
 
     Notes
     -----
@@ -335,12 +383,45 @@ def durbin_test(
     References
     ----------
     Durbin, J. (1951). Incomplete blocks in ranking experiments. Br. J. Stat. Psychol.
-    4(2):85-90. Conover, W. J. (1999). Practical Nonparametric Statistics, 3rd ed.,
-    sec. 5.8 (Durbin test, ice cream example).
+    4(2):85-90.
+    Conover, W. J. (1999). Practical Nonparametric Statistics, 3rd ed. Wiley, sec. 5.8
+    (Durbin test, ice cream example).
     """
-    return friedman_test(
-        data, rank=rank, sample=sample, panelist=panelist, alpha=alpha, low=low, high=high
-    )
+    alpha = _check_alpha(alpha)
+    tab = rank_table(data, rank=rank, sample=sample, panelist=panelist, low=low, high=high)
+    return _rank_core(tab, alpha)
+
+
+def rank_test(
+    data: pd.DataFrame,
+    *,
+    rank: str = "rank",
+    sample: str = "sample",
+    panelist: str = "panelist",
+    alpha: float = 0.05,
+    low: float | None = None,
+    high: float | None = None,
+) -> RankTestResult:
+    """The rank test the blocks call for: Friedman's if complete, else Durbin's.
+
+    Parameters
+    ----------
+    As :func:`friedman_test`.
+
+    Returns
+    -------
+    RankTestResult
+        ``test`` names the test that ran (``"friedman"`` or ``"durbin"``), and
+        :meth:`RankTestResult.reference` its published source.
+
+    Notes
+    -----
+    Complete blocks (every panelist ranked every sample) go to :func:`friedman_test`,
+    incomplete ones to :func:`durbin_test`; see those for the formulas and references.
+    """
+    alpha = _check_alpha(alpha)
+    tab = rank_table(data, rank=rank, sample=sample, panelist=panelist, low=low, high=high)
+    return _rank_core(tab, alpha)  # the core names the test by the blocks
 
 
 @dataclass(frozen=True, slots=True)

@@ -93,10 +93,10 @@ def numeric_column(
             raise TrialsError(f"the scale's low end {low!r} lies above its high end {high!r}")
         out = np.flatnonzero((values < lo) | (values > hi))
         if len(out):
-            shown = [float(values[i]) for i in out[:5]]
+            outside = [float(values[i]) for i in out[:5]]
             raise TrialsError(
                 f"column {column!r}: outside the scale {low!r}..{high!r} at line(s) "
-                f"{_lines(out)} (values {shown!r}); {LINE_RULE}"
+                f"{_lines(out)} (values {outside!r}); {LINE_RULE}"
             )
     return values
 

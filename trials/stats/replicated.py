@@ -39,8 +39,10 @@ from trials.errors import OverdispersionWarning, TrialsError
 from trials.methods import get_method
 from trials.model import Record
 
+Counts = Sequence[int] | np.ndarray  # one count per panelist
 
-def _panel(correct: Sequence[int], trials: Sequence[int] | int) -> tuple[np.ndarray, np.ndarray]:
+
+def _panel(correct: Counts, trials: Counts | int) -> tuple[np.ndarray, np.ndarray]:
     x = np.asarray(correct)
     if x.ndim != 1 or x.size < 2:
         raise TrialsError(f"correct must list at least two panelists' counts, got {correct!r}")
@@ -79,7 +81,7 @@ class OverdispersionResult(Record):
     overdispersed: bool
 
 
-def overdispersion_test(correct: Sequence[int], trials: Sequence[int] | int, *,
+def overdispersion_test(correct: Counts, trials: Counts | int, *,
                         alpha: float = 0.05, warn: bool = True) -> OverdispersionResult:
     """Do replicated answers vary more between panelists than a binomial allows?
 
@@ -184,7 +186,7 @@ def _loglik(x: np.ndarray, m: np.ndarray, mu: float, gamma: float) -> float:
     return float(np.sum(log_comb + special.betaln(x + a, m - x + b)) - x.size * special.betaln(a, b))
 
 
-def beta_binomial_fit(correct: Sequence[int], trials: Sequence[int] | int) -> BetaBinomialFit:
+def beta_binomial_fit(correct: Counts, trials: Counts | int) -> BetaBinomialFit:
     """Fit the beta-binomial model to replicated answers by maximum likelihood.
 
     Parameters
@@ -260,7 +262,7 @@ class ReplicatedDifferenceResult(Record):
     overdispersion_p_value: float | None
 
 
-def replicated_difference_test(correct: Sequence[int], trials: Sequence[int] | int, *,
+def replicated_difference_test(correct: Counts, trials: Counts | int, *,
                                method: str, alpha: float = 0.05,
                                gamma: float | None = None) -> ReplicatedDifferenceResult:
     """Beta-binomial test of a difference for a replicated forced-choice test.

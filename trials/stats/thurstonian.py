@@ -11,7 +11,7 @@ function ``pc(d')``: the probability of a correct answer when the two samples di
 - triangle: ``pc = 2 integral_0^inf [Phi(-z sqrt 3 + d' sqrt(2/3)) +
   Phi(-z sqrt 3 - d' sqrt(2/3))] phi(z) dz`` (Frijters 1979; Ennis 1993).
 - unspecified tetrad: ``pc = 1 - 2 integral phi(z) [2 Phi(z) Phi(z - d') -
-  Phi(z - d')^2] dz`` (Ennis, Ennis, Yip and O'Mahony 1998; Ennis and Jesionka 2011).
+  Phi(z - d')^2] dz`` (Ennis et al. 1998; Ennis and Jesionka 2011).
 - paired preference uses the 2-AFC model (a Thurstonian model of preference with the
   share of the more-chosen sample as ``pc``); this is a modelling choice, stated in every
   result that uses it.
@@ -36,6 +36,8 @@ Ennis, D. M. (1993). The power of sensory discrimination methods. J. Sensory Stu
 8:353-370. doi:10.1111/j.1745-459X.1993.tb00225.x
 Ennis, D. M. and Jesionka, V. (2011). The power of sensory discrimination methods
 revisited. J. Sensory Stud. 26:371-382. doi:10.1111/j.1745-459X.2011.00353.x
+Ennis, J. M., Ennis, D. M., Yip, D. and O'Mahony, M. (1998). Thurstonian models for
+variants of the method of tetrads. Br. J. Math. Stat. Psychol. 51:205-215.
 Bi, J. (2006). Sensory Discrimination Tests and Measurements. Blackwell (B-values,
 chapter 2).
 Bi, J., Ennis, D. M. and O'Mahony, M. (1997). How to estimate and use the variance of d'
@@ -276,6 +278,14 @@ def pc_slope(d, *, method: str):
     return float(slope[0]) if scalar else slope.reshape(shape)
 
 
+def _guess(method: str) -> float:
+    """The method's guessing probability; a method without one has no Thurstonian model."""
+    guess = get_method(method).guess
+    if guess is None:
+        raise TrialsError(f"method {method!r} has no Thurstonian model (forced choice only)")
+    return float(guess)
+
+
 @cache
 def _grid(model: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """Knots for the inverse: ``s = sqrt(pc - guess)``, d' and dd'/ds (cubic Hermite).
@@ -493,7 +503,7 @@ def dprime_conversion(*, method: str, pc: float | None = None,
     if (pc is None) == (dprime is None):
         raise TrialsError(f"give exactly one of pc or dprime (got pc={pc!r}, dprime={dprime!r})")
     model = model_name(method)
-    guess = float(get_method(method).guess)
+    guess = _guess(method)
     notes = [_PREFERENCE_NOTE] if get_method(method).family is Family.PREFERENCE else []
     if pc is not None:
         if not (0.0 <= pc <= 1.0):
@@ -503,6 +513,7 @@ def dprime_conversion(*, method: str, pc: float | None = None,
             notes.append(f"pc {pc!r} is at or below chance ({guess:.4g}): d' set to 0")
         out_pc = float(pc)
     else:
+        assert dprime is not None  # exactly one of pc and dprime was given (checked above)
         if not np.isfinite(dprime) or dprime < 0:
             raise TrialsError(f"d' must be a finite number >= 0, got {dprime!r}")
         d = min(float(dprime), DPRIME_MAX)
