@@ -109,7 +109,7 @@ def _similarity(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def _plan(args: argparse.Namespace) -> dict[str, Any]:
-    from trials.stats.discrimination import panel_size
+    from trials.stats.power import panel_size
 
     return panel_size(args.pd, method=args.method, alpha=args.alpha, beta=args.beta).to_dict()
 

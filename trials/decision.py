@@ -201,7 +201,7 @@ def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
     d = fc.difference
     if fc.pd is not None and d is not None:
         try:
-            from trials.stats.discrimination import power
+            from trials.stats.power import power
 
             pw = power(d.n, method=fc.method, pd=fc.pd, alpha=fc.alpha)
             out += (f" With {d.n} tasters this test had a {fmt(pw.power)} chance (power) of "

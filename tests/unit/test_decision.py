@@ -26,7 +26,8 @@ from tests.unit.test_analysis import (
 from trials.analysis import analyse
 from trials.decision import Verdict, decide, decision_text, fmt, fmt_p
 from trials.model import PlanEntry, Response, Sample, Study
-from trials.stats.discrimination import difference_test, power, similarity_test
+from trials.stats.discrimination import difference_test, similarity_test
+from trials.stats.power import power
 
 
 @pytest.mark.parametrize("p,text", [(0.003229, "p = 0.003"), (0.0004, "p < 0.001"),

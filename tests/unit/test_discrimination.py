@@ -17,16 +17,14 @@ from trials.errors import TrialsError, UnknownMethodError
 from trials.methods import DISCRIMINATION, FORCED_CHOICE, get_method
 from trials.stats.discrimination import (
     CI_METHOD,
-    assessors_needed,
     critical_array,
     critical_table,
     critical_value,
     difference_test,
     no_preference_counts,
-    panel_size,
-    power,
     similarity_test,
 )
+from trials.stats.power import assessors_needed, panel_size, power
 
 ALPHAS = (0.20, 0.10, 0.05, 0.01, 0.001)
 

@@ -58,3 +58,11 @@ def test_the_answer_check_is_pure():
            if n.startswith(("trials.store", "sqlalchemy", "streamlit"))}
     assert bad == set()
 
+
+
+def test_every_use_case_module_stays_small():
+    # issue 12: use-case modules under about 400 lines, no module of the package over 800
+    sizes = {str(p.relative_to(ROOT)): len(p.read_text(encoding="utf-8").splitlines())
+             for p in PACKAGE.rglob("*.py")}
+    assert {k: v for k, v in sizes.items() if v > 800} == {}
+    assert {k: v for k, v in sizes.items() if k.startswith("trials/service/") and v > 420} == {}

@@ -70,23 +70,23 @@ def study_decision(store: Store, study_id: int, analysis=None):
 
 def planning_answer(store: Store, study_id: int):
     """How many assessors a discrimination trial needs for its alpha, beta and pd
-    (:func:`trials.stats.discrimination.panel_size`); None when the trial is not a
+    (:func:`trials.stats.power.panel_size`); None when the trial is not a
     forced-choice trial or has no pd yet."""
     with store.read() as tx:
         study = trial_rows.get_trial(tx, study_id)
     if not get_method(study.method).is_forced_choice or not study.pd:
         return None
-    from trials.stats.discrimination import panel_size
+    from trials.stats.power import panel_size
 
     return panel_size(study.pd, method=study.method, alpha=study.alpha, beta=study.beta)
 
 
 def power_curve(method: str, *, pd: float, alpha: float, ns: Sequence[int]) -> pd.DataFrame:
     """Exact power of the difference test against the number of assessors
-    (:func:`trials.stats.discrimination.power`); columns ``n power critical``."""
+    (:func:`trials.stats.power.power`); columns ``n power critical``."""
     from pandas import DataFrame  # the name ``pd`` is the proportion here
 
-    from trials.stats.discrimination import power
+    from trials.stats.power import power
 
     found = [power(int(n), method=method, pd=pd, alpha=alpha) for n in ns]
     return DataFrame({"n": [r.n for r in found], "power": [r.power for r in found],
