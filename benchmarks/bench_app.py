@@ -42,7 +42,7 @@ def build_large_trial(db: str) -> int:
     path.write_text(roster, encoding="utf-8")
     service.import_panelists(store, path)
     kinds = [AttributeKind.HEDONIC] + [AttributeKind.INTENSITY] * (ATTRIBUTES - 1)
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Bench: twelve sauces", method="rating",
         samples=[Sample(f"Sauce {k + 1:02d}", is_control=(k == 0)) for k in range(SAMPLES)],
         attributes=[Attribute(f"attribute {j + 1}", kind=kinds[j], low=1, high=9)
@@ -57,7 +57,7 @@ def build_large_trial(db: str) -> int:
         for j in range(ATTRIBUTES):
             score = int(np.clip(round(5 + effect[e.sample_name] + rng.normal(0, 1.5)), 1, 9))
             buf.write(f"{e.session},{e.panelist_code},{e.code},attribute {j + 1},{score}\n")
-    n = service.import_responses(store, study.id, buf.getvalue().encode(), name="bench.csv")
+    n = service.import_answers(store, study.id, buf.getvalue().encode(), name="bench.csv")
     assert n == PANELISTS * SAMPLES * ATTRIBUTES, n
     return study.id
 
@@ -68,14 +68,14 @@ def bench_results_screen() -> None:
     folder = Path(tempfile.mkdtemp(prefix="bench-app-"))
     db = f"sqlite:///{folder / 'bench.db'}"
     t0 = time.perf_counter()
-    study_id = build_large_trial(db)
+    trial_id = build_large_trial(db)
     print(f"built the trial ({PANELISTS} panelists x {SAMPLES} samples x {ATTRIBUTES} "
           f"attributes = {PANELISTS * SAMPLES * ATTRIBUTES} scores) in "
           f"{time.perf_counter() - t0:.1f} s")
     os.environ["TRIALS_DB"] = db
     os.environ.pop("TRIALS_PASSCODE", None)
     at = AppTest.from_file(str(ROOT / "pages" / "results.py"), default_timeout=600)
-    at.query_params["study"] = str(study_id)
+    at.query_params["study"] = str(trial_id)
     t0 = time.perf_counter()
     at.run()
     first = time.perf_counter() - t0
@@ -109,7 +109,7 @@ def bench_browser_answer() -> None:
     try:
         store = service.open_store(db)
         service.add_panelist(store, "B01", consent_on=dt.date(2026, 1, 10))
-        study = service.create_study(
+        study = service.create_trial(
             store, name="Bench: tablet", method="rating",
             samples=[Sample(f"Broth {k}", is_control=(k == 1)) for k in range(1, 7)],
             attributes=[Attribute("overall liking", low=1, high=9)],
@@ -136,7 +136,7 @@ def bench_browser_answer() -> None:
                     page.get_by_text("Thank you, you are done.").wait_for(timeout=60_000)
                 times.append(time.perf_counter() - t0)
             browser.close()
-        saved = len(service.responses(store, study.id))
+        saved = len(service.list_answers(store, study.id))
         assert saved == len(cups), saved
         ms = [t * 1000 for t in times]
         print(f"browser answer, tap to the next step on screen (saved in the store first): "

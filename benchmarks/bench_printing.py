@@ -21,7 +21,7 @@ import sys
 import time
 import tracemalloc
 
-from trials.model import Attribute, AttributeKind, Batch, Panelist, PlanEntry, Sample, Study
+from trials.model import Attribute, AttributeKind, Batch, Panelist, PlanEntry, Sample, Trial
 from trials.printing import ballots_pdf, labels_pdf, serving_sheet_pdf
 from trials.printing.layout import _qr_cached
 
@@ -38,7 +38,7 @@ def scenario():
     attrs = (Attribute("Overall liking", AttributeKind.HEDONIC, 1, 9),
              Attribute("Crust crispness", AttributeKind.INTENSITY, 1, 7),
              Attribute("Saltiness", AttributeKind.JAR, 1, 5))
-    study = Study("Bench loaf trial", "rating", id=1, samples=samples, attributes=attrs)
+    study = Trial("Bench loaf trial", "rating", id=1, samples=samples, attributes=attrs)
     codes = [str(100 + (17 + 389 * i) % 900) for i in range(SAMPLES)]
     plan = []
     for p in range(PANELISTS):

@@ -35,7 +35,7 @@ def _trial(store, panelists: int, samples: int, attrs: int, name: str) -> int:
     for c in codes:
         if c not in have:
             service.add_panelist(store, c, consent_on="2026-01-01")
-    sid = service.create_study(
+    sid = service.create_trial(
         store, name=name, method="rating", samples=[Sample(f"S{k}") for k in range(samples)],
         attributes=[Attribute(f"a{j}", AttributeKind.INTENSITY, 1, 9) for j in range(attrs)],
     ).id
@@ -60,14 +60,14 @@ def bench(url: str, label: str, rows: int, tmp: Path) -> None:
     src = tmp / f"{label}_in.csv"
     frame.to_csv(src, index=False)
     t0 = time.perf_counter()
-    n = service.import_responses(store, sid, src)
+    n = service.import_answers(store, sid, src)
     t_imp = time.perf_counter() - t0
     out = tmp / f"{label}_out.csv"
     t0 = time.perf_counter()
-    m = service.export_responses(store, sid, out)
+    m = service.export_answers(store, sid, out)
     t_exp = time.perf_counter() - t0
     t0 = time.perf_counter()
-    again = service.import_responses(store, sid, out)
+    again = service.import_answers(store, sid, out)
     t_re = time.perf_counter() - t0
     print(f"[{label}] plan for {panelists} panelists x 4 samples: {t_plan:.1f} s")
     print(f"[{label}] import {n} rows: {t_imp:.2f} s ({n / t_imp:,.0f} rows/s)")
@@ -90,7 +90,7 @@ def bench(url: str, label: str, rows: int, tmp: Path) -> None:
     with ThreadPoolExecutor(max_workers=30) as pool:
         list(pool.map(panelist, tokens))
     wall = time.perf_counter() - t0
-    got = len(service.responses(store, sid2))
+    got = len(service.list_answers(store, sid2))
     lat = np.array(latencies) * 1000
     print(f"[{label}] 30 writers x 12 answers: {got} stored of {len(lat)}, {wall:.2f} s, "
           f"{len(lat) / wall:,.0f} answers/s, latency median {np.median(lat):.0f} ms, "

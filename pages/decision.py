@@ -7,12 +7,12 @@ from trials import service, ui
 from trials.errors import TrialsError
 
 ui.require_leader()
-study_id = ui.pick_study()
+trial_id = ui.pick_trial()
 store = ui.store()
-study = service.get_study(store, study_id)
+study = service.get_trial(store, trial_id)
 
 st.title(f"Decision: {study.name}")
-result, suggested = ui.analysis(study_id)
+result, suggested = ui.analysis(trial_id)
 
 with st.container(border=True):
     st.markdown("**What the results say**")
@@ -31,7 +31,7 @@ with st.form("decide"):
     done = st.form_submit_button("Record the decision", type="primary")
 if done:
     try:
-        service.record_decision(store, study_id, decision, rationale, by=ui.who())
+        service.record_decision(store, trial_id, decision, rationale, by=ui.who())
     except TrialsError as exc:
         ui.show_problem(exc)
     else:
@@ -41,22 +41,22 @@ if done:
 
 st.subheader("Report")
 made = st.session_state.setdefault("reports", {})
-stamp = service.change_stamp(store, study_id)
-key = (study_id, stamp)
+stamp = service.change_stamp(store, trial_id)
+key = (trial_id, stamp)
 if key in made:
     html, pdf = made[key]
     left, right = st.columns(2)
     left.download_button("Download the report (HTML)", html,
-                         file_name=f"trial-{study_id}-report.html", mime="text/html",
+                         file_name=f"trial-{trial_id}-report.html", mime="text/html",
                          on_click="ignore", type="primary", icon=":material/download:")
     right.download_button("Printable summary (PDF)", pdf,
-                          file_name=f"trial-{study_id}-summary.pdf", mime="application/pdf",
+                          file_name=f"trial-{trial_id}-summary.pdf", mime="application/pdf",
                           on_click="ignore", icon=":material/print:")
 elif st.button("Prepare the report", icon=":material/description:"):
     try:
         with st.spinner("Writing the report..."):
-            made[key] = (service.report_html(store, study_id),
-                         service.report_pdf(store, study_id))
+            made[key] = (service.report_html(store, trial_id),
+                         service.report_pdf(store, trial_id))
     except TrialsError as exc:
         ui.show_problem(exc)
     else:
@@ -65,15 +65,15 @@ elif st.button("Prepare the report", icon=":material/description:"):
 with st.expander("Export the answers", icon=":material/table_view:"):
     st.caption("Every answer with the sample behind each code (leader only); the file "
                "imports back.")
-    st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, study_id),
-                       file_name=f"trial-{study_id}-answers.csv", mime="text/csv",
+    st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, trial_id),
+                       file_name=f"trial-{trial_id}-answers.csv", mime="text/csv",
                        on_click="ignore")
     st.download_button("Batch settings and measurements (CSV)",
-                       lambda: service.export_measures_bytes(store, study_id),
-                       file_name=f"trial-{study_id}-batches.csv", mime="text/csv",
+                       lambda: service.export_measures_bytes(store, trial_id),
+                       file_name=f"trial-{trial_id}-batches.csv", mime="text/csv",
                        on_click="ignore")
 
 with st.expander("Audit log", icon=":material/history:"):
-    log = service.audit_log(store, study_id)
+    log = service.audit_log(store, trial_id)
     st.dataframe(pd.DataFrame([e.to_dict() for e in log[-500:]]), hide_index=True,
                  width="stretch")

@@ -12,7 +12,7 @@ from trials.errors import ImportRowsError, TrialsError
 from trials.methods import Family
 
 ui.require_leader()
-store, study_id, study, spec, overview = ui.open_trial()
+store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Paper entry: {study.name}")
 if not overview.plan_size:
@@ -25,7 +25,7 @@ if len(sessions) > 1:
     session = c1.selectbox("Session", sessions, index=len(sessions) - 1)
 else:
     c2, session = st.container(), sessions[0]
-base = service.paper_sheet(store, study_id, session)
+base = service.paper_sheet(store, trial_id, session)
 panelists = sorted(base["panelist"].unique())
 who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}",
                             help="Type a panelist code to enter one ballot at a time.")
@@ -63,12 +63,12 @@ else:
 
 edited = st.data_editor(
     base, column_config=config, hide_index=True, width="stretch",
-    key=f"paper_{study_id}_{session}_{'-'.join(who_filter)}_{st.session_state.get('paper_gen', 0)}",
+    key=f"paper_{trial_id}_{session}_{'-'.join(who_filter)}_{st.session_state.get('paper_gen', 0)}",
     num_rows="fixed",
     height=min(36 * (len(base) + 1) + 3, 560),
 )
 
-problems = service.check_paper_sheet(store, study_id, session, edited)
+problems = service.check_paper_sheet(store, trial_id, session, edited)
 changed_rows = int((edited.astype("string").fillna("") != base.astype("string").fillna(""))
                    .any(axis=1).sum())
 if problems:
@@ -80,7 +80,7 @@ save = st.button("Save the answers", type="primary", disabled=bool(problems) or 
                  icon=":material/save:")
 if save:
     try:
-        n = service.save_paper_sheet(store, study_id, session, edited, entered_by=ui.who())
+        n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
     except ImportRowsError as exc:
         ui.show_problem(exc)
     except TrialsError as exc:
@@ -91,7 +91,7 @@ if save:
         st.toast(f"{n} answers on file.", icon=":material/check:")
         st.rerun()
 
-progress = service.answer_progress(store, study_id)
+progress = service.answer_progress(store, trial_id)
 if not progress.empty:
     done = progress[progress["answered"] >= progress["expected"]]
     st.caption(f"{len(done)} of {len(progress)} ballots complete.")
@@ -99,10 +99,10 @@ if not progress.empty:
 with st.expander("Import answers from a file", icon=":material/upload_file:"):
     st.caption("Tidy CSV or Excel: session, panelist, code, attribute, value (see the "
                "README). Every row is checked; on any bad row nothing is imported.")
-    up = st.file_uploader("Response file", type=["csv", "txt", "xlsx"], key="resp_file")
+    up = st.file_uploader("Answer file", type=["csv", "txt", "xlsx"], key="resp_file")
     if up is not None and st.button("Import the answers"):
         try:
-            n = service.import_responses(store, study_id, up.getvalue(), entered_by=ui.who(),
+            n = service.import_answers(store, trial_id, up.getvalue(), entered_by=ui.who(),
                                          name=up.name)
         except TrialsError as exc:
             ui.show_problem(exc)

@@ -10,7 +10,7 @@ from trials.model import Sample, Status
 ui.require_leader()
 st.title("Trials")
 
-studies = service.list_studies(ui.store())
+studies = service.list_trials(ui.store())
 
 STATUS_HELP = {
     Status.PLANNING: "set-up in progress",
@@ -67,7 +67,7 @@ with st.expander("Start a new trial", expanded=not studies, icon=":material/add:
         made = st.form_submit_button("Create the trial", type="primary")
     if made:
         try:
-            study = service.create_study(
+            study = service.create_trial(
                 ui.store(), name=name, method=method, objective=objective, product=product,
                 samples=[
                     Sample(name=first.strip(), is_control=True),

@@ -7,12 +7,12 @@ from trials import service, ui
 from trials.errors import TrialsError
 
 ui.require_leader()
-store, study_id, study, spec, overview = ui.open_trial()
+store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Serving plan: {study.name}")
-ui.food_caution(study_id)
+ui.food_caution(trial_id)
 
-choice = service.panel_choice(store, study_id)
+choice = service.panel_choice(store, trial_id)
 
 with st.form("draw"):
     st.markdown(f"**Draw the plan** ({spec.label}, {len(study.samples)} samples)")
@@ -37,7 +37,7 @@ if drawn:
         kwargs["per_panelist"] = int(per)
     try:
         with st.spinner("Drawing the plan..."):
-            entries = service.draw_plan(store, study_id, panelist_codes=chosen, session=session,
+            entries = service.draw_plan(store, trial_id, panelist_codes=chosen, session=session,
                                         seed=int(seed), by=ui.who(), **kwargs)
     except TrialsError as exc:
         ui.show_problem(exc)
@@ -45,13 +45,13 @@ if drawn:
         ui.changed()
         st.success(f"Plan drawn: {len(entries)} cups for {len(chosen)} panelists "
                    f"(session {session}, seed {int(seed)}).")
-        overview = service.study_overview(store, study_id)
+        overview = service.trial_overview(store, trial_id)
 
 if not overview.plan_size:
     st.info("No plan drawn yet.")
     st.stop()
 
-balance = service.plan_balance(store, study_id)
+balance = service.plan_balance(store, trial_id)
 st.subheader("Balance")
 c1, c2 = st.columns(2)
 with c1:
@@ -73,5 +73,5 @@ st.dataframe(links, hide_index=True, width="stretch",
              column_config={"link": st.column_config.LinkColumn("link")})
 
 with st.expander("The plan with the decoding key (kitchen only)", icon=":material/key:"):
-    entries = service.plan(store, study_id)
+    entries = service.plan(store, trial_id)
     st.dataframe(pd.DataFrame([e.to_dict() for e in entries]), hide_index=True, width="stretch")

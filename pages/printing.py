@@ -6,13 +6,13 @@ from trials import service, ui
 from trials.errors import TrialsError
 
 ui.require_leader()
-study_id = ui.pick_study()
+trial_id = ui.pick_trial()
 store = ui.store()
-study = service.get_study(store, study_id)
-overview = service.study_overview(store, study_id)
+study = service.get_trial(store, trial_id)
+overview = service.trial_overview(store, trial_id)
 
 st.title(f"Printing: {study.name}")
-ui.food_caution(study_id)
+ui.food_caution(trial_id)
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
     st.stop()
@@ -22,7 +22,7 @@ DOCS = {
     "sheet": ("Serving sheet", "the decoding key, for the kitchen only: never hand it out"),
     "labels": ("Cup labels", "in serving order, grouped per panelist"),
 }
-stamp = service.change_stamp(store, study_id)
+stamp = service.change_stamp(store, trial_id)
 made = st.session_state.setdefault("printed", {})
 
 
@@ -32,7 +32,7 @@ def _build(kind: str) -> bytes:
     def tick(done: int, total: int) -> None:
         bar.progress(min(1.0, done / max(total, 1)), text=f"{DOCS[kind][0]}: {done} of {total}")
 
-    data = service.print_bytes(store, study_id, kind, progress=tick, base_url=ui.app_address())
+    data = service.print_bytes(store, trial_id, kind, progress=tick, base_url=ui.app_address())
     bar.empty()
     return data
 
@@ -41,7 +41,7 @@ for kind, (title, help_text) in DOCS.items():
     with st.container(border=True):
         c1, c2 = st.columns([3, 2], vertical_alignment="center")
         c1.markdown(f"**{title}**  \n{help_text}")
-        key = (study_id, kind, stamp)
+        key = (trial_id, kind, stamp)
         if key not in made:
             if c2.button(f"Prepare the {title.lower()}", key=f"prep_{kind}", width="stretch"):
                 try:
@@ -51,7 +51,7 @@ for kind, (title, help_text) in DOCS.items():
         if key in made:
             c2.download_button(
                 f"Download the {title.lower()} (PDF)", made[key],
-                file_name=f"trial-{study_id}-{kind}.pdf", mime="application/pdf",
+                file_name=f"trial-{trial_id}-{kind}.pdf", mime="application/pdf",
                 on_click="ignore", type="primary", width="stretch", key=f"dl_{kind}",
                 icon=":material/download:",
             )

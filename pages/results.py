@@ -9,13 +9,13 @@ from trials.errors import TrialsError
 from trials.methods import Family, get_method
 
 ui.require_leader()
-study_id = ui.pick_study()
+trial_id = ui.pick_trial()
 store = ui.store()
-study = service.get_study(store, study_id)
+study = service.get_trial(store, trial_id)
 spec = get_method(study.method)
 
 st.title(f"Results: {study.name}")
-result, decision = ui.analysis(study_id)
+result, decision = ui.analysis(trial_id)
 st.caption(f"{spec.label} · {result.panelists_answered} of {result.panelists_planned} panelists "
            f"answered · {result.answers} answers · alpha = {study.alpha:g}")
 
@@ -147,7 +147,7 @@ if result.attributes:
                      help="Per panelist: discrimination, repeatability and agreement.")
     if show and which:
         try:
-            perf = ui.panel_performance(study_id, which)
+            perf = ui.panel_performance(trial_id, which)
         except TrialsError as exc:
             st.caption(str(exc))
         else:

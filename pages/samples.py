@@ -11,10 +11,10 @@ from trials.methods import Family
 from trials.model import AttributeKind
 
 ui.require_leader()
-store, study_id, study, spec, overview = ui.open_trial()
+store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Samples and batches: {study.name}")
-ui.food_caution(study_id)
+ui.food_caution(trial_id)
 
 # ------------------------------------------------------------------ samples
 st.subheader("Samples")
@@ -37,7 +37,7 @@ else:
         s_desc = st.text_input("Description")
         if st.form_submit_button("Add the sample"):
             try:
-                service.add_sample(store, study_id, s_name, is_control=s_control,
+                service.add_sample(store, trial_id, s_name, is_control=s_control,
                                    allergens=s_allergens, description=s_desc, by=ui.who())
             except TrialsError as exc:
                 ui.show_problem(exc)
@@ -68,7 +68,7 @@ if spec.family == Family.RATING:
             if st.form_submit_button("Add the attribute"):
                 anchors = [x.strip() for x in a_anchors.split(";") if x.strip()]
                 try:
-                    service.add_attribute(store, study_id, a_name, kind=a_kind, low=int(a_low),
+                    service.add_attribute(store, trial_id, a_name, kind=a_kind, low=int(a_low),
                                           high=int(a_high), anchors=anchors, by=ui.who())
                 except TrialsError as exc:
                     ui.show_problem(exc)
@@ -78,7 +78,7 @@ if spec.family == Family.RATING:
 
 # ------------------------------------------------------------------ batches
 st.subheader("Test batches")
-batches = service.list_batches(store, study_id)
+batches = service.list_batches(store, trial_id)
 
 
 def _value(m) -> str:
@@ -110,7 +110,7 @@ if batches:
             if st.form_submit_button("Sign off"):
                 b = waiting[pick]
                 try:
-                    service.sign_off_batch(store, study_id, b.sample_name, b.label, by=signer)
+                    service.sign_off_batch(store, trial_id, b.sample_name, b.label, by=signer)
                 except TrialsError as exc:
                     ui.show_problem(exc)
                 else:
@@ -151,7 +151,7 @@ if study.samples:
                 measures = [(r["name"], r["value"], r["unit"] or "")
                             for r in filled.to_dict("records") if r["kind"] == "measure"]
                 try:
-                    service.add_batch(store, study_id, b_sample, b_label, prepared_on=b_on,
+                    service.add_batch(store, trial_id, b_sample, b_label, prepared_on=b_on,
                                       prepared_by=b_by, settings=settings, measures=measures,
                                       notes=b_notes, by=ui.who())
                 except TrialsError as exc:
@@ -165,7 +165,7 @@ if study.samples:
         up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"], key="batch_file")
         if up is not None and st.button("Import the batch values"):
             try:
-                n = service.import_batches(store, study_id, ui.upload_path(up), by=ui.who())
+                n = service.import_batches(store, trial_id, ui.upload_path(up), by=ui.who())
             except TrialsError as exc:
                 ui.show_problem(exc)
             else:

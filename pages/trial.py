@@ -8,7 +8,7 @@ from trials.methods import METHODS, Family, get_method
 from trials.model import Status
 
 ui.require_leader()
-store, study_id, study, spec, overview = ui.open_trial()
+store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Trial set-up: {study.name}")
 st.caption(f"Trial #{study.id} · {spec.label} · status **{study.status}** · "
@@ -63,7 +63,7 @@ if saved:
     if not overview.plan_size:
         changes["method"] = method
     try:
-        study = service.update_study(store, study_id, by=ui.who(), **changes)
+        study = service.update_trial(store, trial_id, by=ui.who(), **changes)
     except TrialsError as exc:
         ui.show_problem(exc)
     else:
@@ -71,22 +71,22 @@ if saved:
         st.toast("Set-up saved.", icon=":material/check:")
         spec = get_method(study.method)
 
-st.subheader("How many assessors")
+st.subheader("How many panelists")
 if spec.is_forced_choice:
-    answer = service.planning_answer(store, study_id)
+    answer = service.panel_size_needed(store, trial_id)
     if answer is None:
         st.info("Give pd (the proportion of discriminators that matters) to get the panel size.")
     else:
-        st.metric("You need", f"{answer.n} assessors",
+        st.metric("You need", f"{answer.n} panelists",
                   help=f"Exact binomial; definition: {answer.definition}")
         st.write(
-            f"With **{answer.n}** assessors a {spec.label.lower()} concludes a difference from "
+            f"With **{answer.n}** panelists a {spec.label.lower()} concludes a difference from "
             f"**{answer.critical}** correct answers, with alpha = {study.alpha:g}, and detects "
             f"pd = {study.pd:g} with power {answer.power:.2f} (beta = {study.beta:g})."
         )
         if answer.note:
             st.caption(answer.note)
-        with st.expander("Power against the number of assessors", icon=":material/show_chart:"):
+        with st.expander("Power against the number of panelists", icon=":material/show_chart:"):
             ui.power_chart(study.method, pd=study.pd, alpha=study.alpha, n_needed=answer.n,
                            beta=study.beta)
     with st.expander("Critical values for n = 5 to 200", icon=":material/table:"):
@@ -100,7 +100,7 @@ if spec.is_forced_choice:
 else:
     st.write(
         "For ratings and rankings the panel size follows from the smallest difference that "
-        "matters and the panel's spread; with no earlier trial on file, 24 to 40 assessors is "
+        "matters and the panel's spread; with no earlier trial on file, 24 to 40 panelists is "
         "common practice for hedonic ratings."
     )
 
@@ -111,7 +111,7 @@ new_status = cols[0].segmented_control("Where the trial stands", statuses,
                                        default=str(study.status), key="status_pick")
 if cols[1].button("Set status", disabled=new_status in (None, str(study.status))):
     try:
-        service.set_status(store, study_id, new_status, by=ui.who())
+        service.set_status(store, trial_id, new_status, by=ui.who())
     except TrialsError as exc:
         ui.show_problem(exc)
     else:

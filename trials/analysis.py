@@ -1,8 +1,8 @@
 """From a trial's answers to its analysis: join, count, test.
 
-:func:`analyse` takes a trial (:class:`trials.model.Study`), its serving plan, its
+:func:`analyse` takes a trial (:class:`trials.model.Trial`), its serving plan, its
 responses and its batches, all as plain records, and returns a frozen
-:class:`StudyAnalysis`. It decodes each answer through the plan itself (blinding code
+:class:`TrialAnalysis`. It decodes each answer through the plan itself (blinding code
 -> sample and role) and dispatches on the method's family (:mod:`trials.methods`):
 
 - discrimination (triangle, duo-trio, 2-AFC, 3-AFC, tetrad): each panelist's set is
@@ -38,7 +38,7 @@ import pandas as pd
 from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
-from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Response, Study
+from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Answer, Trial
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -131,7 +131,7 @@ class RankingAnalysis(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class StudyAnalysis(Record):
+class TrialAnalysis(Record):
     """Everything :func:`analyse` found for one trial.
 
     ``has_answers`` is False (and ``message`` is ``"no answers yet"``) when no answer
@@ -192,13 +192,13 @@ class _Key:
         return self.sets[(e.session, e.panelist_code, e.set_index)]
 
 
-def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> pd.DataFrame:
+def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Answer]) -> pd.DataFrame:
     """The responses joined to the plan: one row per answer, with the decoded sample.
 
     Parameters
     ----------
     plan : sequence of trials.model.PlanEntry
-    responses : sequence of trials.model.Response
+    responses : sequence of trials.model.Answer
 
     Returns
     -------
@@ -237,7 +237,7 @@ def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Response]) -
 # --------------------------------------------------------------------------- forced choice
 
 
-def target_sample(study: Study, plan: Sequence[PlanEntry] = ()) -> str:
+def target_sample(study: Trial, plan: Sequence[PlanEntry] = ()) -> str:
     """The sample a target-by-role answer (2-AFC, 3-AFC) must pick; "" for other rules.
 
     The registry names the target by its role in the plan (``MethodSpec.target_role``,
@@ -304,17 +304,17 @@ def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
     raise TrialsError(f"no scoring rule for method {spec.name!r}")  # pragma: no cover
 
 
-def score_choices(study: Study, plan: Sequence[PlanEntry],
-                  responses: Sequence[Response]) -> ChoiceCounts:
+def score_choices(study: Trial, plan: Sequence[PlanEntry],
+                  responses: Sequence[Answer]) -> ChoiceCounts:
     """Score each forced-choice answer by the method's rule and count.
 
     Parameters
     ----------
-    study : trials.model.Study
+    study : trials.model.Trial
         Its ``method`` picks the rule; its samples' order names the 2-AFC/3-AFC target.
     plan : sequence of trials.model.PlanEntry
         The decoding key: each cup's code, sample, role and set.
-    responses : sequence of trials.model.Response
+    responses : sequence of trials.model.Answer
         Rows with ``attribute == "choice"`` are counted; others are ignored.
 
     Returns
@@ -350,8 +350,8 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
     key = _Key(plan)
     target = target_sample(study, plan)
     problems: list[str] = []
-    latest: dict[tuple[str, str, int], tuple[Response, list[PlanEntry]]] = {}
-    no_pref: dict[tuple[str, str], Response] = {}
+    latest: dict[tuple[str, str, int], tuple[Answer, list[PlanEntry]]] = {}
+    no_pref: dict[tuple[str, str], Answer] = {}
     for r in responses:
         if r.attribute != CHOICE:
             continue
@@ -403,7 +403,7 @@ def score_choices(study: Study, plan: Sequence[PlanEntry],
                         tuple(sets), tuple(problems))
 
 
-def planned_similarity(study: Study) -> bool:
+def planned_similarity(study: Trial) -> bool:
     """Whether the trial was planned as a similarity test.
 
     A trial says so with ``study.aim == "similarity"``; where ``aim`` is empty, an
@@ -417,7 +417,7 @@ def planned_similarity(study: Study) -> bool:
     return bool(SIMILARITY_WORDS.search(study.objective or ""))
 
 
-def _forced_choice(study: Study, plan, responses) -> ForcedChoiceAnalysis:
+def _forced_choice(study: Trial, plan, responses) -> ForcedChoiceAnalysis:
     from trials.stats import discrimination as disc
 
     counts = score_choices(study, plan, responses)
@@ -459,7 +459,7 @@ def _forced_choice(study: Study, plan, responses) -> ForcedChoiceAnalysis:
 # --------------------------------------------------------------------------- ratings
 
 
-def _score_frame(study: Study, plan, responses, attribute: str) -> tuple[pd.DataFrame, list[str]]:
+def _score_frame(study: Trial, plan, responses, attribute: str) -> tuple[pd.DataFrame, list[str]]:
     key = _Key(plan)
     rows, problems = [], []
     for r in responses:
@@ -488,7 +488,7 @@ def _rating_means(frame: pd.DataFrame, order: Sequence[str]) -> dict[str, float]
     return {s: float(means[s]) for s in order if s in means.index}
 
 
-def _ratings(study: Study, plan, responses, measures: MeasuresSummary
+def _ratings(study: Trial, plan, responses, measures: MeasuresSummary
              ) -> tuple[tuple[AttributeAnalysis, ...], list[str]]:
     order = [s.name for s in study.samples] or list(dict.fromkeys(e.sample_name for e in plan))
     problems: list[str] = []
@@ -572,7 +572,7 @@ def _penalty(jar: Attribute, hedonic: Attribute, jar_frame: pd.DataFrame,
 # --------------------------------------------------------------------------- ranking
 
 
-def _ranking(study: Study, plan, responses) -> tuple[RankingAnalysis, list[str]]:
+def _ranking(study: Trial, plan, responses) -> tuple[RankingAnalysis, list[str]]:
     frame, problems = _score_frame(study, plan, responses, RANK)
     if frame.empty:
         return RankingAnalysis(0, 0, {}, None, NO_ANSWERS), problems
@@ -599,26 +599,26 @@ def _ranking(study: Study, plan, responses) -> tuple[RankingAnalysis, list[str]]
 # --------------------------------------------------------------------------- entry point
 
 
-def analyse(study: Study, plan: Sequence[PlanEntry], responses: Sequence[Response], *,
-            batches: Iterable[Batch] = ()) -> StudyAnalysis:
+def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer], *,
+            batches: Iterable[Batch] = ()) -> TrialAnalysis:
     """Analyse one trial from its plan, answers and batches.
 
     Parameters
     ----------
-    study : trials.model.Study
+    study : trials.model.Trial
         Method, risks (``alpha``, ``beta``, ``pd``), samples (in order: the second is
         the 2-AFC/3-AFC target) and attributes (ratings).
     plan : sequence of trials.model.PlanEntry
         The serving plan: the decoding key.
-    responses : sequence of trials.model.Response
-        One row per answer, as documented on :class:`trials.model.Response`.
+    responses : sequence of trials.model.Answer
+        One row per answer, as documented on :class:`trials.model.Answer`.
     batches : iterable of trials.model.Batch
         Their numeric measures and settings are summarised and, for ratings, related
         to the sample means.
 
     Returns
     -------
-    StudyAnalysis
+    TrialAnalysis
         With ``has_answers=False`` and ``message="no answers yet"`` when no answer
         could be decoded.
 
@@ -651,7 +651,7 @@ def analyse(study: Study, plan: Sequence[PlanEntry], responses: Sequence[Respons
         answered = {r.panelist_code for r in responses if r.attribute == RANK} if answers else set()
     has = answers > 0
     message = "" if has else NO_ANSWERS
-    return StudyAnalysis(study.name, spec.name, str(spec.family), study.objective,
+    return TrialAnalysis(study.name, spec.name, str(spec.family), study.objective,
                          study.alpha, study.beta, study.pd, has, message, planned,
                          len(answered), max(answers, 0), choice, attributes, ranking,
                          measures, tuple(problems))

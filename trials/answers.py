@@ -1,6 +1,6 @@
 """Answers against the serving plan: decode, check, count what is still expected.
 
-Pure: plain records in (:class:`trials.model.PlanEntry`, :class:`trials.model.Response`,
+Pure: plain records in (:class:`trials.model.PlanEntry`, :class:`trials.model.Answer`,
 :class:`trials.model.Attribute`, the method's :class:`trials.methods.MethodSpec`),
 plain records or a DataFrame out. No database, no screen. The service loads the
 plan and the answers on file and calls these; the screens call them for what they
@@ -32,7 +32,7 @@ import pandas as pd
 
 from trials.errors import AnswerError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import Attribute, PlanEntry, Record, Response, Study
+from trials.model import Attribute, PlanEntry, Record, Answer, Trial
 
 CHOICE = "choice"
 RANK = "rank"
@@ -134,7 +134,7 @@ class AnswerChecker:
     attributes: Mapping[str, Attribute]
 
     @classmethod
-    def for_trial(cls, study: Study, plan: Iterable[PlanEntry],
+    def for_trial(cls, study: Trial, plan: Iterable[PlanEntry],
                   sessions: Sequence[str] | None = None) -> AnswerChecker:
         """The checker of ``study``; ``sessions`` default to the plan's, in plan order."""
         entries = list(plan)
@@ -257,7 +257,7 @@ def expected_answers(spec: MethodSpec, cups_per_set: Iterable[int], *, attribute
     return len(sizes)
 
 
-def answer_progress(spec: MethodSpec, plan: Iterable[PlanEntry], responses: Iterable[Response],
+def answer_progress(spec: MethodSpec, plan: Iterable[PlanEntry], responses: Iterable[Answer],
                     *, attributes: int) -> pd.DataFrame:
     """Answers on file against answers expected, per session and panelist.
 
@@ -360,7 +360,7 @@ def _score_names(spec: MethodSpec, attributes: Sequence[str]) -> list[str]:
     return list(attributes) if spec.family is Family.RATING else [RANK]
 
 
-def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Response],
+def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Answer],
                 attributes: Sequence[str] = ()) -> pd.DataFrame:
     """The paper-entry grid of one session's plan, filled with the answers on file.
 
@@ -373,7 +373,7 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
     got = list(responses)
     columns = list(paper_columns(spec, attributes))
     if spec.is_forced_choice:
-        chosen: dict[tuple[str, int], Response] = {}
+        chosen: dict[tuple[str, int], Answer] = {}
         cups: dict[tuple[str, int], list[PlanEntry]] = defaultdict(list)
         for e in plan:
             cups[(e.panelist_code, e.set_index)].append(e)

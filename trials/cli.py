@@ -180,27 +180,27 @@ def _design_blocks(args: argparse.Namespace) -> dict[str, Any]:
 def _study_list(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
-    return {"studies": [s.to_dict() for s in service.list_studies(_store(args))]}
+    return {"studies": [s.to_dict() for s in service.list_trials(_store(args))]}
 
 
 def _study_show(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
-    return {"study": service.study_overview(_store(args), args.id).to_dict()}
+    return {"study": service.trial_overview(_store(args), args.id).to_dict()}
 
 
-def _import_responses(args: argparse.Namespace) -> dict[str, Any]:
+def _import_answers(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
-    rows = service.import_responses(_store(args), args.trial, Path(args.file))
+    rows = service.import_answers(_store(args), args.trial, Path(args.file))
     return {"imported": rows}
 
 
-def _export_responses(args: argparse.Namespace) -> dict[str, Any]:
+def _export_answers(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
     out = Path(args.out)
-    rows = service.export_responses(_store(args), args.trial, out, fmt=args.format)
+    rows = service.export_answers(_store(args), args.trial, out, fmt=args.format)
     return {"rows": rows, "path": str(out)}
 
 
@@ -273,7 +273,7 @@ def _app(args: argparse.Namespace) -> dict[str, Any]:
             "to anyone who can reach this address)"
         )
     store = service.open_store(args.db)
-    if args.demo and not service.list_studies(store):
+    if args.demo and not service.list_trials(store):
         seed_demo(store)
     store.close()
     env = dict(os.environ)
@@ -311,8 +311,9 @@ def _add_trial(p: argparse.ArgumentParser) -> None:
                    metavar="ID", help="the trial's id (--study also works)")
 
 
-def _leaf(sub, name: str, handler: Handler, help_text: str, *, db: bool = False):
-    p = sub.add_parser(name, help=help_text, description=help_text)
+def _leaf(sub, name: str, handler: Handler, help_text: str, *, db: bool = False,
+          aliases: Sequence[str] = ()):
+    p = sub.add_parser(name, help=help_text, description=help_text, aliases=list(aliases))
     p.set_defaults(handler=handler)
     _add_json(p)
     if db:
@@ -347,7 +348,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--pd", required=True, type=_fraction)
     p.add_argument("--beta", type=_fraction, default=0.05)
 
-    p = _leaf(sub, "plan", _plan, "fewest assessors for alpha, beta and pd")
+    p = _leaf(sub, "plan", _plan, "fewest panelists for alpha, beta and pd")
     p.add_argument("--method", required=True, choices=FORCED_CHOICE)
     p.add_argument("--pd", required=True, type=_fraction)
     p.add_argument("--alpha", type=_fraction, default=0.05)
@@ -404,13 +405,15 @@ def build_parser() -> argparse.ArgumentParser:
 
     imp = sub.add_parser("import", help="import answers from a file")
     isub = imp.add_subparsers(dest="import_cmd", required=True, metavar="WHAT")
-    p = _leaf(isub, "responses", _import_responses, "import responses (all rows or none)", db=True)
+    p = _leaf(isub, "answers", _import_answers, "import answers (all rows or none); "
+              "'responses' also works", db=True, aliases=["responses"])
     p.add_argument("file")
     _add_trial(p)
 
     exp = sub.add_parser("export", help="export answers to a file")
     esub = exp.add_subparsers(dest="export_cmd", required=True, metavar="WHAT")
-    p = _leaf(esub, "responses", _export_responses, "export responses with the key", db=True)
+    p = _leaf(esub, "answers", _export_answers, "export answers with the key; 'responses' "
+              "also works", db=True, aliases=["responses"])
     _add_trial(p)
     p.add_argument("--format", choices=("csv", "xlsx"), default="csv")
     p.add_argument("--out", required=True)

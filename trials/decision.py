@@ -1,6 +1,6 @@
 """The decision of a trial in plain words, with the numbers behind it.
 
-:func:`decide` turns a :class:`trials.analysis.StudyAnalysis` into a
+:func:`decide` turns a :class:`trials.analysis.TrialAnalysis` into a
 :class:`Decision`: a verdict code (for the store and the history search), a headline
 sentence, the lines of evidence (counts, p-value, critical count, estimates with
 their intervals, the method and its published source) and the limits of the
@@ -17,9 +17,9 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, StudyAnalysis
+from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, TrialAnalysis
 from trials.methods import Scoring, get_method
-from trials.model import Record, Study
+from trials.model import Record, Trial
 
 
 class Verdict:
@@ -102,7 +102,7 @@ def _level(level: float) -> str:
 
 # --------------------------------------------------------------------------- forced choice
 
-def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | None) -> Decision:
+def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | None) -> Decision:
     spec = get_method(a.method)
     ref = spec.reference
     d = fc.difference
@@ -135,7 +135,7 @@ def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | No
             numbers["no_preference"] = c.no_preference
         if d.significant and c.preferred:
             verdict = Verdict.PREFERENCE
-            head = (f"Tasters preferred {pref}: {d.correct} of {d.n} chose it{folded} "
+            head = (f"Panelists preferred {pref}: {d.correct} of {d.n} chose it{folded} "
                     f"{evidence}.")
         else:
             verdict = Verdict.NO_PREFERENCE
@@ -158,7 +158,7 @@ def _forced_choice(a: StudyAnalysis, fc: ForcedChoiceAnalysis, study: Study | No
             f"model of the {spec.label.lower()}).")
         if d.significant:
             verdict = Verdict.DIFFERENCE
-            head = f"Tasters told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
+            head = f"Panelists told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
         else:
             verdict = Verdict.NO_DIFFERENCE
             head = (f"No difference was shown: {d.correct} of {d.n} {phrase} {evidence}.")
@@ -204,18 +204,18 @@ def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
             from trials.stats.power import power
 
             pw = power(d.n, method=fc.method, pd=fc.pd, alpha=fc.alpha)
-            out += (f" With {d.n} tasters this test had a {fmt(pw.power)} chance (power) of "
+            out += (f" With {d.n} panelists this test had a {fmt(pw.power)} chance (power) of "
                     f"detecting a proportion of discriminators of {fmt(fc.pd)}.")
         except Exception as exc:  # noqa: BLE001 - power is an aside; say why it is missing
             out += f" (Power not computed: {exc}.)"
     return out
 
 
-def _risks(fc: ForcedChoiceAnalysis, a: StudyAnalysis) -> list[str]:
+def _risks(fc: ForcedChoiceAnalysis, a: TrialAnalysis) -> list[str]:
     text = f"Risks planned: alpha {fmt_risk(fc.alpha)} (calling a difference that is not there)"
     if fc.similarity_planned:
         text += (f", beta {fmt_risk(fc.beta)} (calling the samples similar when a proportion "
-                 f"{fmt(fc.pd)} of tasters can tell them apart)")
+                 f"{fmt(fc.pd)} of panelists can tell them apart)")
     elif fc.pd is not None:
         text += (f", beta {fmt_risk(fc.beta)} (missing a proportion of discriminators of "
                  f"{fmt(fc.pd)})")
@@ -273,7 +273,7 @@ def _penalty_line(at: AttributeAnalysis) -> str:
     return f"{at.attribute} (just-about-right, penalty analysis): " + "; ".join(parts) + "."
 
 
-def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
+def _ratings(a: TrialAnalysis, study: Trial | None) -> Decision:
     spec = get_method(a.method)
     ref = spec.reference + "; two-way ANOVA with panelists as blocks; Tukey (1953) HSD"
     details, numbers = [], {}
@@ -318,7 +318,7 @@ def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
         limits.append(f"The smallest difference of means that matters was set at {fmt(delta)}; "
                       "compare it with the Tukey HSD above.")
     limits.append("Panelists are treated as a random sample of consumers or trained "
-                  "tasters; the scores are treated as interval data.")
+                  "panelists; the scores are treated as interval data.")
     if a.problems:
         limits.append(f"{len(a.problems)} answer(s) were left out (see the report's problems list).")
     return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
@@ -327,7 +327,7 @@ def _ratings(a: StudyAnalysis, study: Study | None) -> Decision:
 # --------------------------------------------------------------------------- ranking
 
 
-def _ranking(a: StudyAnalysis) -> Decision:
+def _ranking(a: TrialAnalysis) -> Decision:
     spec = get_method(a.method)
     rk = a.ranking
     if rk is None or rk.result is None:
@@ -362,21 +362,21 @@ def _ranking(a: StudyAnalysis) -> Decision:
 # --------------------------------------------------------------------------- entry point
 
 
-def _no_answers(a: StudyAnalysis) -> Decision:
+def _no_answers(a: TrialAnalysis) -> Decision:
     spec = get_method(a.method)
     return Decision(Verdict.NO_ANSWERS,
                     f"No decision yet: no answers yet ({a.panelists_planned} panelists planned).",
                     (), (), a.method, spec.reference, {})
 
 
-def decide(analysis: StudyAnalysis, *, study: Study | None = None) -> Decision:
+def decide(analysis: TrialAnalysis, *, study: Trial | None = None) -> Decision:
     """The decision for one analysed trial, in plain words with its numbers.
 
     Parameters
     ----------
-    analysis : trials.analysis.StudyAnalysis
+    analysis : trials.analysis.TrialAnalysis
         From :func:`trials.analysis.analyse`.
-    study : trials.model.Study, optional
+    study : trials.model.Trial, optional
         For the smallest meaningful difference of ratings (``delta``).
 
     Returns
@@ -408,6 +408,6 @@ def decide(analysis: StudyAnalysis, *, study: Study | None = None) -> Decision:
     return _ranking(analysis)
 
 
-def decision_text(analysis: StudyAnalysis, *, study: Study | None = None) -> str:
+def decision_text(analysis: TrialAnalysis, *, study: Trial | None = None) -> str:
     """:func:`decide`'s decision as one text (headline, details, limits)."""
     return decide(analysis, study=study).text

@@ -32,7 +32,7 @@ import numpy as np
 import pandas as pd
 
 from trials import methods, service
-from trials.model import Attribute, AttributeKind, Sample, Status, StudySummary
+from trials.model import Attribute, AttributeKind, Sample, Status, TrialSummary
 
 KITCHEN = "Harbour Lane Test Kitchen"
 BY = "demo (Harbour Lane Test Kitchen)"
@@ -84,7 +84,7 @@ COATING_BATCHES = (
 
 
 def _exists(store, name: str) -> int | None:
-    for s in service.list_studies(store):
+    for s in service.list_trials(store):
         if s.name == name:
             return s.id
     return None
@@ -106,7 +106,7 @@ def _eligible(samples: tuple[Sample, ...], n: int) -> list[str]:
     return ok[:n]
 
 
-def _import(store, study_id: int, rows: list[dict], when: dt.datetime) -> None:
+def _import(store, trial_id: int, rows: list[dict], when: dt.datetime) -> None:
     for i, r in enumerate(rows):
         r.setdefault("comment", "")
         r["entered_at"] = (when + dt.timedelta(seconds=20 * i)).isoformat()
@@ -114,7 +114,7 @@ def _import(store, study_id: int, rows: list[dict], when: dt.datetime) -> None:
         r["entered_by"] = r["panelist"] if r["mode"] == "tablet" else "panel leader"
     buf = io.StringIO()
     pd.DataFrame(rows).to_csv(buf, index=False)
-    service.import_responses(store, study_id, buf.getvalue().encode("utf-8"),
+    service.import_answers(store, trial_id, buf.getvalue().encode("utf-8"),
                              entered_by=BY, name="demo.csv")
 
 
@@ -125,9 +125,9 @@ def _brioche(store) -> int:
         Sample("Short proof (60 min)", allergens=("gluten", "egg", "milk"),
                description="Same dough, final proof cut to 60 min at 27 °C."),
     )
-    study = service.create_study(
+    study = service.create_trial(
         store, name=BRIOCHE, method=methods.TRIANGLE, product="brioche bun",
-        objective="Can tasters tell a bun proofed 60 min from the usual 90 min? "
+        objective="Can panelists tell a bun proofed 60 min from the usual 90 min? "
                   "A shorter proof would free an oven slot each morning.",
         alpha=0.05, beta=0.20, pd=0.30, samples=samples, created_on=dt.date(2026, 3, 9), by=BY,
     )
@@ -190,7 +190,7 @@ def _coatings(store) -> int:
         Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
         Attribute("saltiness", AttributeKind.INTENSITY, 1, 9, ("not salty", "very salty")),
     )
-    study = service.create_study(
+    study = service.create_trial(
         store, name=COATINGS, method=methods.RATING, product="fried chicken thigh",
         objective="Which dredge gives the crispest coating without losing liking? All four "
                   "share one seasoning blend.",
@@ -226,7 +226,7 @@ def _soup(store) -> int:
         Sample("Fresh tomatoes", is_control=True, description="Current recipe."),
         Sample("Roasted tomatoes", description="Tomatoes roasted 25 min at 200 °C first."),
     )
-    study = service.create_study(
+    study = service.create_trial(
         store, name=SOUP, method=methods.PAIRED_PREFERENCE, product="chilled tomato soup",
         objective="Do guests prefer the soup made with roasted tomatoes?",
         alpha=0.05, samples=samples, created_on=dt.date(2026, 5, 4), by=BY,
@@ -268,7 +268,7 @@ def _crumb(store) -> int:
         Attribute("overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9),
         Attribute("crispness", AttributeKind.INTENSITY, 1, 9, ("not crisp", "very crisp")),
     )
-    study = service.create_study(
+    study = service.create_trial(
         store, name=CRUMB, method=methods.RATING, product="fried chicken thigh",
         objective="Is a panko crumb worth its extra step against the house dredge?",
         alpha=0.05, delta=1.0, samples=samples, attributes=attributes,
@@ -340,7 +340,7 @@ def write_sample_data(folder: str | Path, store=None) -> list[Path]:
             for name, stem in ((BRIOCHE, "brioche_triangle"), (COATINGS, "coatings_rating"),
                                (SOUP, "soup_preference")):
                 path = folder / f"{stem}_responses.csv"
-                service.export_responses(store, ids[name], path)
+                service.export_answers(store, ids[name], path)
                 written.append(path)
             m = service.measures_frame(store, ids[COATINGS])
             batches = pd.DataFrame({"sample": m["sample"], "batch": m["batch"],
@@ -349,7 +349,7 @@ def write_sample_data(folder: str | Path, store=None) -> list[Path]:
             path = folder / "coatings_batches.csv"
             batches.to_csv(path, index=False)
             written.append(path)
-            frame = service.responses_frame(store, ids[COATINGS])
+            frame = service.answers_frame(store, ids[COATINGS])
             for attr in EFFECTS:
                 part = frame[frame["attribute"] == attr]
                 tidy = pd.DataFrame({"panelist": part["panelist"], "sample": part["sample"],
@@ -368,8 +368,8 @@ if __name__ == "__main__":  # python -m trials.demo sample_data
         print(p)
 
 
-def seed_demo(store) -> list[StudySummary]:
+def seed_demo(store) -> list[TrialSummary]:
     """Seed the invented demo trials; running it twice adds nothing. Returns their lines
     of the list of trials."""
     ids = seed(store)
-    return [x for x in service.list_studies(store) if x.id in ids]
+    return [x for x in service.list_trials(store) if x.id in ids]

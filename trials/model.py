@@ -137,7 +137,7 @@ class Attribute(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class Study(Record):
+class Trial(Record):
     """A trial: what is compared, by which method, at which risks."""
 
     name: str
@@ -182,7 +182,7 @@ class PlanEntry(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class Response(Record):
+class Answer(Record):
     """One answer, as a row of the response CSV.
 
     - rating: ``code`` is the cup rated, ``attribute`` the attribute's name, ``value``
@@ -219,7 +219,7 @@ class AllergenConflict(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class StudySummary(Record):
+class TrialSummary(Record):
     """One line of the list of trials."""
 
     id: int
@@ -232,7 +232,7 @@ class StudySummary(Record):
 
 
 @dataclass(frozen=True, slots=True)
-class StudyOverview(Record):
+class TrialOverview(Record):
     """A trial at a glance, for the leader (``links``: panelist code -> tasting path)."""
 
     id: int
@@ -314,7 +314,7 @@ class PlanBook:
     ``existing`` maps (session, panelist code, question) to the (code, value) on file.
     """
 
-    trial: Study
+    trial: Trial
     entries: tuple[PlanEntry, ...]
     session_ids: dict[str, int]
     panelist_ids: dict[str, int]

@@ -169,14 +169,14 @@ def require_panelist():
         st.stop()
 
 
-def food_caution(study_id: int | None = None) -> None:
+def food_caution(trial_id: int | None = None) -> None:
     """The standing caution on screens where food is prepared or served.
 
     With a trial, also its open food-safety points: panelists whose declared allergens a
     sample holds, and batches not yet signed off.
     """
-    if study_id is not None:
-        conflicts = service.allergen_conflicts(store(), study_id)
+    if trial_id is not None:
+        conflicts = service.allergen_conflicts(store(), trial_id)
         if conflicts:
             lines = "\n".join(
                 f"- panelist **{c.panelist_code}**: {c.sample_name} holds {', '.join(c.allergens)}"
@@ -185,7 +185,7 @@ def food_caution(study_id: int | None = None) -> None:
             st.warning("Allergen conflicts: these panelists declared an allergen that a "
                        f"sample holds and must not be served it.\n{lines}",
                        icon=":material/warning:")
-        unsigned = [b for b in service.list_batches(store(), study_id) if not b.signed_off]
+        unsigned = [b for b in service.list_batches(store(), trial_id) if not b.signed_off]
         if unsigned:
             names = ", ".join(f"{b.sample_name} / {b.label}" for b in unsigned)
             st.warning(f"Batches not signed off for food safety yet (do not serve): {names}",
@@ -218,14 +218,14 @@ def _study_label(study) -> str:
     return f"#{study.id} {study.name} ({study.status})"
 
 
-def pick_study(*, required: bool = True):
+def pick_trial(*, required: bool = True):
     """The trial the leader works on: a picker in the sidebar, shared by every screen.
 
     The choice lives in the session and in the address (``?study=ID``), so that a
     reload or a copied link opens the same trial. Returns the study id, or None when
     ``required`` is false and none is on file (with ``required`` the page stops).
     """
-    studies = list(service.list_studies(store()))
+    studies = list(service.list_trials(store()))
     if not studies:
         if required:
             st.info("No trials on file yet. Start one on the Trials screen.")
@@ -251,28 +251,28 @@ class OpenTrial(NamedTuple):
     """The trial in hand on a leader screen, with what most screens read first."""
 
     store: Any
-    study_id: int
-    study: Any  # trials.model.Study
+    trial_id: int
+    study: Any  # trials.model.Trial
     spec: Any  # trials.methods.MethodSpec
-    overview: Any  # trials.service.StudyOverview
+    overview: Any  # trials.service.TrialOverview
 
 
 def open_trial() -> OpenTrial:
-    """The trial picked in the sidebar (:func:`pick_study`), read once for the screen."""
+    """The trial picked in the sidebar (:func:`pick_trial`), read once for the screen."""
     from trials.methods import get_method
 
-    study_id = pick_study()
+    trial_id = pick_trial()
     s = store()
-    study = service.get_study(s, study_id)
-    return OpenTrial(s, study_id, study, get_method(study.method),
-                     service.study_overview(s, study_id))
+    study = service.get_trial(s, trial_id)
+    return OpenTrial(s, trial_id, study, get_method(study.method),
+                     service.trial_overview(s, trial_id))
 
 
-def select_study(study_id: int) -> None:
-    """Make ``study_id`` the trial in hand (the session and the address)."""
-    st.session_state[STUDY_KEY] = study_id
-    if st.query_params.get("study") != str(study_id):
-        st.query_params["study"] = str(study_id)
+def select_study(trial_id: int) -> None:
+    """Make ``trial_id`` the trial in hand (the session and the address)."""
+    st.session_state[STUDY_KEY] = trial_id
+    if st.query_params.get("study") != str(trial_id):
+        st.query_params["study"] = str(trial_id)
 
 
 def changed() -> None:
@@ -288,30 +288,30 @@ def show_problem(exc: Exception) -> None:
 
 
 @st.cache_resource(show_spinner="Analysing...", max_entries=16)
-def _analysis(url: str | None, study_id: int, stamp: tuple):
+def _analysis(url: str | None, trial_id: int, stamp: tuple):
     del stamp  # part of the cache key only: it changes whenever the trial changes
     s = _open_store(url)
-    result = service.analyse_study(s, study_id)
-    return result, service.study_decision(s, study_id, result)
+    result = service.analyse_trial(s, trial_id)
+    return result, service.trial_decision(s, trial_id, result)
 
 
 @st.cache_resource(show_spinner="Reading the panel's performance...", max_entries=32)
-def _panel_performance(url: str | None, study_id: int, attribute: str, stamp: tuple):
+def _panel_performance(url: str | None, trial_id: int, attribute: str, stamp: tuple):
     del stamp  # part of the cache key only
-    return service.panel_performance_of(_open_store(url), study_id, attribute)
+    return service.panel_performance_of(_open_store(url), trial_id, attribute)
 
 
-def panel_performance(study_id: int, attribute: str):
+def panel_performance(trial_id: int, attribute: str):
     """Per-panelist performance on one attribute, computed once per state of the trial."""
-    stamp = service.change_stamp(store(), study_id)
-    return _panel_performance(os.environ.get("TRIALS_DB"), study_id, attribute, stamp)
+    stamp = service.change_stamp(store(), trial_id)
+    return _panel_performance(os.environ.get("TRIALS_DB"), trial_id, attribute, stamp)
 
 
-def analysis(study_id: int):
+def analysis(trial_id: int):
     """The trial's analysis and decision text, computed once per state of the trial
     (the cache key is :func:`trials.service.change_stamp`: every write moves it)."""
-    stamp = service.change_stamp(store(), study_id)
-    return _analysis(os.environ.get("TRIALS_DB"), study_id, stamp)
+    stamp = service.change_stamp(store(), trial_id)
+    return _analysis(os.environ.get("TRIALS_DB"), trial_id, stamp)
 
 
 # ---------------------------------------------------------------- looks
@@ -347,7 +347,7 @@ def tablet_look() -> None:
 
 
 def power_chart(method: str, *, pd: float, alpha: float, n_needed: int, beta: float) -> None:
-    """Exact power of the difference test against the number of assessors."""
+    """Exact power of the difference test against the number of panelists."""
     import plotly.graph_objects as go
 
     top = max(20, int(n_needed * 1.6))
@@ -357,7 +357,7 @@ def power_chart(method: str, *, pd: float, alpha: float, n_needed: int, beta: fl
                                name="power", line={"shape": "hv"}))
     fig.add_hline(y=1 - beta, line_dash="dot", annotation_text=f"1 - beta = {1 - beta:.2f}")
     fig.add_vline(x=n_needed, line_dash="dot", annotation_text=f"n = {n_needed}")
-    fig.update_layout(xaxis_title="assessors", yaxis_title="power", yaxis_range=[0, 1],
+    fig.update_layout(xaxis_title="panelists", yaxis_title="power", yaxis_range=[0, 1],
                       height=320, margin={"l": 10, "r": 10, "t": 30, "b": 10})
     st.plotly_chart(fig, width="stretch")
 

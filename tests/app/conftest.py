@@ -90,11 +90,11 @@ def small_trials(app_db):
     store = service.open_store(app_db)
     for i in range(1, 7):
         service.add_panelist(store, f"T{i:02d}", consent_on=dt.date(2026, 1, 5))
-    tri = service.create_study(store, name="Pancake: buttermilk vs yoghurt", method="triangle",
+    tri = service.create_trial(store, name="Pancake: buttermilk vs yoghurt", method="triangle",
                                pd=0.3, samples=[Sample("Buttermilk batter", is_control=True),
                                                 Sample("Yoghurt batter")])
     service.draw_plan(store, tri.id, panelist_codes=[f"T{i:02d}" for i in range(1, 7)], seed=3)
-    rat = service.create_study(store, name="Flatbread: two flours", method="rating",
+    rat = service.create_trial(store, name="Flatbread: two flours", method="rating",
                                samples=[Sample("Spelt flatbread", is_control=True),
                                         Sample("Einkorn flatbread")],
                                attributes=[Attribute("overall liking", low=1, high=9)])

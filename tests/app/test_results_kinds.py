@@ -24,23 +24,23 @@ def store(app_db):
     return s
 
 
-def _results(study_id: int):
+def _results(trial_id: int):
     at = page_test("results")
-    at.query_params["study"] = str(study_id)
+    at.query_params["study"] = str(trial_id)
     return at.run()
 
 
 def test_a_ranking_trial_shows_the_rank_test_and_its_rank_sums(store):
-    study = service.create_study(store, name="Muffins: three fat levels", method="ranking",
+    study = service.create_trial(store, name="Muffins: three fat levels", method="ranking",
                                  samples=["Muffin low fat", "Muffin mid fat", "Muffin full fat"])
     service.draw_plan(store, study.id, panelist_codes=PANEL, seed=2)
     rank_of = {"Muffin full fat": 1, "Muffin mid fat": 2, "Muffin low fat": 3}
     for e in service.plan(store, study.id):
-        service.record_response(store, study.id, panelist_code=e.panelist_code, code=e.code,
+        service.enter_answer(store, study.id, panelist_code=e.panelist_code, code=e.code,
                                 attribute="rank", value=rank_of[e.sample_name])
     at = _results(study.id)
     assert not at.exception, [e.message for e in at.exception]
-    fr = service.analyse_study(store, study.id).ranking.result
+    fr = service.analyse_trial(store, study.id).ranking.result
     metrics = {m.label: m.value for m in at.metric}
     assert metrics[f"{fr.test} statistic"] == f"{fr.statistic:.2f}"
     table = next(df.value for df in at.dataframe if "rank sum" in df.value.columns)
@@ -50,7 +50,7 @@ def test_a_ranking_trial_shows_the_rank_test_and_its_rank_sums(store):
 
 
 def test_a_rating_with_a_just_about_right_scale_shows_its_penalty_table(store):
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Iced tea: three sweetness levels", method="rating",
         samples=[Sample("Tea 4 % sugar", is_control=True), Sample("Tea 6 % sugar"),
                  Sample("Tea 8 % sugar")],
@@ -63,11 +63,11 @@ def test_a_rating_with_a_just_about_right_scale_shows_its_penalty_table(store):
         jar = int(np.clip(jar_mid[e.sample_name] + rng.integers(-1, 2), 1, 5))
         liking = int(np.clip(7 - 2 * abs(jar - 3) + rng.integers(-1, 2), 1, 9))
         for attribute, value in (("overall liking", liking), ("sweetness", jar)):
-            service.record_response(store, study.id, panelist_code=e.panelist_code,
+            service.enter_answer(store, study.id, panelist_code=e.panelist_code,
                                     code=e.code, attribute=attribute, value=value)
     at = _results(study.id)
     assert not at.exception, [e.message for e in at.exception]
-    jar = next(a for a in service.analyse_study(store, study.id).attributes
+    jar = next(a for a in service.analyse_trial(store, study.id).attributes
                if a.attribute == "sweetness")
     assert jar.penalty is not None, jar.note
     assert "Just-about-right: penalty analysis" in page_text(at)
@@ -77,7 +77,7 @@ def test_a_rating_with_a_just_about_right_scale_shows_its_penalty_table(store):
 
 
 def test_a_duo_trio_ballot_never_offers_the_reference_as_an_answer(store):
-    study = service.create_study(store, name="Stock: two bones", method="duo-trio",
+    study = service.create_trial(store, name="Stock: two bones", method="duo-trio",
                                  samples=[Sample("Veal bone stock", is_control=True),
                                           Sample("Chicken bone stock")])
     service.draw_plan(store, study.id, panelist_codes=PANEL[:4], seed=1)
@@ -92,7 +92,7 @@ def test_a_duo_trio_ballot_never_offers_the_reference_as_an_answer(store):
 
 
 def test_a_tetrad_ballot_saves_the_two_codes_of_the_chosen_group(store):
-    study = service.create_study(store, name="Salsa: two chillies", method="tetrad",
+    study = service.create_trial(store, name="Salsa: two chillies", method="tetrad",
                                  samples=["Jalapeno salsa", "Serrano salsa"])
     service.draw_plan(store, study.id, panelist_codes=PANEL[:6], seed=5)
     codes = [e.code for e in sorted(service.plan(store, study.id), key=lambda e: e.position)
@@ -106,6 +106,6 @@ def test_a_tetrad_ballot_saves_the_two_codes_of_the_chosen_group(store):
     at.run()
     next(b for b in at.button if b.label == "Save my choice").click()
     at.run()
-    assert [(r.code, r.attribute) for r in service.responses(store, study.id)] == [
+    assert [(r.code, r.attribute) for r in service.list_answers(store, study.id)] == [
         (f"{codes[0]} {codes[2]}", "choice")]
     assert any("Thank you, you are done." in s.value for s in at.success)

@@ -22,7 +22,7 @@ def _run(name: str, *, study: int | None = None, **params):
 
 def _ids(db: str) -> dict[str, int]:
     store = service.open_store(db)
-    return {s.method: s.id for s in service.list_studies(store)}
+    return {s.method: s.id for s in service.list_trials(store)}
 
 
 # ------------------------------------------------------------------ rendering
@@ -38,18 +38,18 @@ def test_every_leader_screen_renders_on_the_demo_data(demo_db, name):
 
 @pytest.mark.parametrize("method", ["triangle", "rating", "paired-preference"])
 def test_the_results_screen_renders_each_demo_trial_with_its_decision(demo_db, method):
-    study_id = _ids(demo_db)[method]
-    at = _run("results", study=study_id)
+    trial_id = _ids(demo_db)[method]
+    at = _run("results", study=trial_id)
     assert not at.exception, [e.message for e in at.exception]
-    expected = service.study_decision(service.open_store(demo_db), study_id)
+    expected = service.trial_decision(service.open_store(demo_db), trial_id)
     assert expected.headline in page_text(at)
 
 
 def test_the_results_screen_shows_the_exact_test_of_the_demo_triangle(demo_db):
     store = service.open_store(demo_db)
-    study_id = _ids(demo_db)["triangle"]
-    diff = service.analyse_study(store, study_id).choice.difference
-    at = _run("results", study=study_id)
+    trial_id = _ids(demo_db)["triangle"]
+    diff = service.analyse_trial(store, trial_id).choice.difference
+    at = _run("results", study=trial_id)
     metrics = {m.label: m.value for m in at.metric}
     assert metrics["Correct"] == f"{diff.correct} of {diff.n}"
     # ISO 4120:2021 table of critical values (from memory: n = 27, alpha 0.05 -> 14);
@@ -78,18 +78,18 @@ def test_a_new_trial_is_created_from_the_home_screen(app_db):
     by_label(at.button, "Create the trial").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    studies = service.list_studies(service.open_store(app_db))
+    studies = service.list_trials(service.open_store(app_db))
     assert [(s.name, s.method) for s in studies] == [("Croissant: two butters", "duo-trio")]
-    study = service.get_study(service.open_store(app_db), studies[0].id)
+    study = service.get_trial(service.open_store(app_db), studies[0].id)
     assert [(x.name, x.is_control) for x in study.samples] == [
         ("Cultured butter", True), ("Sweet cream butter", False)]
 
 
-def test_the_set_up_screen_answers_how_many_assessors(small_trials):
+def test_the_set_up_screen_answers_how_many_panelists(small_trials):
     at = _run("trial", study=small_trials["triangle"])
     assert not at.exception, [e.message for e in at.exception]
-    answer = service.planning_answer(small_trials["store"], small_trials["triangle"])
-    assert by_label(at.metric, "You need").value == f"{answer.n} assessors"
+    answer = service.panel_size_needed(small_trials["store"], small_trials["triangle"])
+    assert by_label(at.metric, "You need").value == f"{answer.n} panelists"
 
 
 def test_the_set_up_screen_shows_the_critical_value_table_of_the_method(small_trials):
@@ -103,7 +103,7 @@ def test_the_set_up_screen_shows_the_critical_value_table_of_the_method(small_tr
 
 def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
     store = small_trials["store"]
-    study = service.create_study(store, name="Rice: rinsed or not", method="2afc",
+    study = service.create_trial(store, name="Rice: rinsed or not", method="2afc",
                                  samples=["Unrinsed rice", "Rinsed rice"])
     at = _run("plan", study=study.id)
     assert "No plan drawn yet." in page_text(at)
@@ -118,11 +118,11 @@ def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
 
 
 def test_a_paper_ballot_entered_in_the_grid_is_stored_as_paper_answers(small_trials):
-    store, study_id = small_trials["store"], small_trials["rating"]
-    at = _run("entry", study=study_id)
+    store, trial_id = small_trials["store"], small_trials["rating"]
+    at = _run("entry", study=trial_id)
     grid = at.data_editor[0].value
     first = grid[grid["panelist"] == "T01"].index.tolist()
-    at.session_state[f"paper_{study_id}_1__0"] = {
+    at.session_state[f"paper_{trial_id}_1__0"] = {
         "edited_rows": {str(first[0]): {"overall liking": 7}, str(first[1]): {"overall liking": 4}},
         "added_rows": [], "deleted_rows": [],
     }
@@ -132,46 +132,46 @@ def test_a_paper_ballot_entered_in_the_grid_is_stored_as_paper_answers(small_tri
     at.run()
     assert not at.exception, [e.message for e in at.exception]
     got = sorted((r.panelist_code, r.code, r.value, r.mode.value)
-                 for r in service.responses(store, study_id))
-    cups = [e.code for e in service.plan(store, study_id) if e.panelist_code == "T01"]
+                 for r in service.list_answers(store, trial_id))
+    cups = [e.code for e in service.plan(store, trial_id) if e.panelist_code == "T01"]
     assert got == sorted([("T01", cups[0], "7", "paper"), ("T01", cups[1], "4", "paper")])
 
 
 def test_the_paper_grid_refuses_a_score_off_the_scale_and_saves_nothing(small_trials):
-    store, study_id = small_trials["store"], small_trials["rating"]
-    at = _run("entry", study=study_id)
-    at.session_state[f"paper_{study_id}_1__0"] = {
+    store, trial_id = small_trials["store"], small_trials["rating"]
+    at = _run("entry", study=trial_id)
+    at.session_state[f"paper_{trial_id}_1__0"] = {
         "edited_rows": {"0": {"overall liking": 12}}, "added_rows": [], "deleted_rows": [],
     }
     at.run()
     assert any("expected a whole number from 1 to 9" in e.value for e in at.error)
     assert by_label(at.button, "Save the answers").disabled
-    assert service.responses(store, study_id) == []
+    assert service.list_answers(store, trial_id) == []
 
 
 def test_the_paper_grid_refuses_a_code_not_served_to_that_panelist(small_trials):
-    store, study_id = small_trials["store"], small_trials["triangle"]
-    served = {e.code for e in service.plan(store, study_id)}
+    store, trial_id = small_trials["store"], small_trials["triangle"]
+    served = {e.code for e in service.plan(store, trial_id)}
     foreign = next(f"{n:03d}" for n in range(100, 1000) if f"{n:03d}" not in served)
-    at = _run("entry", study=study_id)
-    at.session_state[f"paper_{study_id}_1__0"] = {
+    at = _run("entry", study=trial_id)
+    at.session_state[f"paper_{trial_id}_1__0"] = {
         "edited_rows": {"0": {"chosen": foreign}}, "added_rows": [], "deleted_rows": [],
     }
     at.run()
     assert any("is not a code served to panelist" in e.value for e in at.error)
-    assert service.responses(store, study_id) == []
+    assert service.list_answers(store, trial_id) == []
 
 
 def test_recording_a_decision_stores_it_with_its_rationale(demo_db):
     store = service.open_store(demo_db)
-    study_id = _ids(demo_db)["paired-preference"]
-    at = _run("decision", study=study_id)
+    trial_id = _ids(demo_db)["paired-preference"]
+    at = _run("decision", study=trial_id)
     by_label(at.text_input, "Decision").input("Serve the roasted-tomato soup.")
     by_label(at.text_area, "Rationale").input("More guests chose it; cost is the same.")
     by_label(at.button, "Record the decision").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    study = service.get_study(store, study_id)
+    study = service.get_trial(store, trial_id)
     assert (study.decision, study.rationale, study.status.value) == (
         "Serve the roasted-tomato soup.", "More guests chose it; cost is the same.", "decided")
 
@@ -234,22 +234,22 @@ def test_after_repeated_wrong_passcodes_even_the_right_one_must_wait(demo_db, mo
 
 def test_a_panelist_link_does_not_open_a_leader_screen(demo_db):
     store = service.open_store(demo_db)
-    token = next(iter(service.study_overview(store, 1).links.values())).split("t=")[1]
+    token = next(iter(service.trial_overview(store, 1).links.values())).split("t=")[1]
     at = _run("results", study=1, t=token)
     assert [e.value for e in at.error] == ["This link opens a tasting ballot only."]
     assert not at.metric and not at.dataframe
 
 
 def test_the_results_screen_shows_panel_performance_when_asked(demo_db):
-    study_id = _ids(demo_db)["rating"]
-    at = _run("results", study=study_id)
+    trial_id = _ids(demo_db)["rating"]
+    at = _run("results", study=trial_id)
     assert "Show panel performance" in [t.label for t in at.toggle]
     n_tables = len(at.dataframe)
     at.toggle(key="perf_show").set_value(True)
     at.run()
     assert not at.exception, [e.message for e in at.exception]
     attribute = at.selectbox(key="perf_attribute").value
-    perf = service.panel_performance_of(service.open_store(demo_db), study_id, attribute)
+    perf = service.panel_performance_of(service.open_store(demo_db), trial_id, attribute)
     assert len(at.dataframe) == n_tables + 1
     codes = [p.panelist for p in perf.panelists]
     shown = [df.value for df in at.dataframe
@@ -258,18 +258,18 @@ def test_the_results_screen_shows_panel_performance_when_asked(demo_db):
 
 
 def test_the_set_up_screen_saves_the_risks_and_the_aim(small_trials):
-    store, study_id = small_trials["store"], small_trials["triangle"]
-    at = _run("trial", study=study_id)
+    store, trial_id = small_trials["store"], small_trials["triangle"]
+    at = _run("trial", study=trial_id)
     by_label(at.radio, "What the test must show").set_value("similarity")
     by_label(at.number_input, "beta (risk of missing the difference)").set_value(0.05)
     by_label(at.number_input, "pd: proportion of discriminators that matters").set_value(0.25)
     by_label(at.button, "Save the set-up").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    study = service.get_study(store, study_id)
+    study = service.get_trial(store, trial_id)
     assert (study.aim, study.beta, study.pd) == ("similarity", 0.05, 0.25)
-    answer = service.planning_answer(store, study_id)
-    assert by_label(at.metric, "You need").value == f"{answer.n} assessors"
+    answer = service.panel_size_needed(store, trial_id)
+    assert by_label(at.metric, "You need").value == f"{answer.n} panelists"
 
 
 def test_the_decision_screen_prepares_the_report_for_download(demo_db):
@@ -284,8 +284,8 @@ def test_the_decision_screen_prepares_the_report_for_download(demo_db):
 
 
 def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials):
-    store, study_id = small_trials["store"], small_trials["rating"]
-    at = _run("samples", study=study_id)
+    store, trial_id = small_trials["store"], small_trials["rating"]
+    at = _run("samples", study=trial_id)
     by_label(at.selectbox, "Sample").select("Einkorn flatbread")
     by_label(at.text_input, "Batch label").input("E1")
     at.session_state["batch_values"] = {
@@ -296,7 +296,7 @@ def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials)
     by_label(at.button, "Record the batch").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    (batch,) = service.list_batches(store, study_id)
+    (batch,) = service.list_batches(store, trial_id)
     assert (batch.sample_name, batch.label, batch.signed_off) == ("Einkorn flatbread", "E1", False)
     assert [(m.name, m.value, m.unit) for m in batch.settings] == [("oven temperature", 260.0, "°C")]
     assert [(m.name, m.value, m.unit) for m in batch.measures] == [("moisture", 31.5, "%")]
@@ -304,7 +304,7 @@ def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials)
     by_label(at.text_input, "Signed off by").input("Head chef on duty")
     by_label(at.button, "Sign off").click()
     at.run()
-    (batch,) = service.list_batches(store, study_id)
+    (batch,) = service.list_batches(store, trial_id)
     assert batch.safety_signed_by == "Head chef on duty"
     assert not any("not signed off" in w.value for w in at.warning)
 
@@ -342,7 +342,7 @@ def test_the_plan_screen_warns_of_an_allergen_conflict_and_leaves_that_panelist_
 
     store = small_trials["store"]
     service.add_panelist(store, "T07", allergens="sesame", consent_on=dt.date(2026, 1, 5))
-    study = service.create_study(store, name="Hummus: two tahinis", method="triangle",
+    study = service.create_trial(store, name="Hummus: two tahinis", method="triangle",
                                  samples=[Sample("Light tahini hummus", allergens=("sesame",)),
                                           Sample("Dark tahini hummus", allergens=("sesame",))])
     at = _run("plan", study=study.id)

@@ -44,7 +44,7 @@ def test_a_whole_triangle_test_from_an_empty_store_through_the_screens(app_db):
 
     _new_trial("Shortbread: salted vs cultured butter", "triangle",
                "Salted butter shortbread", "Cultured butter shortbread")
-    (study,) = service.list_studies(store)
+    (study,) = service.list_trials(store)
 
     _add_panel(PANEL)
     assert sorted(p.code for p in service.list_panelists(store)) == PANEL
@@ -72,7 +72,7 @@ def test_a_whole_triangle_test_from_an_empty_store_through_the_screens(app_db):
     by_label(at.button, "Save the answers").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert len(service.responses(store, study.id)) == len(PANEL)
+    assert len(service.list_answers(store, study.id)) == len(PANEL)
 
     at = _page("results", study.id)
     assert not at.exception, [e.message for e in at.exception]
@@ -90,7 +90,7 @@ def test_a_whole_rated_trial_from_an_empty_store_through_the_screens(app_db):
 
     store = service.open_store(app_db)
     _new_trial("Flapjack: three oat cuts", "rating", "Rolled oats", "Jumbo oats")
-    (study,) = service.list_studies(store)
+    (study,) = service.list_trials(store)
 
     at = _page("samples", study.id)
     by_label(at.text_input, "Sample name").input("Steel-cut oats")
@@ -100,7 +100,7 @@ def test_a_whole_rated_trial_from_an_empty_store_through_the_screens(app_db):
     by_label(at.button, "Add the attribute").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    got = service.get_study(store, study.id)
+    got = service.get_trial(store, study.id)
     assert [s.name for s in got.samples] == ["Rolled oats", "Jumbo oats", "Steel-cut oats"]
     assert [(a.name, a.low, a.high) for a in got.attributes] == [("overall liking", 1, 9)]
 
@@ -129,12 +129,12 @@ def test_a_whole_rated_trial_from_an_empty_store_through_the_screens(app_db):
     by_label(at.button, "Save the answers").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert len(service.responses(store, study.id)) == 18
+    assert len(service.list_answers(store, study.id)) == 18
 
     at = _page("results", study.id)
     assert not at.exception, [e.message for e in at.exception]
     text = page_text(at)
-    frame = service.responses_frame(store, study.id)
+    frame = service.answers_frame(store, study.id)
     result = rating_anova(frame, score="score", sample="sample", panelist="panelist")
     assert result.groups == {"Steel-cut oats": "a", "Jumbo oats": "b", "Rolled oats": "c"}
     assert "the samples differ" in text

@@ -22,7 +22,7 @@ def _fresh_rating_trial(db: str) -> tuple[int, str, list[str], list[str]]:
     store = service.open_store(db)
     service.add_panelist(store, "W01", consent_on=dt.date(2026, 2, 1))
     names = ["Oat milk custard", "Almond milk custard", "Dairy custard"]
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Custard: three milks", method="rating",
         samples=[Sample(names[2], is_control=True), Sample(names[0]), Sample(names[1])],
         attributes=[Attribute("overall liking", low=1, high=9,
@@ -58,7 +58,7 @@ def _score(page, session: str, code: str, attribute: int, point: int) -> None:
 
 def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server, tablet, shots):
     url, db = app_server
-    study_id, token, cups, names = _fresh_rating_trial(db)
+    trial_id, token, cups, names = _fresh_rating_trial(db)
     page = tablet
     page.goto(f"{url}/taste?t={token}")
     _wait_text(page, "Cup 1 of 3")
@@ -70,7 +70,7 @@ def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server,
     page.locator(f".st-key-score_1_{cups[0]}_0_7 button[kind='primary']").wait_for(timeout=TIMEOUT)
     page.screenshot(path=shots / "2-one-score-saved.png", full_page=True)
     store = service.open_store(db)
-    assert [(r.code, r.attribute, r.value) for r in service.responses(store, study_id)] == [
+    assert [(r.code, r.attribute, r.value) for r in service.list_answers(store, trial_id)] == [
         (cups[0], "overall liking", "7")]
 
     _score(page, "1", cups[0], 1, 3)
@@ -97,7 +97,7 @@ def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server,
     page.screenshot(path=shots / "5-done.png", full_page=True)
     body = _body(page)
     assert not any(n in body for n in names), "a sample name reached the tasting screen"
-    assert len(service.responses(store, study_id)) == 3 * 2
+    assert len(service.list_answers(store, trial_id)) == 3 * 2
 
 
 def test_a_bad_tasting_link_shows_an_error_in_the_browser(app_server, tablet, shots):
@@ -112,8 +112,8 @@ def test_leader_screens_refuse_without_the_passcode(tmp_path, browser, shots):
     url, proc, db = start_app(tmp_path, passcode="rye-and-caraway")
     try:
         store = service.open_store(db)
-        names = [x.name for s in service.list_studies(store)
-                 for x in service.get_study(store, s.id).samples]
+        names = [x.name for s in service.list_trials(store)
+                 for x in service.get_trial(store, s.id).samples]
         context = browser.new_context(viewport={"width": 1280, "height": 900})
         page = context.new_page()
         for path in ("/", "/results?study=1", "/plan?study=1"):
@@ -144,13 +144,13 @@ def test_every_leader_screen_opens_in_the_browser_without_an_error(app_server, b
 
     url, db = app_server
     store = service.open_store(db)
-    study_id = next(s.id for s in service.list_studies(store) if s.method == method)
+    trial_id = next(s.id for s in service.list_trials(store) if s.method == method)
     # tall, so that a screenshot holds the whole screen (the app scrolls inside itself)
     context = browser.new_context(viewport={"width": 1366, "height": 2600})
     page = context.new_page()
     for i, (name, title, _) in enumerate(ui.LEADER_PAGES):
         path = "" if i == 0 else name  # the default page is served at the root
-        page.goto(f"{url}/{path}?study={study_id}")
+        page.goto(f"{url}/{path}?study={trial_id}")
         page.get_by_text("Single-user mode").first.wait_for(timeout=TIMEOUT)
         _settled(page)
         page.screenshot(path=shots / f"{i}-{name}.png", full_page=True)

@@ -19,7 +19,7 @@ def roster(store, n: int, *, allergens: dict[str, tuple[str, ...]] | None = None
 
 
 def rating_trial(store, codes: list[str], *, seed: int = 7) -> int:
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Test rating: three glazes", method="rating",
         samples=[Sample("Glaze A", is_control=True), Sample("Glaze B"), Sample("Glaze C")],
         attributes=[Attribute("overall liking", AttributeKind.HEDONIC, 1, 9),
@@ -31,7 +31,7 @@ def rating_trial(store, codes: list[str], *, seed: int = 7) -> int:
 
 
 def triangle_trial(store, codes: list[str], *, seed: int = 3) -> int:
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Test triangle: two proofs", method="triangle",
         samples=[Sample("Usual", is_control=True), Sample("Short")], by="test",
     )
@@ -40,7 +40,7 @@ def triangle_trial(store, codes: list[str], *, seed: int = 3) -> int:
 
 
 def ranking_trial(store, codes: list[str], *, seed: int = 5) -> int:
-    study = service.create_study(
+    study = service.create_trial(
         store, name="Test ranking: four crumbs", method="ranking",
         samples=[Sample(f"Crumb {k}") for k in "ABCD"], by="test",
     )

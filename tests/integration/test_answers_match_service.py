@@ -25,7 +25,7 @@ SAMPLES = {
 def _trial(store, method):
     codes = roster(store, 6)
     attrs = ([Attribute("liking", AttributeKind.HEDONIC, 1, 9)] if method == "rating" else [])
-    study = service.create_study(
+    study = service.create_trial(
         store, name=f"Check {method}", method=method,
         samples=[Sample(f"Sample {i}") for i in range(SAMPLES[method])], attributes=attrs,
         by="test")
@@ -54,9 +54,9 @@ def _candidates(spec, plan, panelist):
 
 @pytest.mark.parametrize("method", list(SAMPLES))
 def test_every_answer_is_decided_as_the_service_decides_it(store, method):
-    study_id, codes = _trial(store, method)
-    study = service.get_study(store, study_id)
-    plan = service.plan(store, study_id)
+    trial_id, codes = _trial(store, method)
+    study = service.get_trial(store, trial_id)
+    plan = service.plan(store, trial_id)
     spec = get_method(method)
     checker = answers.AnswerChecker.for_trial(study, plan, sessions=["1"])
     for args in _candidates(spec, plan, codes[0]):
@@ -65,7 +65,7 @@ def test_every_answer_is_decided_as_the_service_decides_it(store, method):
         except AnswerError as exc:
             mine = str(exc)
         try:
-            r = service.record_response(store, study_id, session=args[0], panelist_code=args[1],
+            r = service.enter_answer(store, trial_id, session=args[0], panelist_code=args[1],
                                         code=args[2], attribute=args[3], value=args[4])
             theirs = (r.code, r.value)
         except TrialsError as exc:
@@ -77,22 +77,22 @@ def test_every_answer_is_decided_as_the_service_decides_it(store, method):
 
 @pytest.mark.parametrize("method", ["triangle", "paired-preference", "rating", "ranking"])
 def test_the_paper_grid_and_the_progress_are_the_services(store, method):
-    study_id, codes = _trial(store, method)
-    study = service.get_study(store, study_id)
-    plan = service.plan(store, study_id)
+    trial_id, codes = _trial(store, method)
+    study = service.get_trial(store, trial_id)
+    plan = service.plan(store, trial_id)
     spec = get_method(method)
     first = min((e for e in plan if e.panelist_code == codes[1]), key=lambda e: e.position)
     attribute = ("choice" if spec.is_forced_choice else
                  "rank" if method == "ranking" else "liking")
-    service.record_response(store, study_id, panelist_code=codes[1], code=first.code,
+    service.enter_answer(store, trial_id, panelist_code=codes[1], code=first.code,
                             attribute=attribute, value="" if spec.is_forced_choice else "2")
-    got = service.responses(store, study_id)
+    got = service.list_answers(store, trial_id)
     names = [a.name for a in study.attributes]
-    mine = answers.paper_sheet(spec, service.plan(store, study_id, "1"), got, names)
-    pd.testing.assert_frame_equal(mine, service.paper_sheet(store, study_id, "1"))
+    mine = answers.paper_sheet(spec, service.plan(store, trial_id, "1"), got, names)
+    pd.testing.assert_frame_equal(mine, service.paper_sheet(store, trial_id, "1"))
     progress = answers.answer_progress(spec, plan, got, attributes=len(study.attributes))
-    pd.testing.assert_frame_equal(progress, service.answer_progress(store, study_id))
+    pd.testing.assert_frame_equal(progress, service.answer_progress(store, trial_id))
     checker = answers.AnswerChecker.for_trial(study, plan, sessions=["1"])
     grid = mine.copy()
     assert answers.sheet_problems(checker, "1", grid) == service.check_paper_sheet(
-        store, study_id, "1", grid)
+        store, trial_id, "1", grid)

@@ -68,5 +68,6 @@ def test_a_signal_to_the_app_process_stops_the_server_and_frees_the_port(tmp_pat
     finally:
         if proc.poll() is None:
             proc.kill()
-    with socket.socket() as s:  # the port is free again: no child kept it
+    with socket.socket() as s:  # the port is free again: no child still listens on it
+        s.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)  # TIME_WAIT is no listener
         s.bind(("127.0.0.1", port))

@@ -34,8 +34,8 @@ def test_a_malformed_response_file_is_refused_with_a_reason(store, tmp_path, tex
     path = tmp_path / "answers.csv"
     path.write_bytes(text.format(c=_cups(store, sid)[0]).encode())
     with pytest.raises(TrialsError, match=says):
-        service.import_responses(store, sid, str(path))
-    assert service.responses(store, sid) == []
+        service.import_answers(store, sid, str(path))
+    assert service.list_answers(store, sid) == []
 
 
 @pytest.mark.parametrize("score", ["inf", "-inf", "1e400", "nan"])
@@ -46,14 +46,14 @@ def test_a_score_that_is_not_finite_is_a_bad_row_on_every_way_in(store, tmp_path
     path = tmp_path / "answers.csv"
     path.write_text(HEADER + f"1,T01,{code},overall liking,{score},\n")
     with pytest.raises(ImportRowsError, match="expected a whole number from 1 to 9"):
-        service.import_responses(store, sid, str(path))
+        service.import_answers(store, sid, str(path))
     with pytest.raises(TrialsError, match="expected a whole number"):
-        service.record_response(store, sid, panelist_code="T01", code=code,
+        service.enter_answer(store, sid, panelist_code="T01", code=code,
                                 attribute="overall liking", value=score)
     token = service.panelist_token(store, sid, "T01")
     with pytest.raises(TrialsError, match="expected a whole number"):
         service.record_answer(store, token, code=code, attribute="overall liking", value=score)
-    assert service.responses(store, sid) == []
+    assert service.list_answers(store, sid) == []
 
 
 def test_an_entry_time_whose_offset_overflows_is_a_bad_row(store, tmp_path):
@@ -63,16 +63,16 @@ def test_an_entry_time_whose_offset_overflows_is_a_bad_row(store, tmp_path):
     path.write_text("session,panelist,code,attribute,value,entered_at\n"
                     f"1,T01,{_cups(store, sid)[0]},overall liking,5,0001-01-01T00:00:00+05:00\n")
     with pytest.raises(ImportRowsError, match="column 'entered_at'"):
-        service.import_responses(store, sid, str(path))
+        service.import_answers(store, sid, str(path))
 
 
 @pytest.mark.parametrize("make, says", [
-    (lambda st: service.create_study(st, name="x" * 201, method="triangle"),
+    (lambda st: service.create_trial(st, name="x" * 201, method="triangle"),
      "the trial's name may hold at most 200 characters"),
-    (lambda st: service.create_study(st, name="Crumb", method="triangle",
+    (lambda st: service.create_trial(st, name="Crumb", method="triangle",
                                      samples=[Sample("a" * 201)]),
      "a sample's name may hold at most 200"),
-    (lambda st: service.create_study(st, name="Crumb\x00", method="triangle"),
+    (lambda st: service.create_trial(st, name="Crumb\x00", method="triangle"),
      "NUL character"),
     (lambda st: service.add_panelist(st, "P" * 41), "a panelist code may hold at most 40"),
     (lambda st: service.add_panelist(st, "P1", allergens=[f"allergen {i:03d}" for i in range(40)]),
@@ -81,7 +81,7 @@ def test_an_entry_time_whose_offset_overflows_is_a_bad_row(store, tmp_path):
 def test_a_text_too_long_or_holding_nul_is_refused_alike_on_both_stores(store, make, says):
     with pytest.raises(TrialsError, match=says):
         make(store)
-    assert service.list_studies(store) == [] and service.list_panelists(store) == []
+    assert service.list_trials(store) == [] and service.list_panelists(store) == []
 
 
 def test_a_roster_file_with_an_overlong_code_imports_nothing(store, tmp_path):
@@ -102,10 +102,10 @@ def test_every_export_imports_back_and_holds_no_live_formula(store, tmp_path, fm
     for e in service.plan(store, sid):
         first.setdefault(e.panelist_code, e.code)
     for p, code in first.items():
-        service.record_response(store, sid, panelist_code=p, code=code, attribute="choice",
+        service.enter_answer(store, sid, panelist_code=p, code=code, attribute="choice",
                                 comment="fine\r=1+1" if p == "=P1" else "")
     path = tmp_path / f"answers.{fmt}"
-    assert service.export_responses(store, sid, path, fmt=fmt) == 4
+    assert service.export_answers(store, sid, path, fmt=fmt) == 4
     if fmt == "csv":
         # the carriage return stays inside its quoted cell: one header and four records
         assert len(read_table(path)) == 4
@@ -114,8 +114,8 @@ def test_every_export_imports_back_and_holds_no_live_formula(store, tmp_path, fm
     cells = read_table(path)
     assert sorted(cells["panelist"]) == sorted(odd)
     # the same trial takes its own export back: every answer is already on file
-    assert service.import_responses(store, sid, str(path)) == 0
-    assert len(service.responses(store, sid)) == 4
+    assert service.import_answers(store, sid, str(path)) == 0
+    assert len(service.list_answers(store, sid)) == 4
 
 
 def test_a_guarded_cell_in_a_file_is_read_as_the_text_it_guards():

@@ -35,10 +35,10 @@ def demo_url(tmp_path_factory):
 
 def test_the_demo_seeds_its_four_trials_once(demo_url):
     store = service.open_store(demo_url)
-    first = service.list_studies(store)
+    first = service.list_trials(store)
     again = seed_demo(store)
     assert sorted(s.id for s in again) == sorted(s.id for s in first)
-    assert len(service.list_studies(store)) == 4
+    assert len(service.list_trials(store)) == 4
     assert len(service.list_panelists(store)) == 30
     for s in first:
         assert all(b.signed_off for b in service.list_batches(store, s.id))
@@ -47,8 +47,8 @@ def test_the_demo_seeds_its_four_trials_once(demo_url):
 
 def test_the_demo_triangle_shows_a_difference_by_the_exact_binomial_test(demo_url):
     store = service.open_store(demo_url)
-    sid = next(s.id for s in service.list_studies(store) if s.method == "triangle")
-    frame = service.responses_frame(store, sid)
+    sid = next(s.id for s in service.list_trials(store) if s.method == "triangle")
+    frame = service.answers_frame(store, sid)
     correct = sum(p.count(r) == 1 for p, r in zip(frame["pattern"], frame["role"], strict=True))
     assert (correct, len(frame)) == (16, 27)
     # scipy.stats.binomtest, one-sided against the triangle's guessing probability 1/3
@@ -59,8 +59,8 @@ def test_the_demo_triangle_shows_a_difference_by_the_exact_binomial_test(demo_ur
 
 def test_the_demo_coatings_differ_in_crispness_but_not_in_saltiness(demo_url):
     store = service.open_store(demo_url)
-    sid = next(s.id for s in service.list_studies(store) if s.name == demo.COATINGS)
-    frame = service.responses_frame(store, sid)
+    sid = next(s.id for s in service.list_trials(store) if s.name == demo.COATINGS)
+    frame = service.answers_frame(store, sid)
     assert frame["panelist"].nunique() == 12 and frame["sample"].nunique() == 4
     p = {}
     for attr in ("crispness", "saltiness", "overall liking"):
@@ -113,9 +113,9 @@ def test_a_bad_import_on_the_cli_exits_2_naming_each_bad_row(tmp_path, capsys):
     url = f"sqlite:///{tmp_path / 'cli.db'}"
     _run(capsys, "demo", "--db", url, "--json")
     store = service.open_store(url)
-    sid = next(s.id for s in service.list_studies(store) if s.name == demo.COATINGS)
+    sid = next(s.id for s in service.list_trials(store) if s.name == demo.COATINGS)
     e = service.plan(store, sid)[0]
-    before = len(service.responses(store, sid))
+    before = len(service.list_answers(store, sid))
     bad = tmp_path / "bad.csv"
     bad.write_text("session,panelist,code,attribute,value\n"
                    f"1,{e.panelist_code},{e.code},crispness,12\n"
@@ -125,5 +125,5 @@ def test_a_bad_import_on_the_cli_exits_2_naming_each_bad_row(tmp_path, capsys):
     assert code == 2 and out == ""
     assert "row 2, column 'value': expected a whole number from 1 to 9, got '12'" in err
     assert "row 3, column 'panelist': panelist 'P99' has no serving plan" in err
-    assert len(service.responses(store, sid)) == before
+    assert len(service.list_answers(store, sid)) == before
     store.close()

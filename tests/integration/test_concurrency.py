@@ -26,7 +26,7 @@ def _trial(store) -> int:
     codes = [f"C{i:02d}" for i in range(1, PANEL + 1)]
     for c in codes:
         service.add_panelist(store, c, consent_on="2026-01-01")
-    sid = service.create_study(
+    sid = service.create_trial(
         store, name="Concurrency: four breads", method="rating",
         samples=[Sample(f"Bread {k}") for k in "ABCD"],
         attributes=[Attribute(n, AttributeKind.INTENSITY, 1, 9)
@@ -54,7 +54,7 @@ def _answer_all(url: str, token: str) -> int:
 
 
 def _check_complete(store, sid) -> None:
-    rows = service.responses(store, sid)
+    rows = service.list_answers(store, sid)
     keys = [(r.panelist_code, r.code, r.attribute) for r in rows]
     assert len(rows) == PANEL * 12
     assert len(set(keys)) == len(keys)
@@ -132,9 +132,9 @@ def test_a_writer_killed_mid_transaction_leaves_the_store_consistent(db_url):
     store = service.open_store(db_url)
     sid = _trial(store)
     e = service.plan(store, sid)[0]
-    service.record_response(store, sid, panelist_code=e.panelist_code, code=e.code,
+    service.enter_answer(store, sid, panelist_code=e.panelist_code, code=e.code,
                             attribute="crust", value=4)
-    before = service.responses(store, sid)
+    before = service.list_answers(store, sid)
     child = subprocess.Popen([sys.executable, "-c", KILLED.format(root=str(ROOT)), db_url,
                               str(sid)], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     line = child.stdout.readline()
@@ -144,7 +144,7 @@ def test_a_writer_killed_mid_transaction_leaves_the_store_consistent(db_url):
     assert child.returncode == -signal.SIGKILL
     if store.dialect == "postgresql":
         time.sleep(0.5)  # the server notices the dropped connection and rolls back
-    assert service.responses(store, sid) == before
+    assert service.list_answers(store, sid) == before
     with store.engine.connect() as conn:
         assert conn.execute(sa.text("SELECT count(*) FROM response WHERE entered_by = 'killed'")
                             ).scalar() == 0
@@ -152,7 +152,7 @@ def test_a_writer_killed_mid_transaction_leaves_the_store_consistent(db_url):
             assert conn.exec_driver_sql("PRAGMA integrity_check").scalar() == "ok"
     # the lock is gone: the next writer gets through at once
     e2 = service.plan(store, sid)[1]
-    service.record_response(store, sid, panelist_code=e2.panelist_code, code=e2.code,
+    service.enter_answer(store, sid, panelist_code=e2.panelist_code, code=e2.code,
                             attribute="crust", value=6)
-    assert len(service.responses(store, sid)) == 2
+    assert len(service.list_answers(store, sid)) == 2
     store.close()

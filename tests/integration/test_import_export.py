@@ -35,28 +35,28 @@ def test_a_good_file_imports_every_row_once(store, tmp_path):
     codes = roster(store, 4)
     sid = rating_trial(store, codes)
     path = _write(tmp_path, _full_file(store, sid, codes))
-    assert service.import_responses(store, sid, path) == 4 * 3 * 2
-    assert service.import_responses(store, sid, path) == 0  # already on file: recorded once
-    assert len(service.responses(store, sid)) == 24
-    assert {r.mode.value for r in service.responses(store, sid)} == {"import"}
+    assert service.import_answers(store, sid, path) == 4 * 3 * 2
+    assert service.import_answers(store, sid, path) == 0  # already on file: recorded once
+    assert len(service.list_answers(store, sid)) == 24
+    assert {r.mode.value for r in service.list_answers(store, sid)} == {"import"}
 
 
 @pytest.mark.parametrize("fmt", ["csv", "xlsx"])
 def test_an_exported_file_imports_back_into_an_identical_store(store, tmp_path, fmt):
     codes = roster(store, 4)
     sid = rating_trial(store, codes)
-    service.import_responses(store, sid, _write(tmp_path, _full_file(store, sid, codes)))
+    service.import_answers(store, sid, _write(tmp_path, _full_file(store, sid, codes)))
     out = tmp_path / f"export.{fmt}"
-    assert service.export_responses(store, sid, out, fmt=fmt) == 24
-    exported = service.responses(store, sid)
-    assert service.import_responses(store, sid, out) == 0
-    assert service.responses(store, sid) == exported
+    assert service.export_answers(store, sid, out, fmt=fmt) == 24
+    exported = service.list_answers(store, sid)
+    assert service.import_answers(store, sid, out) == 0
+    assert service.list_answers(store, sid) == exported
     frame = pd.read_csv(out, dtype=str) if fmt == "csv" else pd.read_excel(out, dtype=str)
     key = {(e.panelist_code, e.code): e.sample_name for e in service.plan(store, sid)}
     assert all(key[(r.panelist, r.code)] == r.sample for r in frame.itertuples())
     # into a fresh store holding the same plan (an archive copy without answers) it adds all
     copy = service.import_archive(store, service.export_archive(store, sid))
-    assert len(service.responses(store, copy)) == 24
+    assert len(service.list_answers(store, copy)) == 24
 
 
 def test_a_file_with_a_byte_order_mark_and_semicolons_imports(store, tmp_path):
@@ -64,7 +64,7 @@ def test_a_file_with_a_byte_order_mark_and_semicolons_imports(store, tmp_path):
     sid = rating_trial(store, codes)
     text = _full_file(store, sid, codes).replace(",", ";")
     path = _write(tmp_path, "\ufeff" + text)
-    assert service.import_responses(store, sid, path) == 12
+    assert service.import_answers(store, sid, path) == 12
 
 
 def test_a_windows_1252_file_keeps_its_accents(store, tmp_path):
@@ -73,8 +73,8 @@ def test_a_windows_1252_file_keeps_its_accents(store, tmp_path):
     c = _cups(store, sid)[0]
     path = _write(tmp_path, HEADER + f"1,T01,{c},sweetness,4,crème brûlée note\n",
                   encoding="cp1252")
-    assert service.import_responses(store, sid, path) == 1
-    assert service.responses(store, sid)[0].comment == "crème brûlée note"
+    assert service.import_answers(store, sid, path) == 1
+    assert service.list_answers(store, sid)[0].comment == "crème brûlée note"
 
 
 def test_a_utf16_file_is_refused_with_advice(store, tmp_path):
@@ -82,8 +82,8 @@ def test_a_utf16_file_is_refused_with_advice(store, tmp_path):
     sid = rating_trial(store, codes)
     path = _write(tmp_path, _full_file(store, sid, codes), encoding="utf-16")
     with pytest.raises(TrialsError, match="UTF-16; save it as CSV UTF-8"):
-        service.import_responses(store, sid, path)
-    assert service.responses(store, sid) == []
+        service.import_answers(store, sid, path)
+    assert service.list_answers(store, sid) == []
 
 
 def test_a_missing_column_is_named_and_nothing_is_imported(store, tmp_path):
@@ -92,14 +92,14 @@ def test_a_missing_column_is_named_and_nothing_is_imported(store, tmp_path):
     c = _cups(store, sid)[0]
     path = _write(tmp_path, f"session,panelist,code,score\n1,T01,{c},4\n")
     with pytest.raises(ImportRowsError) as err:
-        service.import_responses(store, sid, path)
+        service.import_answers(store, sid, path)
     assert err.value.problems == [
         "row 1 (the header): missing column 'attribute'; the file has columns "
         "'session', 'panelist', 'code', 'score'",
         "row 1 (the header): missing column 'value'; the file has columns "
         "'session', 'panelist', 'code', 'score'",
     ]
-    assert service.responses(store, sid) == []
+    assert service.list_answers(store, sid) == []
 
 
 def test_every_bad_row_is_named_and_no_row_is_imported(store, tmp_path):
@@ -108,7 +108,7 @@ def test_every_bad_row_is_named_and_no_row_is_imported(store, tmp_path):
     c1, c2, c3 = _cups(store, sid, "T01")
     other = next(e.code for e in service.plan(store, sid) if e.code not in (c1, c2, c3)) \
         if len({e.code for e in service.plan(store, sid)}) > 3 else "998"
-    service.record_response(store, sid, panelist_code="T02", code=_cups(store, sid, "T02")[0],
+    service.enter_answer(store, sid, panelist_code="T02", code=_cups(store, sid, "T02")[0],
                             attribute="sweetness", value=5, entered_by="leader")
     rows = [
         f"1,T01,{c1},overall liking,7,fine",           # row 2: good
@@ -124,7 +124,7 @@ def test_every_bad_row_is_named_and_no_row_is_imported(store, tmp_path):
     ]
     path = _write(tmp_path, HEADER + "\n".join(rows) + "\n")
     with pytest.raises(ImportRowsError) as err:
-        service.import_responses(store, sid, path)
+        service.import_answers(store, sid, path)
     problems = err.value.problems
     assert problems[0] == "row 3, column 'value': expected a whole number from 1 to 9, got '12'"
     assert problems[1] == "row 4, column 'panelist': panelist 'T99' has no serving plan in this trial"
@@ -138,7 +138,7 @@ def test_every_bad_row_is_named_and_no_row_is_imported(store, tmp_path):
     assert problems[7] == "row 10, column 'session': expected one of the sessions '1', got '2'"
     assert len(problems) == 8
     assert "8 bad row(s); nothing imported" in str(err.value)
-    assert len(service.responses(store, sid)) == 1  # only the answer entered before
+    assert len(service.list_answers(store, sid)) == 1  # only the answer entered before
 
 
 def test_a_triangle_file_takes_one_choice_per_panelist(store, tmp_path):
@@ -149,28 +149,28 @@ def test_a_triangle_file_takes_one_choice_per_panelist(store, tmp_path):
     path = _write(tmp_path, HEADER + f"1,T01,{a},choice,,\n1,T01,{b},choice,,\n"
                   f"1,T02,{t2[0]} {t2[1]},choice,,\n1,T03,,choice,no preference,\n")
     with pytest.raises(ImportRowsError) as err:
-        service.import_responses(store, sid, path)
+        service.import_answers(store, sid, path)
     assert [p.split(":")[0] for p in err.value.problems] == [
         "row 3", "row 4, column 'code'", "row 5, column 'value'"]
     assert "expected one code, got" in err.value.problems[1]
-    assert service.responses(store, sid) == []
+    assert service.list_answers(store, sid) == []
 
 
 def test_formula_like_comments_are_neutralised_on_export(store, tmp_path):
     codes = roster(store, 1)
     sid = rating_trial(store, codes)
     c = _cups(store, sid)[0]
-    service.record_response(store, sid, panelist_code="T01", code=c, attribute="sweetness",
+    service.enter_answer(store, sid, panelist_code="T01", code=c, attribute="sweetness",
                             value=4, comment="=HYPERLINK(\"x\")", entered_by="leader")
     out = tmp_path / "x.csv"
-    service.export_responses(store, sid, out)
+    service.export_answers(store, sid, out)
     assert pd.read_csv(out, dtype=str)["comment"].tolist() == ["'=HYPERLINK(\"x\")"]
 
 
 def test_an_unknown_export_format_is_refused(store, tmp_path):
     sid = rating_trial(store, roster(store, 1))
     with pytest.raises(TrialsError, match="'pdf'"):
-        service.export_responses(store, sid, tmp_path / "x.pdf", fmt="pdf")
+        service.export_answers(store, sid, tmp_path / "x.pdf", fmt="pdf")
 
 
 def test_a_roster_and_batch_measures_import_from_csv(store, tmp_path):
@@ -187,7 +187,7 @@ def test_a_roster_and_batch_measures_import_from_csv(store, tmp_path):
     assert err.value.problems[1] == "row 3, column 'code': 'R3' repeats row 2"
     assert "R3" not in {p.code for p in service.list_panelists(store)}
 
-    sid = service.create_study(store, name="Chicken", method="rating", samples=["A", "B"]).id
+    sid = service.create_trial(store, name="Chicken", method="rating", samples=["A", "B"]).id
     csv = ("sample,batch,kind,name,value,unit\nA,F1,setting,fryer temperature,175,°C\n"
            "A,F1,measure,yield,74.2,%\nB,F1,measure,yield,71.0,%\n")
     assert service.import_batches(store, sid, _write(tmp_path, csv, "b.csv")) == 3

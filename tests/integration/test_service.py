@@ -17,24 +17,24 @@ from trials.model import EntryMode, Sample, Status
 
 def test_a_trial_created_with_samples_and_attributes_reads_back_the_same(store):
     sid = rating_trial(store, roster(store, 6))
-    study = service.get_study(store, sid)
+    study = service.get_trial(store, sid)
     assert study.method == "rating"
     assert [s.name for s in study.samples] == ["Glaze A", "Glaze B", "Glaze C"]
     assert [s.is_control for s in study.samples] == [True, False, False]
     assert [(a.name, a.low, a.high) for a in study.attributes] == [
         ("overall liking", 1, 9), ("sweetness", 0, 10)]
     assert study.status == Status.READY  # drawing the plan moves planning -> ready
-    summary = service.list_studies(store)
+    summary = service.list_trials(store)
     assert [(s.id, s.name, s.method, s.status) for s in summary] == [
         (sid, study.name, "rating", Status.READY)]
     assert set(summary[0].to_dict()) >= {"id", "name", "method", "status"}
 
 
 def test_updating_a_trial_changes_only_the_named_fields_and_audits_each(store):
-    sid = service.create_study(store, name="Soup", method="triangle",
+    sid = service.create_trial(store, name="Soup", method="triangle",
                                samples=["Old", "New"], by="ana").id
-    service.update_study(store, sid, by="ben", objective="Cheaper stock?", alpha=0.10)
-    study = service.get_study(store, sid)
+    service.update_trial(store, sid, by="ben", objective="Cheaper stock?", alpha=0.10)
+    study = service.get_trial(store, sid)
     assert (study.objective, study.alpha, study.name) == ("Cheaper stock?", 0.10, "Soup")
     changes = [(a.who, a.field, a.old, a.new) for a in service.audit_log(store, sid)
                if a.table == "study" and a.field in ("objective", "alpha")]
@@ -48,18 +48,18 @@ def test_updating_a_trial_changes_only_the_named_fields_and_audits_each(store):
     ({"name": " "}, "must not be empty"),
 ])
 def test_a_bad_update_names_the_bad_value_and_changes_nothing(store, changes, fragment):
-    sid = service.create_study(store, name="Soup", method="triangle", samples=["Old", "New"]).id
-    before = service.get_study(store, sid)
+    sid = service.create_trial(store, name="Soup", method="triangle", samples=["Old", "New"]).id
+    before = service.get_trial(store, sid)
     with pytest.raises(TrialsError, match=fragment.replace("(", r"\(")):
-        service.update_study(store, sid, by="x", **changes)
-    assert service.get_study(store, sid) == before
+        service.update_trial(store, sid, by="x", **changes)
+    assert service.get_trial(store, sid) == before
 
 
 def test_the_method_cannot_change_once_a_plan_is_drawn(store):
     sid = triangle_trial(store, roster(store, 6))
     with pytest.raises(TrialsError, match="serving plan is drawn"):
-        service.update_study(store, sid, by="x", method="duo-trio")
-    assert service.get_study(store, sid).method == "triangle"
+        service.update_trial(store, sid, by="x", method="duo-trio")
+    assert service.get_trial(store, sid).method == "triangle"
 
 
 def test_a_decision_is_recorded_with_its_rationale_and_who_made_it(store):
@@ -73,21 +73,21 @@ def test_a_decision_is_recorded_with_its_rationale_and_who_made_it(store):
 
 def test_an_unknown_trial_id_is_a_not_found_error_quoting_the_id(store):
     with pytest.raises(NotFoundError, match="999"):
-        service.study_overview(store, 999)
+        service.trial_overview(store, 999)
 
 
 def test_a_second_control_or_a_repeated_sample_name_is_refused(store):
-    sid = service.create_study(store, name="Buns", method="rating", samples=[
+    sid = service.create_trial(store, name="Buns", method="rating", samples=[
         Sample("A", is_control=True)]).id
     with pytest.raises(TrialsError, match="already has a control"):
         service.add_sample(store, sid, "B", is_control=True)
     with pytest.raises(TrialsError, match="'A'"):
         service.add_sample(store, sid, "A")
-    assert [s.name for s in service.get_study(store, sid).samples] == ["A"]
+    assert [s.name for s in service.get_trial(store, sid).samples] == ["A"]
 
 
 def test_batches_keep_settings_measures_and_the_safety_sign_off(store):
-    sid = service.create_study(store, name="Chicken", method="rating",
+    sid = service.create_trial(store, name="Chicken", method="rating",
                                samples=["Fried", "Baked"]).id
     service.add_batch(store, sid, "Fried", "F1", prepared_on="2026-02-01", prepared_by="line",
                       settings=[("fryer temperature", 175, "°C"), ("fry time", 12, "min")],
@@ -116,7 +116,7 @@ def test_a_plan_serves_every_panelist_and_hands_out_one_token_each(store):
         mine = [e for e in entries if e.panelist_code == c]
         assert sorted(e.sample_name for e in mine) == ["Glaze A", "Glaze B", "Glaze C"]
         assert [e.position for e in mine] == [1, 2, 3]
-    overview = service.study_overview(store, sid)
+    overview = service.trial_overview(store, sid)
     assert (overview.panelists, overview.plan_size, overview.responses) == (6, 18, 0)
     assert set(overview.links) == set(codes)
     tokens = [link.split("=", 1)[1] for link in overview.links.values()]
@@ -131,7 +131,7 @@ def test_a_plan_serves_every_panelist_and_hands_out_one_token_each(store):
 
 def test_a_panelist_without_consent_is_not_planned(store):
     service.add_panelist(store, "N1")
-    sid = service.create_study(store, name="Buns", method="triangle", samples=["A", "B"]).id
+    sid = service.create_trial(store, name="Buns", method="triangle", samples=["A", "B"]).id
     with pytest.raises(TrialsError, match="no consent recorded for: 'N1'"):
         service.draw_plan(store, sid, panelist_codes=["N1"])
     assert service.plan(store, sid) == []
@@ -139,7 +139,7 @@ def test_a_panelist_without_consent_is_not_planned(store):
 
 def test_a_plan_that_would_serve_a_declared_allergen_is_refused(store):
     codes = roster(store, 4, allergens={"T02": ("Sesame",)})
-    sid = service.create_study(store, name="Buns", method="triangle", samples=[
+    sid = service.create_trial(store, name="Buns", method="triangle", samples=[
         Sample("Plain", is_control=True), Sample("Seeded", allergens=("sesame", "gluten"))]).id
     conflicts = service.allergen_conflicts(store, sid)
     assert [(c.panelist_code, c.sample_name, c.allergens) for c in conflicts] == [
@@ -183,9 +183,9 @@ def test_the_same_answer_twice_is_recorded_once_and_a_change_is_audited(store):
     first = service.record_answer(store, token, code=code, attribute="overall liking", value=7)
     again = service.record_answer(store, token, code=code, attribute="overall liking", value="7")
     assert first.value == again.value == "7" and first.mode == EntryMode.TABLET
-    assert len(service.responses(store, sid)) == 1
+    assert len(service.list_answers(store, sid)) == 1
     service.record_answer(store, token, code=code, attribute="overall liking", value=8)
-    [r] = service.responses(store, sid)
+    [r] = service.list_answers(store, sid)
     assert (r.panelist_code, r.code, r.value, r.entered_by) == ("T01", code, "8", "T01")
     changes = [(a.field, a.old, a.new) for a in service.audit_log(store, sid)
                if a.table == "response" and a.field == "value"]
@@ -209,7 +209,7 @@ def test_a_bad_answer_names_the_bad_value_and_records_nothing(store, kwargs, fra
     kwargs.setdefault("code", service.ballot_for_token(store, token).sets[0].codes[0])
     with pytest.raises(TrialsError, match=fragment.replace("(", r"\(").replace(".", r"\.")):
         service.record_answer(store, token, **kwargs)
-    assert service.responses(store, sid) == []
+    assert service.list_answers(store, sid) == []
 
 
 def test_a_triangle_choice_is_one_answer_per_set_and_can_be_corrected(store):
@@ -219,11 +219,11 @@ def test_a_triangle_choice_is_one_answer_per_set_and_can_be_corrected(store):
     assert len(cups) == 3
     service.record_answer(store, token, code=cups[0], attribute="choice")
     service.record_answer(store, token, code=cups[1], attribute="choice")
-    [r] = service.responses(store, sid)
+    [r] = service.list_answers(store, sid)
     assert (r.code, r.attribute, r.value) == (cups[1], "choice", "")
     with pytest.raises(TrialsError, match="expected empty for a choice, got 'no preference'"):
         service.record_answer(store, token, code="", attribute="choice", value="no preference")
-    frame = service.responses_frame(store, sid)
+    frame = service.answers_frame(store, sid)
     entry = next(e for e in service.plan(store, sid) if e.code == cups[1])
     assert frame["sample"].tolist() == [entry.sample_name]
     assert frame["role"].tolist() == [entry.role]
@@ -232,12 +232,12 @@ def test_a_triangle_choice_is_one_answer_per_set_and_can_be_corrected(store):
 def test_ranks_must_lie_between_1_and_the_number_of_cups(store):
     sid = ranking_trial(store, roster(store, 4))
     cups = [e.code for e in service.plan(store, sid) if e.panelist_code == "T01"]
-    service.record_response(store, sid, panelist_code="T01", code=cups[0], attribute="rank",
+    service.enter_answer(store, sid, panelist_code="T01", code=cups[0], attribute="rank",
                             value="4", entered_by="leader")
     with pytest.raises(TrialsError, match="expected a whole number from 1 to 4, got '5'"):
-        service.record_response(store, sid, panelist_code="T01", code=cups[1],
+        service.enter_answer(store, sid, panelist_code="T01", code=cups[1],
                                 attribute="rank", value="5", entered_by="leader")
-    [r] = service.responses(store, sid)
+    [r] = service.list_answers(store, sid)
     assert (r.value, r.mode, r.entered_by) == ("4", EntryMode.PAPER, "leader")
 
 
@@ -246,7 +246,7 @@ def test_a_session_with_answers_cannot_be_redrawn_but_a_new_session_gets_new_cod
     sid = rating_trial(store, codes)
     first = {e.code for e in service.plan(store, sid, "1")}
     e = service.plan(store, sid)[0]
-    service.record_response(store, sid, panelist_code=e.panelist_code, code=e.code,
+    service.enter_answer(store, sid, panelist_code=e.panelist_code, code=e.code,
                             attribute="sweetness", value=3)
     with pytest.raises(TrialsError, match="cannot be redrawn"):
         service.draw_plan(store, sid, panelist_codes=codes, seed=1)
@@ -263,7 +263,7 @@ def test_an_archive_imports_back_as_an_identical_trial(store):
     service.sign_off_batch(store, sid, "Usual", "B1", by="sous chef", on="2026-02-02")
     for e in service.plan(store, sid):
         if e.position == 1:
-            service.record_response(store, sid, panelist_code=e.panelist_code, code=e.code,
+            service.enter_answer(store, sid, panelist_code=e.panelist_code, code=e.code,
                                     attribute="choice", comment="firm", entered_by="leader")
     data = service.export_archive(store, sid)
     copy = service.import_archive(store, data)
@@ -276,9 +276,9 @@ def test_an_archive_imports_back_as_an_identical_trial(store):
             s.pop("id")
         return d
 
-    assert strip(service.get_study(store, copy)) == strip(service.get_study(store, sid))
+    assert strip(service.get_trial(store, copy)) == strip(service.get_trial(store, sid))
     assert service.plan(store, copy) == service.plan(store, sid)
-    assert service.responses(store, copy) == service.responses(store, sid)
+    assert service.list_answers(store, copy) == service.list_answers(store, sid)
     assert [b.to_dict() | {"id": None} for b in service.list_batches(store, copy)] == [
         b.to_dict() | {"id": None} for b in service.list_batches(store, sid)]
     assert set(service.panelist_links(store, copy).values()).isdisjoint(
@@ -292,14 +292,14 @@ def test_a_trial_keeps_its_aim_and_refuses_an_unknown_one(db_url):
     from trials.errors import TrialsError
 
     store = svc.open_store(db_url)
-    study = svc.create_study(store, name="Crumb test", method="triangle", aim="similarity",
+    study = svc.create_trial(store, name="Crumb test", method="triangle", aim="similarity",
                              samples=["Old crumb", "New crumb"], pd=0.3, beta=0.05)
-    assert svc.get_study(store, study.id).aim == "similarity"
-    svc.update_study(store, study.id, by="leader", aim="difference")
-    assert svc.get_study(store, study.id).aim == "difference"
+    assert svc.get_trial(store, study.id).aim == "similarity"
+    svc.update_trial(store, study.id, by="leader", aim="difference")
+    assert svc.get_trial(store, study.id).aim == "difference"
     with pytest.raises(TrialsError, match="'same'"):
-        svc.update_study(store, study.id, by="leader", aim="same")
-    assert svc.get_study(store, study.id).aim == "difference"
+        svc.update_trial(store, study.id, by="leader", aim="same")
+    assert svc.get_trial(store, study.id).aim == "difference"
 
 
 def test_history_finds_trials_by_sample_setting_and_method(sqlite_url):
@@ -322,7 +322,7 @@ def test_the_control_trend_averages_the_controls_scores_per_attribute(sqlite_url
 
     store = svc.open_store(sqlite_url)
     seed_demo(store)
-    frame = svc.responses_frame(store, 2)
+    frame = svc.answers_frame(store, 2)
     points = svc.control_trend(store, "Plain flour dredge", attribute="crispness")
     assert [p.study for p in points] == ["Fried chicken: house dredge vs panko crumb",
                                          "Fried chicken: four coatings"]

@@ -42,7 +42,7 @@ def _answered_triangle(store, codes) -> int:
     trial = triangle_trial(store, codes)
     for e in service.plan(store, trial):
         if e.position == 1:
-            service.record_response(store, trial, panelist_code=e.panelist_code, code=e.code,
+            service.enter_answer(store, trial, panelist_code=e.panelist_code, code=e.code,
                                     attribute="choice")
     return trial
 
@@ -83,7 +83,7 @@ def test_the_panel_choice_suggests_the_safe_consented_panelists(store):
     service.add_panelist(store, "N1", consent_on=dt.date(2026, 1, 5))
     service.add_panelist(store, "N2", consent_on=dt.date(2026, 1, 5), allergens="sesame")
     service.add_panelist(store, "N3")  # no consent recorded
-    trial = service.create_study(store, name="Seeded crust", method="triangle",
+    trial = service.create_trial(store, name="Seeded crust", method="triangle",
                                  samples=[Sample("Plain", is_control=True),
                                           Sample("Seeded", allergens=("sesame",))])
     choice = service.panel_choice(store, trial.id)

@@ -97,12 +97,12 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         versions = conn.execute(sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
                                             (3, "study.aim")]
-    study = service.get_study(store, 1)
+    study = service.get_trial(store, 1)
     assert (study.name, study.objective, study.product, study.aim) == (
         "Old trial", "kept from v1", "", "")
     assert [s.allergens for s in study.samples] == [(), ("gluten",)]
-    service.update_study(store, 1, by="test", product="brioche")
-    assert service.get_study(store, 1).product == "brioche"
+    service.update_trial(store, 1, by="test", product="brioche")
+    assert service.get_trial(store, 1).product == "brioche"
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:

@@ -18,15 +18,15 @@ def test_a_held_write_lock_blocks_no_reader_and_a_writer_is_told_the_store_is_bu
     monkeypatch.setattr(engine, "BUSY_DEADLINE_S", 0.5)
     path = tmp_path / "busy.db"
     store = service.open_store(f"sqlite:///{path}")
-    service.create_study(store, name="Crust", method="triangle")
+    service.create_trial(store, name="Crust", method="triangle")
     other = sqlite3.connect(path, isolation_level=None)
     other.execute("BEGIN IMMEDIATE")  # another program takes the write lock and keeps it
     try:
         reopened = service.open_store(f"sqlite:///{path}")  # opening only reads
-        assert [t.name for t in service.list_studies(reopened)] == ["Crust"]
+        assert [t.name for t in service.list_trials(reopened)] == ["Crust"]
         with pytest.raises(TrialsError, match="the store is busy"):
-            service.create_study(reopened, name="Rye", method="triangle")
+            service.create_trial(reopened, name="Rye", method="triangle")
     finally:
         other.execute("ROLLBACK")
         other.close()
-    assert [t.name for t in service.list_studies(store)] == ["Crust"]
+    assert [t.name for t in service.list_trials(store)] == ["Crust"]

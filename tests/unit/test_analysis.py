@@ -33,9 +33,9 @@ from trials.model import (
     Batch,
     Measurement,
     PlanEntry,
-    Response,
+    Answer,
     Sample,
-    Study,
+    Trial,
 )
 
 OLD, NEW = "Old crumb", "New crumb"
@@ -43,7 +43,7 @@ OLD, NEW = "Old crumb", "New crumb"
 
 def study(method, **kw):
     samples = kw.pop("samples", (Sample(OLD, is_control=True), Sample(NEW)))
-    return Study(name="Crumb trial", method=method, samples=samples, **kw)
+    return Trial(name="Crumb trial", method=method, samples=samples, **kw)
 
 
 def plan_for(method, patterns, *, reference_role=True):
@@ -63,7 +63,7 @@ def cups(plan, panelist):
 
 
 def choose(panelist, *codes):
-    return Response("S1", panelist, " ".join(codes), "choice", "")
+    return Answer("S1", panelist, " ".join(codes), "choice", "")
 
 
 def triangle_answers(plan, n_correct):
@@ -154,7 +154,7 @@ def test_paired_preference_counts_per_sample_and_keeps_no_preference_apart():
     for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
         cs = cups(plan, p)
         if i < 2:
-            answers.append(Response("S1", p, "", "choice", "no preference"))
+            answers.append(Answer("S1", p, "", "choice", "no preference"))
         else:
             want = NEW if i < 9 else OLD
             answers.append(choose(p, next(c.code for c in cs if c.sample_name == want)))
@@ -216,7 +216,7 @@ def rating_trial(n_panelists=8, seed=3):
     rng = np.random.default_rng(seed)
     attrs = (Attribute("liking", AttributeKind.HEDONIC, 1, 9),
              Attribute("crunch", AttributeKind.INTENSITY, 1, 9))
-    s = Study(name="Crust trial", method="rating", samples=SAMPLES3, attributes=attrs)
+    s = Trial(name="Crust trial", method="rating", samples=SAMPLES3, attributes=attrs)
     plan, responses, truth = [], [], []
     code = 200
     for p in range(n_panelists):
@@ -225,7 +225,7 @@ def rating_trial(n_panelists=8, seed=3):
             plan.append(PlanEntry("S1", pan, pos, str(code), sample.name, 0))
             for a, shift in (("liking", pos), ("crunch", 4 - pos)):
                 score = int(np.clip(round(4 + shift + rng.normal(0, 1)), 1, 9))
-                responses.append(Response("S1", pan, str(code), a, str(score)))
+                responses.append(Answer("S1", pan, str(code), a, str(score)))
                 truth.append({"panelist": pan, "sample": sample.name, "attribute": a, "score": score})
             code += 1
     return s, plan, responses, pd.DataFrame(truth)
@@ -267,14 +267,14 @@ def test_ratings_of_one_panelist_say_why_there_is_no_anova():
 
 def test_a_score_that_is_not_a_number_is_left_out_and_named():
     s, plan, responses, _ = rating_trial(n_panelists=3)
-    responses[0] = Response("S1", "P01", responses[0].code, "liking", "lots")
+    responses[0] = Answer("S1", "P01", responses[0].code, "liking", "lots")
     result = analyse(s, plan, responses)
     assert any("'lots'" in p for p in result.problems)
     assert result.attribute("liking").scores == 8
 
 
 def test_ranks_go_to_the_friedman_test_and_agree_with_scipy():
-    s = Study(name="Crust ranks", method="ranking", samples=SAMPLES3)
+    s = Trial(name="Crust ranks", method="ranking", samples=SAMPLES3)
     rng = np.random.default_rng(11)
     plan, responses, table = [], [], []
     code = 300
@@ -284,7 +284,7 @@ def test_ranks_go_to_the_friedman_test_and_agree_with_scipy():
         table.append(ranks)
         for pos, (sample, rank) in enumerate(zip(SAMPLES3, ranks), start=1):
             plan.append(PlanEntry("S1", pan, pos, str(code), sample.name, 0))
-            responses.append(Response("S1", pan, str(code), "rank", str(int(rank))))
+            responses.append(Answer("S1", pan, str(code), "rank", str(int(rank))))
             code += 1
     result = analyse(s, plan, responses)
     ref = sps.friedmanchisquare(*np.array(table).T)  # scipy, independent computation
@@ -375,7 +375,7 @@ def test_paired_preference_folds_no_preference_by_the_stats_modules_rule():
     answers = []
     for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
         if i < 4:
-            answers.append(Response("S1", p, "", "choice", "No preference"))
+            answers.append(Answer("S1", p, "", "choice", "No preference"))
             continue
         want = NEW if i < 22 else OLD
         answers.append(choose(p, next(c.code for c in cups(plan, p) if c.sample_name == want)))
@@ -394,7 +394,7 @@ def test_jar_attributes_get_a_penalty_analysis_against_the_hedonic_attribute():
 
     attrs = (Attribute("liking", AttributeKind.HEDONIC, 1, 9),
              Attribute("saltiness", AttributeKind.JAR, 1, 5))
-    s = Study(name="Brine", method="rating", samples=SAMPLES3, attributes=attrs)
+    s = Trial(name="Brine", method="rating", samples=SAMPLES3, attributes=attrs)
     rng = np.random.default_rng(5)
     plan, responses, rows = [], [], []
     code = 400
@@ -404,8 +404,8 @@ def test_jar_attributes_get_a_penalty_analysis_against_the_hedonic_attribute():
             plan.append(PlanEntry("S1", pan, pos, str(code), sample.name, 0))
             jar = int(rng.integers(1, 6))
             like = int(np.clip(8 - abs(jar - 3) * 2 + rng.integers(-1, 2), 1, 9))
-            responses += [Response("S1", pan, str(code), "liking", str(like)),
-                          Response("S1", pan, str(code), "saltiness", str(jar))]
+            responses += [Answer("S1", pan, str(code), "liking", str(like)),
+                          Answer("S1", pan, str(code), "saltiness", str(jar))]
             rows.append({"panelist": pan, "sample": sample.name, "saltiness": jar, "liking": like})
             code += 1
     result = analyse(s, plan, responses)
@@ -419,7 +419,7 @@ def test_jar_attributes_get_a_penalty_analysis_against_the_hedonic_attribute():
 
 def test_scores_for_an_attribute_the_trial_does_not_declare_are_named():
     s, plan, responses, _ = rating_trial(n_panelists=3)
-    extra = Response("S1", "P01", responses[0].code, "aroma", "5")
+    extra = Answer("S1", "P01", responses[0].code, "aroma", "5")
     result = analyse(s, plan, list(responses) + [extra])
     assert any("'aroma'" in p for p in result.problems)
     assert result.answers == 18

@@ -28,7 +28,7 @@ from trials.answers import (
 from trials.design.plan import serving_plan
 from trials.errors import AnswerError, TrialsError
 from trials.methods import get_method
-from trials.model import Attribute, AttributeKind, Response, Sample, Study
+from trials.model import Attribute, AttributeKind, Answer, Sample, Trial
 
 OLD, NEW = "Old brine", "Low-sodium brine"
 PANEL = ["P01", "P02", "P03", "P04", "P05", "P06"]
@@ -38,7 +38,7 @@ LIKING = Attribute("liking", AttributeKind.HEDONIC, 1, 9)
 
 def trial(method, **kw):
     samples = kw.pop("samples", (Sample(OLD, is_control=True), Sample(NEW)))
-    return Study(name="Brine trial", method=method, samples=samples, **kw)
+    return Trial(name="Brine trial", method=method, samples=samples, **kw)
 
 
 def fc_plan(method, seed=3):
@@ -186,7 +186,7 @@ def test_expected_answers_follow_the_family():
 def test_progress_counts_each_panelists_answers_against_what_they_owe():
     plan = serving_plan("rating", ["A1", "B1"], ["P01", "P02"], rng=1)
     code = cups_of(plan, "P01")[0].code
-    got = [Response("1", "P01", code, "liking", "5"), Response("1", "P01", code, "saltiness", "2")]
+    got = [Answer("1", "P01", code, "liking", "5"), Answer("1", "P01", code, "saltiness", "2")]
     frame = answer_progress(get_method("rating"), plan, got, attributes=2)
     assert frame.to_dict("records") == [
         {"session": "1", "panelist": "P01", "expected": 4, "answered": 2},
@@ -202,11 +202,11 @@ def test_tasting_steps_mark_a_chosen_set_and_a_declined_preference_as_done():
             self.session, self.set_index, self.codes = session, set_index, codes
 
     sets = [Set("1", 0, ("101", "102")), Set("2", 0, ("201", "202"))]
-    answers = [Response("2", "P01", "", "choice", NO_PREFERENCE)]
+    answers = [Answer("2", "P01", "", "choice", NO_PREFERENCE)]
     steps = tasting_steps(spec, sets, answers, ())
     assert [(s.kind, s.session, s.done) for s in steps] == [("choose", "1", False),
                                                               ("choose", "2", True)]
-    assert chosen_sets(spec, sets, [Response("1", "P01", "102", "choice", "")]) == {("1", 0): "102"}
+    assert chosen_sets(spec, sets, [Answer("1", "P01", "102", "choice", "")]) == {("1", 0): "102"}
     # a method without "no preference" does not count an empty choice as an answer
     assert not tasting_steps(get_method("2afc"), sets, answers, ())[1].done
 
@@ -217,8 +217,8 @@ def test_rating_steps_are_one_per_cup_done_when_every_attribute_is_scored():
     class Set:
         session, set_index, codes = "1", 0, ("311", "312")
 
-    answers = [Response("1", "P01", "311", "liking", "6"), Response("1", "P01", "311", "saltiness", "3"),
-               Response("1", "P01", "312", "liking", "4")]
+    answers = [Answer("1", "P01", "311", "liking", "6"), Answer("1", "P01", "311", "saltiness", "3"),
+               Answer("1", "P01", "312", "liking", "4")]
     steps = tasting_steps(spec, [Set()], answers, ("liking", "saltiness"))
     assert [(s.kind, s.code, s.position, s.done) for s in steps] == [
         ("rate", "311", 0, True), ("rate", "312", 1, False)]
@@ -244,7 +244,7 @@ def test_a_paper_grid_round_trips_through_its_answers_and_the_checker():
     spec = get_method("paired-preference")
     plan = fc_plan("paired-preference")
     first = cups_of(plan, "P01")[1].code
-    got = [Response("1", "P01", first, "choice", ""), Response("1", "P02", "", "choice", NO_PREFERENCE)]
+    got = [Answer("1", "P01", first, "choice", ""), Answer("1", "P02", "", "choice", NO_PREFERENCE)]
     grid = paper_sheet(spec, plan, got)
     assert list(grid.columns) == ["panelist", "set", "cups", "chosen", "no_preference"]
     assert grid.loc[0].to_dict() == {"panelist": "P01", "set": 1,
@@ -260,7 +260,7 @@ def test_a_rating_grid_holds_scores_as_nullable_numbers():
     spec = get_method("rating")
     plan = serving_plan("rating", ["A1", "B1"], ["P01"], rng=2)
     code = plan[0].code
-    grid = paper_sheet(spec, plan, [Response("1", "P01", code, "liking", "6")], ["liking"])
+    grid = paper_sheet(spec, plan, [Answer("1", "P01", code, "liking", "6")], ["liking"])
     assert str(grid["liking"].dtype) == "Float64"
     assert grid["liking"].tolist()[0] == 6.0 and pd.isna(grid["liking"].tolist()[1])
     assert sheet_answers(spec, "1", grid, ["liking"]) == [

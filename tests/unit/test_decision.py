@@ -25,7 +25,7 @@ from tests.unit.test_analysis import (
 )
 from trials.analysis import analyse
 from trials.decision import Verdict, decide, decision_text, fmt, fmt_p
-from trials.model import PlanEntry, Response, Sample, Study
+from trials.model import PlanEntry, Answer, Sample, Trial
 from trials.stats.discrimination import difference_test, similarity_test
 from trials.stats.power import power
 
@@ -43,7 +43,7 @@ def test_a_significant_triangle_states_counts_p_critical_estimates_and_source():
     assert d.verdict == Verdict.DIFFERENCE
     assert d.numbers["p_value"] == ref.p_value == pytest.approx(sps.binom.sf(14, 24, 1 / 3))
     assert d.numbers["pd_ci"] == tuple(ref.pd_ci) and d.numbers["dprime"] == ref.dprime
-    assert d.headline.startswith("Tasters told the samples apart: 15 of 24 picked the odd sample")
+    assert d.headline.startswith("Panelists told the samples apart: 15 of 24 picked the odd sample")
     assert f"{fmt_p(ref.p_value)}; {ref.critical} needed at alpha 0.05" in d.headline
     assert "ISO 4120" in d.headline
     details = " ".join(d.details)
@@ -100,14 +100,14 @@ def test_paired_preference_names_the_preferred_sample_and_the_no_preference_rule
     answers = []
     for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
         if i < 2:
-            answers.append(Response("S1", p, "", "choice", "no preference"))
+            answers.append(Answer("S1", p, "", "choice", "no preference"))
         else:
             want = "New crumb" if i < 25 else "Old crumb"
             answers.append(choose(p, next(c.code for c in cups(plan, p) if c.sample_name == want)))
     d = decide(analyse(study("paired-preference"), plan, answers))
     ref = difference_test(24, 30, method="paired-preference")  # 23 + 1 of the split 2
     assert d.verdict == Verdict.PREFERENCE
-    assert d.headline.startswith("Tasters preferred New crumb: 24 of 30 chose it after 2 'no preference'")
+    assert d.headline.startswith("Panelists preferred New crumb: 24 of 30 chose it after 2 'no preference'")
     assert d.numbers["p_value"] == ref.p_value == pytest.approx(2 * sps.binom.sf(23, 30, 0.5))
 
 
@@ -116,7 +116,7 @@ def test_ratings_name_the_differing_attributes_letters_hsd_and_error_term():
 
     s, plan, responses, truth = rating_trial()
     a = analyse(s, plan, responses, batches=batches3())
-    d = decide(a, study=Study(name="x", method="rating", delta=0.5))
+    d = decide(a, study=Trial(name="x", method="rating", delta=0.5))
     ref = rating_anova(truth[truth["attribute"] == "liking"])
     row = ref.term("sample")
     assert d.verdict == (Verdict.DIFFERENCE if row.p <= 0.05 else Verdict.NO_DIFFERENCE)
@@ -138,13 +138,13 @@ def test_no_answers_give_a_decision_that_says_so():
 
 
 def test_ranking_decision_quotes_friedman_and_rank_sums():
-    s = Study(name="Ranks", method="ranking", samples=SAMPLES3)
+    s = Trial(name="Ranks", method="ranking", samples=SAMPLES3)
     plan, responses, code = [], [], 500
     for p in range(9):
         for pos, sample in enumerate(SAMPLES3, start=1):
             plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
             rank = pos if p % 4 else 4 - pos
-            responses.append(Response("S1", f"P{p}", str(code), "rank", str(rank)))
+            responses.append(Answer("S1", f"P{p}", str(code), "rank", str(rank)))
             code += 1
     a = analyse(s, plan, responses)
     d = decide(a)
@@ -162,12 +162,12 @@ def ice_cream_ranking_trial():
     """Conover (1999) sec. 5.8 ice cream trial (from memory) as a ranking trial: 7 judges
     each rank 3 of 7 samples, a balanced incomplete block design."""
     bib = pd.read_csv(Path(__file__).parent / "data" / "durbin_ice_cream.csv")
-    s = Study(name="Ice cream", method="ranking", samples=tuple(Sample(x) for x in "ABCDEFG"))
+    s = Trial(name="Ice cream", method="ranking", samples=tuple(Sample(x) for x in "ABCDEFG"))
     plan, responses = [], []
     for code, row in enumerate(bib.itertuples(), start=100):
         position = int((bib.panelist.iloc[: code - 99] == row.panelist).sum())
         plan.append(PlanEntry("S1", row.panelist, position, str(code), row.sample, 0))
-        responses.append(Response("S1", row.panelist, str(code), "rank", str(row.rank)))
+        responses.append(Answer("S1", row.panelist, str(code), "rank", str(row.rank)))
     return s, plan, responses
 
 
@@ -185,7 +185,7 @@ def test_an_incomplete_block_ranking_decision_names_durbin_and_cites_durbin_1951
 def test_the_decision_quotes_only_the_measured_variables_that_follow_the_means():
     s, plan, responses, _truth = rating_trial()
     a = analyse(s, plan, responses, batches=batches3())
-    d = decide(a, study=Study(name="x", method="rating"))
+    d = decide(a, study=Trial(name="x", method="rating"))
     for at in a.attributes:
         for rel in at.relations:
             line = f"{at.attribute} against {rel.predictor} across"

@@ -24,7 +24,7 @@ from trials.stats.discrimination import (
     no_preference_counts,
     similarity_test,
 )
-from trials.stats.power import assessors_needed, panel_size, power
+from trials.stats.power import panelists_needed, panel_size, power
 
 ALPHAS = (0.20, 0.10, 0.05, 0.01, 0.001)
 
@@ -367,16 +367,16 @@ def test_panel_size_to_dict_has_the_cli_keys():
     assert {"method", "pd", "alpha", "beta", "n", "critical", "power", "definition"} <= keys
 
 
-def test_assessors_needed_counts_the_rest_of_the_plan():
+def test_panelists_needed_counts_the_rest_of_the_plan():
     plan = panel_size(0.3, method="triangle")
-    res = assessors_needed(10, method="triangle", pd=0.3, correct=6)
+    res = panelists_needed(10, method="triangle", pd=0.3, correct=6)
     assert res.planned == plan.n and res.more == plan.n - 10
     assert res.critical == plan.critical and res.correct_needed == plan.critical - 6
     assert res.reachable
-    done = assessors_needed(plan.n + 5, method="triangle", pd=0.3)
+    done = panelists_needed(plan.n + 5, method="triangle", pd=0.3)
     assert done.more == 0 and done.critical == critical_value(plan.n + 5, method="triangle").critical
     with pytest.raises(TrialsError, match="12"):
-        assessors_needed(10, method="triangle", pd=0.3, correct=12)
+        panelists_needed(10, method="triangle", pd=0.3, correct=12)
 
 
 # ------------------------------------------------------------- bad input

@@ -33,7 +33,7 @@ from trials.methods import (
     register_method,
     unregister_method,
 )
-from trials.model import Response, Sample, Study
+from trials.model import Answer, Sample, Trial
 from trials.printing import ballots_pdf
 
 CONTROL, TEST = "Full-salt stock", "Half-salt stock"
@@ -71,8 +71,8 @@ def least():
     unregister_method(spec.name)
 
 
-def trial() -> Study:
-    return Study(name="Stock: half the salt", method=LEAST.name,
+def trial() -> Trial:
+    return Trial(name="Stock: half the salt", method=LEAST.name,
                  samples=(Sample(CONTROL, is_control=True), Sample(TEST)), alpha=0.05)
 
 
@@ -135,7 +135,7 @@ def test_a_new_method_runs_from_the_design_to_the_decision(least):
     for i, p in enumerate(PANEL):
         cups = [e for e in plan if e.panelist_code == p]
         pick = next(e for e in cups if (e.role == "A") == (i < 5))
-        got.append(Response("1", p, pick.code, "choice", ""))
+        got.append(Answer("1", p, pick.code, "choice", ""))
     result = analyse(study, plan, got)
     counts = result.choice.counts
     assert (counts.correct, counts.n, counts.target) == (5, 6, CONTROL)

@@ -28,7 +28,7 @@ from trials.model import (
     Panelist,
     PlanEntry,
     Sample,
-    Study,
+    Trial,
 )
 from trials.printing import (
     A4_3X7,
@@ -76,7 +76,7 @@ def fixed_codes(n: int) -> list[str]:
     return [str(100 + (17 + 389 * i) % 900) for i in range(n)]
 
 
-def make_study(method: str, *, name: str = "Crust switch trial") -> Study:
+def make_study(method: str, *, name: str = "Crust switch trial") -> Trial:
     spec = get_method(method)
     if spec.family in (Family.DISCRIMINATION, Family.PREFERENCE):
         samples, attrs = SAMPLES[:2], (ATTRIBUTES[1],)
@@ -84,10 +84,10 @@ def make_study(method: str, *, name: str = "Crust switch trial") -> Study:
         samples, attrs = SAMPLES, ATTRIBUTES
     else:
         samples, attrs = SAMPLES, (ATTRIBUTES[1],)
-    return Study(name, method, id=7, samples=samples, attributes=attrs)
+    return Trial(name, method, id=7, samples=samples, attributes=attrs)
 
 
-def make_plan(study: Study, *, panelists: int = 4, sessions=("S1", "S2"),
+def make_plan(study: Trial, *, panelists: int = 4, sessions=("S1", "S2"),
               sets: int = 1) -> list[PlanEntry]:
     """A plan: forced-choice sets from the registry's patterns (A = control, B = the
     other; the duo-trio reference first, role "R"), or every sample in rotated order."""
@@ -293,7 +293,7 @@ def test_afc_ballots_name_the_attribute_or_leave_a_line_for_it():
         study = make_study(method)
         text = page_texts(ballots_pdf(study, make_plan(study, panelists=1)))[0]
         assert "Attribute: Crust crispness" in text
-        bare = Study("Crust switch trial", method, samples=SAMPLES[:2])
+        bare = Trial("Crust switch trial", method, samples=SAMPLES[:2])
         text = page_texts(ballots_pdf(bare, make_plan(bare, panelists=1)))[0]
         assert "Attribute (written in by the panel leader)" in text
 
@@ -363,7 +363,7 @@ def test_a_rating_ballot_has_one_box_per_point_per_code_and_attribute():
 def test_the_own_anchors_of_an_attribute_replace_the_defaults():
     attr = Attribute("Crumb softness", AttributeKind.INTENSITY, 0, 4,
                      ("none", "faint", "clear", "strong", "extreme"))
-    study = Study("Crust switch trial", "rating", samples=SAMPLES, attributes=(attr,))
+    study = Trial("Crust switch trial", "rating", samples=SAMPLES, attributes=(attr,))
     text = page_texts(ballots_pdf(study, make_plan(study, panelists=1)))[0]
     for word in attr.anchors:
         assert word in text
@@ -372,7 +372,7 @@ def test_the_own_anchors_of_an_attribute_replace_the_defaults():
 
 def test_a_rating_of_twelve_samples_on_three_scales_fits_one_page():
     samples = tuple(Sample(f"Invented variant {k}") for k in range(12))
-    study = Study("Crust switch trial", "rating", samples=samples, attributes=ATTRIBUTES)
+    study = Trial("Crust switch trial", "rating", samples=samples, attributes=ATTRIBUTES)
     result = ballots_pdf(study, make_plan(study, panelists=2, sessions=("S1",)))
     assert result.pages == 2 == result.items
     # one table of all three scales: a box per point (9 + 7 + 5) for each of the 12 codes
@@ -388,7 +388,7 @@ def test_a_rating_of_twelve_samples_on_three_scales_fits_one_page():
 def test_a_ballot_too_long_for_one_page_continues_with_heading_and_cautions():
     samples = tuple(Sample(f"Invented variant {k}", allergens=("egg",)) for k in range(20))
     attrs = ATTRIBUTES + (Attribute("Chewiness", AttributeKind.INTENSITY, 1, 9),)
-    study = Study("Crust switch trial", "rating", samples=samples, attributes=attrs)
+    study = Trial("Crust switch trial", "rating", samples=samples, attributes=attrs)
     plan = make_plan(study, panelists=1, sessions=("S1",))
     result = ballots_pdf(study, plan)
     assert result.items == 1 and result.pages > 1
@@ -405,7 +405,7 @@ def test_a_ballot_too_long_for_one_page_continues_with_heading_and_cautions():
 
 
 def test_a_ranking_ballot_has_a_rank_box_per_code_for_each_attribute():
-    study = Study("Crust switch trial", "ranking", samples=SAMPLES,
+    study = Trial("Crust switch trial", "ranking", samples=SAMPLES,
                   attributes=(ATTRIBUTES[1], Attribute("Overall liking")))
     plan = make_plan(study, panelists=1, sessions=("S1",))
     text = page_texts(ballots_pdf(study, plan))[0]
@@ -415,7 +415,7 @@ def test_a_ranking_ballot_has_a_rank_box_per_code_for_each_attribute():
 
 
 def test_a_rating_without_attributes_asks_for_overall_liking_on_the_hedonic_scale():
-    study = Study("Crust switch trial", "rating", samples=SAMPLES)
+    study = Trial("Crust switch trial", "rating", samples=SAMPLES)
     text = " ".join(page_texts(ballots_pdf(study, make_plan(study, panelists=1)))[0].split())
     assert "Overall liking" in text and "Neither like nor dislike" in text
 
@@ -673,7 +673,7 @@ def test_every_document_uses_only_embedded_vera_fonts():
 
 def test_accents_and_the_en_dash_survive_and_missing_letters_fall_back_to_their_base():
     attr = Attribute("Crème brûlée crust – crispness", AttributeKind.INTENSITY, 1, 7)
-    study = Study("Crust switch trial", "rating", samples=SAMPLES, attributes=(attr,))
+    study = Trial("Crust switch trial", "rating", samples=SAMPLES, attributes=(attr,))
     text = page_texts(ballots_pdf(study, make_plan(study, panelists=1)))[0]
     assert "Crème brûlée crust – crispness" in text
     assert printable("Wąż, łódź – ő") == "Waz, łódz – o"  # ą ż ź ő are not in Vera
@@ -716,7 +716,7 @@ def test_to_dict_leaves_the_bytes_out():
         pytest.param(lambda: labels_pdf(make_plan(make_study("triangle")),
                                         layout=LabelLayout(rows=40, columns=9)),
                      "too small", id="tiny labels"),
-        pytest.param(lambda: ballots_pdf(Study("x", "hexad"), make_plan(make_study("triangle"))),
+        pytest.param(lambda: ballots_pdf(Trial("x", "hexad"), make_plan(make_study("triangle"))),
                      "'hexad'", id="unknown method"),
         pytest.param(lambda: ballots_pdf(make_study("triangle"),
                                          make_plan(make_study("triangle"))[:2]),
@@ -729,7 +729,7 @@ def test_to_dict_leaves_the_bytes_out():
                                           PlanEntry("S1", "P01", 2, "456", SAMPLES[0].name)]),
                      "'Nope Bun'", id="unknown sample"),
         pytest.param(lambda: ballots_pdf(
-            Study("x", "rating", samples=SAMPLES,
+            Trial("x", "rating", samples=SAMPLES,
                   attributes=(Attribute("Bite", anchors=("a", "b", "c")),)),
             make_plan(make_study("rating"))), "3 anchors for 9 points", id="anchors"),
         pytest.param(lambda: serving_sheet_pdf(make_study("triangle"),
@@ -745,7 +745,7 @@ def test_bad_input_raises_a_trials_error_quoting_the_value(call, quoted):
 
 def test_an_unknown_method_is_the_registrys_error():
     with pytest.raises(UnknownMethodError):
-        serving_sheet_pdf(Study("x", "hexad"), make_plan(make_study("triangle")))
+        serving_sheet_pdf(Trial("x", "hexad"), make_plan(make_study("triangle")))
 
 
 def test_the_printing_layer_imports_no_database_service_or_screen_code():
@@ -814,7 +814,7 @@ def test_every_code_of_a_rating_grid_is_visible_on_the_rendered_page(samples, tm
     from PIL import Image
 
     variants = tuple(Sample(f"Invented variant {k}") for k in range(samples))
-    study = Study("Crust switch trial", "rating", samples=variants, attributes=ATTRIBUTES)
+    study = Trial("Crust switch trial", "rating", samples=variants, attributes=ATTRIBUTES)
     plan = make_plan(study, panelists=1, sessions=("S1",))
     result = ballots_pdf(study, plan)
     pdf = tmp_path / "b.pdf"
@@ -845,7 +845,7 @@ def test_every_code_on_the_serving_sheet_is_visible_on_the_rendered_page(tmp_pat
     Word boxes come from poppler's ``pdftotext -bbox``, independent of the PDF writer."""
     from PIL import Image
 
-    study = Study("Crumb trial", "triangle",
+    study = Trial("Crumb trial", "triangle",
                   samples=(Sample("Invented loaf one"), Sample("Invented loaf two")))
     plan = make_plan(study, panelists=6, sessions=("S1",))
     result = serving_sheet_pdf(study, plan)

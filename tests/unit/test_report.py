@@ -22,7 +22,7 @@ from tests.unit.test_analysis import (
 )
 from trials.analysis import analyse
 from trials.decision import decide, fmt, fmt_p
-from trials.model import Response, Sample, Study
+from trials.model import Answer, Sample, Trial
 from trials.printing.report import CAUTION, report_html, report_pdf
 from trials.stats.discrimination import difference_test
 
@@ -67,9 +67,9 @@ def rating_report():
                     rename.get(e.sample_name, e.sample_name), e.set_index, e.role) for e in plan]
     batches = [type(b)(rename.get(b.sample_name, b.sample_name), b.label, measures=b.measures)
                for b in batches3()]
-    responses = list(responses) + [Response("S1", "P01", plan[0].code, "comment-only", "x",
+    responses = list(responses) + [Answer("S1", "P01", plan[0].code, "comment-only", "x",
                                             comment="tasted <i>burnt</i> & dry")]
-    s = Study(name=f"{NASTY} trial", method="rating", samples=samples,
+    s = Trial(name=f"{NASTY} trial", method="rating", samples=samples,
               attributes=s0.attributes, objective="Which crust <script>wins</script>?")
     a = analyse(s, plan, responses, batches=batches)
     return s, a, report_html(s, a, plan=plan, responses=responses, batches=batches)
@@ -157,7 +157,7 @@ def test_the_pdf_summary_holds_the_decision_and_the_caution():
     assert data.startswith(b"%PDF") and len(reader.pages) >= 1
     assert re.sub(r"\s+", " ", d.headline) in flat
     assert "informed consent" in flat
-    weird = Study(name=NASTY, method="rating", samples=SAMPLES3, attributes=s.attributes)
+    weird = Trial(name=NASTY, method="rating", samples=SAMPLES3, attributes=s.attributes)
     assert NASTY in " ".join(p.extract_text() for p in
                              PdfReader(io.BytesIO(report_pdf(weird, analyse(weird, plan, responses),
                                                              plan=plan,
@@ -203,17 +203,17 @@ def _serving_plan_trial(method, n=12):
         cups = [e for e in plan if e.panelist_code == p]
         codes = [c.code for c in cups if c.sample_name == "New crumb"]
         if method == "tetrad":
-            answers.append(Response("1", p, " ".join(codes[:2]), "choice", ""))
+            answers.append(Answer("1", p, " ".join(codes[:2]), "choice", ""))
         elif method == "duo-trio":
             ref = next(c for c in cups if c.role == "R")
             match = next(c for c in cups if c is not ref and c.sample_name == ref.sample_name)
-            answers.append(Response("1", p, match.code, "choice", ""))
+            answers.append(Answer("1", p, match.code, "choice", ""))
         elif method == "triangle":
             names = [c.sample_name for c in cups]
             odd = next(c for c in cups if names.count(c.sample_name) == 1)
-            answers.append(Response("1", p, odd.code, "choice", ""))
+            answers.append(Answer("1", p, odd.code, "choice", ""))
         else:
-            answers.append(Response("1", p, codes[0], "choice", ""))
+            answers.append(Answer("1", p, codes[0], "choice", ""))
     return study(method, pd=0.3), plan, answers
 
 
@@ -232,12 +232,12 @@ def test_every_forced_choice_method_reports_on_a_plan_from_the_design_module(met
 def test_a_ranking_report_shows_the_rank_sums():
     from trials.model import PlanEntry
 
-    s = Study(name="Ranks", method="ranking", samples=SAMPLES3)
+    s = Trial(name="Ranks", method="ranking", samples=SAMPLES3)
     plan, responses, code = [], [], 600
     for p in range(6):
         for pos, sample in enumerate(SAMPLES3, start=1):
             plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
-            responses.append(Response("S1", f"P{p}", str(code), "rank", str(pos if p % 3 else 4 - pos)))
+            responses.append(Answer("S1", f"P{p}", str(code), "rank", str(pos if p % 3 else 4 - pos)))
             code += 1
     a = analyse(s, plan, responses)
     doc = report_html(s, a, plan=plan, responses=responses)

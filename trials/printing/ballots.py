@@ -52,7 +52,7 @@ from reportlab.pdfbase import pdfmetrics
 
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import Attribute, AttributeKind, Panelist, PlanEntry, Study
+from trials.model import Attribute, AttributeKind, Panelist, PlanEntry, Trial
 from trials.printing.layout import (
     BOLD,
     ITALIC,
@@ -129,7 +129,7 @@ def scale_anchors(attr: Attribute) -> tuple[str, ...]:
     return INTENSITY_ENDS
 
 
-def session_allergens(study: Study, entries: Iterable[PlanEntry]) -> tuple[str, ...]:
+def session_allergens(study: Trial, entries: Iterable[PlanEntry]) -> tuple[str, ...]:
     """The allergens of every sample served in ``entries``, pooled, sorted, lower case."""
     samples = {s.name: s for s in study.samples}
     found: set[str] = set()
@@ -607,7 +607,7 @@ class _Matrix:
 
 
 def ballots_pdf(
-    study: Study,
+    study: Trial,
     plan: Iterable[PlanEntry],
     *,
     panelists: Iterable[Panelist] = (),
@@ -622,7 +622,7 @@ def ballots_pdf(
 
     Parameters
     ----------
-    study : Study
+    study : Trial
         The trial; its ``method`` picks the registry entry, its ``samples`` give the
         allergens and its ``attributes`` the scales (rating, ranking, 2-AFC, 3-AFC).
     plan : iterable of PlanEntry

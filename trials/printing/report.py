@@ -25,10 +25,10 @@ from typing import Any
 
 import pandas as pd
 
-from trials.analysis import StudyAnalysis, decode_responses
+from trials.analysis import TrialAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
-from trials.model import Batch, PlanEntry, Response, Study
+from trials.model import Batch, PlanEntry, Answer, Trial
 
 CAUTION = (
     "Samples are food served to people. Before any tasting: declare every sample's "
@@ -96,7 +96,7 @@ class _Charts:
                            div_id=f"chart-{self.count}")
 
 
-def _proportion_chart(a: StudyAnalysis) -> Any:
+def _proportion_chart(a: TrialAnalysis) -> Any:
     import plotly.graph_objects as go
     from scipy import stats as sps
 
@@ -124,7 +124,7 @@ def _proportion_chart(a: StudyAnalysis) -> Any:
     return fig
 
 
-def _preference_chart(a: StudyAnalysis) -> Any:
+def _preference_chart(a: TrialAnalysis) -> Any:
     import plotly.graph_objects as go
 
     c = a.choice.counts
@@ -160,7 +160,7 @@ def _means_chart(at) -> Any:
     return fig
 
 
-def _ranks_chart(a: StudyAnalysis) -> Any:
+def _ranks_chart(a: TrialAnalysis) -> Any:
     import plotly.graph_objects as go
 
     r = a.ranking.result
@@ -228,7 +228,7 @@ def _g(x: Any, digits: int = 3) -> str:
 # --------------------------------------------------------------------------- sections
 
 
-def _risks(study: Study) -> list[tuple[str, Any]]:
+def _risks(study: Trial) -> list[tuple[str, Any]]:
     rows = [("alpha (risk of a false difference)", fmt_risk(study.alpha)),
             ("beta (risk of a missed difference, or of a false similarity)", fmt_risk(study.beta))]
     if study.pd is not None:
@@ -240,7 +240,7 @@ def _risks(study: Study) -> list[tuple[str, Any]]:
     return rows
 
 
-def _plan_section(study: Study, plan: Sequence[PlanEntry], spec) -> str:
+def _plan_section(study: Trial, plan: Sequence[PlanEntry], spec) -> str:
     if not plan:
         return "<p>No serving plan has been drawn yet.</p>"
     sessions = list(dict.fromkeys(e.session for e in plan))
@@ -265,7 +265,7 @@ def _plan_section(study: Study, plan: Sequence[PlanEntry], spec) -> str:
     return "".join(out)
 
 
-def _samples_section(study: Study) -> str:
+def _samples_section(study: Trial) -> str:
     if not study.samples:
         return "<p>No samples listed.</p>"
     rows = [(s.name, "yes" if s.is_control else "", ", ".join(s.allergens) or "none declared",
@@ -273,7 +273,7 @@ def _samples_section(study: Study) -> str:
     return _table(["sample", "control", "allergens", "description"], rows)
 
 
-def _panel_section(a: StudyAnalysis, responses: Sequence[Response]) -> str:
+def _panel_section(a: TrialAnalysis, responses: Sequence[Answer]) -> str:
     modes = Counter(str(r.mode) for r in responses)
     rows = [("panelists planned", a.panelists_planned),
             ("panelists who answered", a.panelists_answered),
@@ -283,7 +283,7 @@ def _panel_section(a: StudyAnalysis, responses: Sequence[Response]) -> str:
             "report holds no personal data.</p>")
 
 
-def _decision_section(d: Decision, study: Study) -> str:
+def _decision_section(d: Decision, study: Trial) -> str:
     kind = {"difference": "", "similar": "", "preference": ""}.get(d.verdict, "neutral")
     if d.verdict in ("no answers yet", "not enough data"):
         kind = "none"
@@ -300,7 +300,7 @@ def _decision_section(d: Decision, study: Study) -> str:
     return "".join(parts)
 
 
-def _forced_choice_results(a: StudyAnalysis, charts: _Charts) -> str:
+def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
     fc = a.choice
     d = fc.difference
     out = []
@@ -336,7 +336,7 @@ def _forced_choice_results(a: StudyAnalysis, charts: _Charts) -> str:
     return "".join(out)
 
 
-def _rating_results(a: StudyAnalysis, charts: _Charts) -> str:
+def _rating_results(a: TrialAnalysis, charts: _Charts) -> str:
     out = []
     for at in a.attributes:
         out.append(f"<h3>{e(at.attribute)} ({e(at.kind)}, {at.low} to {at.high})</h3>")
@@ -368,7 +368,7 @@ def _rating_results(a: StudyAnalysis, charts: _Charts) -> str:
     return "".join(out)
 
 
-def _ranking_results(a: StudyAnalysis, charts: _Charts) -> str:
+def _ranking_results(a: TrialAnalysis, charts: _Charts) -> str:
     rk = a.ranking
     if rk is None or rk.result is None:
         return f"<p>{e(rk.note if rk else 'No result.')}</p>"
@@ -386,7 +386,7 @@ def _ranking_results(a: StudyAnalysis, charts: _Charts) -> str:
     return "".join(out)
 
 
-def _measures_section(a: StudyAnalysis, batches: Sequence[Batch], charts: _Charts) -> str:
+def _measures_section(a: TrialAnalysis, batches: Sequence[Batch], charts: _Charts) -> str:
     m = a.measures
     out = []
     if batches:
@@ -424,7 +424,7 @@ def _measures_section(a: StudyAnalysis, batches: Sequence[Batch], charts: _Chart
     return "".join(out)
 
 
-def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> str:
+def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Answer]) -> str:
     if not responses:
         return "<p>No answers yet.</p>"
     frame = decode_responses(plan, responses)
@@ -444,8 +444,8 @@ def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Response]) -> str:
 
 
 
-def _prepared(study: Study, analysis: StudyAnalysis,
-              decision_text: Decision | str | None) -> tuple[StudyAnalysis, Decision]:
+def _prepared(study: Trial, analysis: TrialAnalysis,
+              decision_text: Decision | str | None) -> tuple[TrialAnalysis, Decision]:
     """The analysis and the decision a report shows: the decision given, or made from
     the analysis (a plain text decision is wrapped with the method's published source).
     The report draws; it never analyses (the caller made ``analysis`` once)."""
@@ -456,16 +456,16 @@ def _prepared(study: Study, analysis: StudyAnalysis,
                                   get_method(study.method).reference)
     return analysis, decision_text
 
-def report_html(study: Study, analysis: StudyAnalysis, *,
-                plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
+def report_html(study: Trial, analysis: TrialAnalysis, *,
+                plan: Sequence[PlanEntry] = (), responses: Sequence[Answer] = (),
                 batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
                 generated_on: dt.date | None = None) -> str:
     """The trial's report as one self-contained HTML document.
 
     Parameters
     ----------
-    study : trials.model.Study
-    analysis : trials.analysis.StudyAnalysis
+    study : trials.model.Trial
+    analysis : trials.analysis.TrialAnalysis
         From :func:`trials.analysis.analyse` of the same plan, responses and batches.
     plan, responses, batches : sequences of records
         For the plan summary, the panel counts, the batch table and the appendix.
@@ -527,8 +527,8 @@ def report_html(study: Study, analysis: StudyAnalysis, *,
             + "\n".join(body) + "</main></body></html>\n")
 
 
-def report_pdf(study: Study, analysis: StudyAnalysis, *,
-               plan: Sequence[PlanEntry] = (), responses: Sequence[Response] = (),
+def report_pdf(study: Trial, analysis: TrialAnalysis, *,
+               plan: Sequence[PlanEntry] = (), responses: Sequence[Answer] = (),
                batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
                page: str = "A4") -> bytes:
     """A printable summary of the report as PDF bytes (reportlab, embedded fonts).
@@ -599,7 +599,7 @@ def report_pdf(study: Study, analysis: StudyAnalysis, *,
     return buf.getvalue()
 
 
-def _pdf_results(analysis: StudyAnalysis, p, body, h2, grid) -> list:
+def _pdf_results(analysis: TrialAnalysis, p, body, h2, grid) -> list:
     """The result tables and charts of the PDF summary, by the method's family."""
     from reportlab.platypus import Paragraph, Spacer
 

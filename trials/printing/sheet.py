@@ -19,7 +19,7 @@ from reportlab.pdfgen.canvas import Canvas
 
 from trials.errors import TrialsError
 from trials.methods import get_method
-from trials.model import AllergenConflict, Batch, Panelist, PlanEntry, Study
+from trials.model import AllergenConflict, Batch, Panelist, PlanEntry, Trial
 from trials.printing.layout import (
     BOLD,
     SANS,
@@ -99,7 +99,7 @@ def _prep_text(b: Batch | None) -> str:
 
 
 class _Sheet:
-    def __init__(self, c, size, study: Study):
+    def __init__(self, c, size, study: Trial):
         self.c = c
         self.width, self.height = size
         self.study = study
@@ -221,7 +221,7 @@ class _Sheet:
 
 
 def serving_sheet_pdf(
-    study: Study,
+    study: Trial,
     plan: Iterable[PlanEntry],
     *,
     batches: Iterable[Batch] = (),
@@ -234,7 +234,7 @@ def serving_sheet_pdf(
 
     Parameters
     ----------
-    study : Study
+    study : Trial
         The trial; its samples give the names, control flag, allergens and description.
     plan : iterable of PlanEntry
         The serving plan (the decoding key); each cup is one row, in serving order.

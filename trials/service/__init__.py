@@ -33,14 +33,14 @@ from trials.model import (
     BallotAnswer,
     BallotSet,
     PanelistBallot,
-    StudyOverview,
-    StudySummary,
+    TrialOverview,
+    TrialSummary,
 )
 from trials.service.answer_files import (
     check_paper_sheet,
     export_bytes,
-    export_responses,
-    import_responses,
+    export_answers,
+    import_answers,
     paper_sheet,
     save_paper_sheet,
 )
@@ -65,13 +65,13 @@ from trials.service.documents import (
 from trials.service.history import control_names, control_trend, history
 from trials.service.panel import add_panelist, import_panelists, list_panelists
 from trials.service.results import (
-    analyse_study,
+    analyse_trial,
     critical_values,
     critical_values_pdf,
     panel_performance_of,
-    planning_answer,
+    panel_size_needed,
     power_curve,
-    study_decision,
+    trial_decision,
 )
 from trials.service.serving import (
     allergen_conflicts,
@@ -87,39 +87,39 @@ from trials.service.tasting import (
     audit_log,
     ballot_for_token,
     record_answer,
-    record_response,
-    responses,
-    responses_frame,
+    enter_answer,
+    list_answers,
+    answers_frame,
 )
 from trials.service.trials import (
     add_attribute,
     add_sample,
     change_stamp,
-    create_study,
-    get_study,
-    list_studies,
+    create_trial,
+    get_trial,
+    list_trials,
     record_decision,
     set_status,
-    study_overview,
-    update_study,
+    trial_overview,
+    update_trial,
 )
 from trials.store import Store, open_store
 from trials.store.plans import TASTE_PATH
 
 __all__ = [
     "NO_PREFERENCE", "TASTE_PATH",
-    "AuditEntry", "BallotAnswer", "BallotSet", "PanelistBallot", "Store", "StudyOverview",
-    "StudySummary",
+    "AuditEntry", "BallotAnswer", "BallotSet", "PanelistBallot", "Store", "TrialOverview",
+    "TrialSummary",
     "add_attribute", "add_batch", "add_panelist", "add_sample", "allergen_conflicts",
-    "analyse_study", "answer_progress", "audit_log", "ballot_for_token", "change_stamp",
-    "check_paper_sheet", "control_names", "control_trend", "create_study",
+    "analyse_trial", "answer_progress", "audit_log", "ballot_for_token", "change_stamp",
+    "check_paper_sheet", "control_names", "control_trend", "create_trial",
     "critical_values", "critical_values_pdf", "draw_plan", "export_archive",
-    "export_bytes", "export_measures_bytes", "export_responses", "get_study", "history",
-    "import_archive", "import_batches", "import_panelists", "import_responses",
-    "list_batches", "list_panelists", "list_studies", "measures_frame", "open_store",
+    "export_bytes", "export_measures_bytes", "export_answers", "get_trial", "history",
+    "import_archive", "import_batches", "import_panelists", "import_answers",
+    "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token", "plan",
-    "plan_balance", "planning_answer", "power_curve", "print_bytes", "print_document",
-    "print_result", "record_answer", "record_decision", "record_response", "report_html",
-    "report_pdf", "responses", "responses_frame", "save_paper_sheet", "set_status",
-    "sign_off_batch", "study_decision", "study_overview", "update_study", "write_report",
+    "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
+    "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
+    "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
+    "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",
 ]

@@ -40,9 +40,9 @@ from trials import answers
 from trials.answers import CHOICE, CheckedAnswer
 from trials.errors import AnswerError, ImportRowsError, TrialsError
 from trials.methods import get_method
-from trials.model import EntryMode, PlanBook, Study
+from trials.model import EntryMode, PlanBook, Trial
 from trials.service import _input
-from trials.service.tasting import checker_of, responses_frame, save_checked
+from trials.service.tasting import checker_of, answers_frame, save_checked
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import limits
@@ -133,9 +133,9 @@ def checked_import(book: PlanBook, records: list[dict[str, Any]], *, entered_by:
     return new
 
 
-def import_responses(
+def import_answers(
     store: Store,
-    study_id: int,
+    trial_id: int,
     path: str | Path | bytes,
     *,
     entered_by: str = "import",
@@ -156,7 +156,7 @@ def import_responses(
     at = now()
 
     def work(tx) -> int:
-        book = answer_rows.plan_book(tx, study_id, with_existing=True)
+        book = answer_rows.plan_book(tx, trial_id, with_existing=True)
         new = checked_import(book, records, entered_by=entered_by, at=at)
         note = f"{len(new)} answers from {source} ({len(records) - len(new)} already on file)"
         return answer_rows.insert_answers(tx, book, new, by=entered_by, note=note)
@@ -164,9 +164,9 @@ def import_responses(
     return store.write(work)
 
 
-def export_frame(store: Store, study_id: int) -> pd.DataFrame:
+def export_frame(store: Store, trial_id: int) -> pd.DataFrame:
     """Every answer with the sample behind each code, in the export's columns."""
-    frame = responses_frame(store, study_id)
+    frame = answers_frame(store, trial_id)
     return pd.DataFrame({
         "session": frame["session"], "panelist": frame["panelist"], "code": frame["code"],
         "attribute": frame["attribute"], "value": frame["value"], "comment": frame["comment"],
@@ -178,65 +178,65 @@ def export_frame(store: Store, study_id: int) -> pd.DataFrame:
     }, columns=list(EXPORT_COLUMNS))
 
 
-def export_responses(
-    store: Store, study_id: int, path: str | Path, *, fmt: str = "csv"
+def export_answers(
+    store: Store, trial_id: int, path: str | Path, *, fmt: str = "csv"
 ) -> int:
     """Write every answer with the sample behind each code (leader only); rows written.
 
     Columns: ``session panelist code attribute value comment entered_by entered_at mode
     sample set_index position role``; formula-like cells are neutralised. The file
-    imports back with :func:`import_responses`.
+    imports back with :func:`import_answers`.
     """
     from trials.tabular import write_table
 
     if fmt not in ("csv", "xlsx"):
         raise TrialsError(f"unknown export format {fmt!r}; expected csv or xlsx")
-    return write_table(export_frame(store, study_id), Path(path), fmt=fmt)
+    return write_table(export_frame(store, trial_id), Path(path), fmt=fmt)
 
 
-def export_bytes(store: Store, study_id: int, *, fmt: str = "csv") -> bytes:
-    """:func:`export_responses` as bytes, for a download button."""
+def export_bytes(store: Store, trial_id: int, *, fmt: str = "csv") -> bytes:
+    """:func:`export_answers` as bytes, for a download button."""
     from trials.tabular import table_bytes
 
     if fmt not in ("csv", "xlsx"):
         raise TrialsError(f"unknown export format {fmt!r}; expected csv or xlsx")
-    return table_bytes(export_frame(store, study_id), fmt=fmt)
+    return table_bytes(export_frame(store, trial_id), fmt=fmt)
 
 
 # ---------------------------------------------------------------- the paper grid
 
 
-def _attribute_names(study: Study) -> list[str]:
+def _attribute_names(study: Trial) -> list[str]:
     return [a.name for a in study.attributes]
 
 
-def paper_sheet(store: Store, study_id: int, session: str) -> pd.DataFrame:
+def paper_sheet(store: Store, trial_id: int, session: str) -> pd.DataFrame:
     """The paper-entry grid of one session, filled with the answers on file
     (:func:`trials.answers.paper_sheet`). Codes are the blinding codes only."""
     with store.read() as tx:
-        study = trial_rows.get_trial(tx, study_id)
-        entries = plan_rows.plan_entries(tx, study_id, session)
-        got = [r for r in answer_rows.responses(tx, study_id) if r.session == str(session)]
+        study = trial_rows.get_trial(tx, trial_id)
+        entries = plan_rows.plan_entries(tx, trial_id, session)
+        got = [r for r in answer_rows.list_answers(tx, trial_id) if r.session == str(session)]
     return answers.paper_sheet(get_method(study.method), entries, got, _attribute_names(study))
 
 
-def check_paper_sheet(store: Store, study_id: int, session: str,
+def check_paper_sheet(store: Store, trial_id: int, session: str,
                       frame: pd.DataFrame) -> list[str]:
     """Problems of a paper grid (:func:`trials.answers.sheet_problems`), one message per
     bad cell; empty when every answer would be accepted."""
     with store.read() as tx:
-        book = answer_rows.plan_book(tx, study_id)
+        book = answer_rows.plan_book(tx, trial_id)
     return answers.sheet_problems(checker_of(book), str(session), frame)
 
 
-def save_paper_sheet(store: Store, study_id: int, session: str, frame: pd.DataFrame, *,
+def save_paper_sheet(store: Store, trial_id: int, session: str, frame: pd.DataFrame, *,
                      entered_by: str = "leader") -> int:
     """Record every answer of a paper grid (mode ``paper``) in one transaction; all or
     none. An answer already on file with the same value is kept once; a changed one is
     replaced and audited. Returns the answers in the grid."""
 
     def work(tx) -> int:
-        book = answer_rows.plan_book(tx, study_id)
+        book = answer_rows.plan_book(tx, trial_id)
         checker = checker_of(book)
         problems = answers.sheet_problems(checker, str(session), frame)
         if problems:

@@ -25,25 +25,25 @@ ARCHIVE_FORMAT = "kitchen-trials-archive"
 ARCHIVE_VERSION = 1
 
 
-def export_archive(store: Store, study_id: int) -> bytes:
+def export_archive(store: Store, trial_id: int) -> bytes:
     """The whole trial as one zip file holding ``trial.json``: the trial, samples,
     attributes, batches, the panelists it serves, the plan with the key, responses and
     the audit log, read in one transaction. :func:`import_archive` makes an identical
     trial from it."""
     with store.read() as tx:
-        study = trial_rows.get_trial(tx, study_id)
-        entries = plan_rows.plan_entries(tx, study_id)
+        study = trial_rows.get_trial(tx, trial_id)
+        entries = plan_rows.plan_entries(tx, trial_id)
         codes = {e.panelist_code for e in entries}
         doc = {
             "format": ARCHIVE_FORMAT, "version": ARCHIVE_VERSION,
             "study": study.to_dict(),
-            "batches": [b.to_dict() for b in batch_rows.list_batches(tx, study_id)],
+            "batches": [b.to_dict() for b in batch_rows.list_batches(tx, trial_id)],
             "panelists": [p.to_dict() for p in panel_rows.list_panelists(tx)
                           if p.code in codes],
-            "sessions": trial_rows.sessions_of(tx, study_id),
+            "sessions": trial_rows.sessions_of(tx, trial_id),
             "plan": [e.to_dict() for e in entries],
-            "responses": [r.to_dict() for r in answer_rows.responses(tx, study_id)],
-            "audit": [a.to_dict() for a in answer_rows.audit_log(tx, study_id)],
+            "responses": [r.to_dict() for r in answer_rows.list_answers(tx, trial_id)],
+            "audit": [a.to_dict() for a in answer_rows.audit_log(tx, trial_id)],
         }
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as z:

@@ -24,7 +24,7 @@ KINDS = ("setting", "measure")
 
 def add_batch(
     store: Store,
-    study_id: int,
+    trial_id: int,
     sample_name: str,
     label: str,
     *,
@@ -45,19 +45,19 @@ def add_batch(
     sets = _input.measurements(settings, "process setting")
     meas = _input.measurements(measures, "measured variable")
     return store.write(lambda tx: batch_rows.add_batch(
-        tx, study_id, sample_name, label, prepared_on=prepared, prepared_by=prepared_by,
+        tx, trial_id, sample_name, label, prepared_on=prepared, prepared_by=prepared_by,
         notes=notes, settings=sets, measures=meas, by=by))
 
 
-def list_batches(store: Store, study_id: int) -> list[Batch]:
+def list_batches(store: Store, trial_id: int) -> list[Batch]:
     """The trial's batches, by sample."""
     with store.read() as tx:
-        return batch_rows.list_batches(tx, study_id)
+        return batch_rows.list_batches(tx, trial_id)
 
 
 def sign_off_batch(
     store: Store,
-    study_id: int,
+    trial_id: int,
     sample_name: str,
     label: str,
     *,
@@ -67,7 +67,7 @@ def sign_off_batch(
     """Record the food-safety sign-off of a batch (who, when), per the local food code."""
     who = _input.name(by, "the person signing off")
     when = _input.as_date(on, "the sign-off date") or _input.today()
-    return store.write(lambda tx: batch_rows.sign_off(tx, study_id, sample_name, label,
+    return store.write(lambda tx: batch_rows.sign_off(tx, trial_id, sample_name, label,
                                                       who=who, when=when))
 
 
@@ -116,7 +116,7 @@ def _parse_batch_rows(frame: pd.DataFrame, samples: set[str]) -> list[tuple]:
     return parsed
 
 
-def import_batches(store: Store, study_id: int, path: str | Path, *, by: str = "import") -> int:
+def import_batches(store: Store, trial_id: int, path: str | Path, *, by: str = "import") -> int:
     """Import batch settings and measured variables from a tidy CSV or Excel file.
 
     Columns: ``sample``, ``batch``, ``kind`` (``setting`` or ``measure``), ``name``,
@@ -128,8 +128,8 @@ def import_batches(store: Store, study_id: int, path: str | Path, *, by: str = "
     _input.require_columns(frame, BATCH_COLUMNS)
 
     def work(tx) -> int:
-        parsed = _parse_batch_rows(frame, batch_rows.sample_names(tx, study_id))
-        return batch_rows.store_values(tx, study_id, parsed, by)
+        parsed = _parse_batch_rows(frame, batch_rows.sample_names(tx, trial_id))
+        return batch_rows.store_values(tx, trial_id, parsed, by)
 
     return store.write(work)
 
@@ -159,14 +159,14 @@ def measures_table(batches: Iterable[Batch]) -> pd.DataFrame:
     return pd.DataFrame(out, columns=MEASURE_COLUMNS)
 
 
-def measures_frame(store: Store, study_id: int) -> pd.DataFrame:
+def measures_frame(store: Store, trial_id: int) -> pd.DataFrame:
     """The trial's batch values as :func:`measures_table`."""
-    return measures_table(list_batches(store, study_id))
+    return measures_table(list_batches(store, trial_id))
 
 
-def export_measures_bytes(store: Store, study_id: int) -> bytes:
+def export_measures_bytes(store: Store, trial_id: int) -> bytes:
     """The trial's batch settings and measured variables (:func:`measures_frame`) as a
     tidy CSV, formula-like cells neutralised."""
     from trials.tabular import table_bytes
 
-    return table_bytes(measures_frame(store, study_id), fmt="csv")
+    return table_bytes(measures_frame(store, trial_id), fmt="csv")

@@ -15,7 +15,7 @@ from trials.store import Store
 DOCUMENTS = ("ballots", "sheet", "labels")
 
 
-def print_result(store: Store, study_id: int, kind: str, *, progress=None,
+def print_result(store: Store, trial_id: int, kind: str, *, progress=None,
                  base_url: str = ""):
     """A printed document of the trial as a :class:`trials.printing.PrintResult`:
     ``ballots``, ``sheet`` (the serving sheet with the key, kitchen only) or ``labels``.
@@ -27,9 +27,9 @@ def print_result(store: Store, study_id: int, kind: str, *, progress=None,
 
     if kind not in DOCUMENTS:
         raise TrialsError(f"unknown document {kind!r}; expected ballots, sheet or labels")
-    f = trial_file(store, study_id)
+    f = trial_file(store, trial_id)
     if not f.plan:
-        raise TrialsError(f"trial {study_id} has no serving plan yet; draw one first")
+        raise TrialsError(f"trial {trial_id} has no serving plan yet; draw one first")
     entries = list(f.plan)
     if kind == "ballots":
         return printing.ballots_pdf(f.study, entries, panelists=list(f.roster),
@@ -43,25 +43,25 @@ def print_result(store: Store, study_id: int, kind: str, *, progress=None,
     return printing.labels_pdf(entries, progress=progress)
 
 
-def print_bytes(store: Store, study_id: int, kind: str, *, progress=None,
+def print_bytes(store: Store, trial_id: int, kind: str, *, progress=None,
                 base_url: str = "") -> bytes:
     """The PDF bytes of :func:`print_result`, for a download button."""
-    return print_result(store, study_id, kind, progress=progress, base_url=base_url).data
+    return print_result(store, trial_id, kind, progress=progress, base_url=base_url).data
 
 
-def print_document(store: Store, study_id: int, kind: str, path: Path, *,
+def print_document(store: Store, trial_id: int, kind: str, path: Path, *,
                    base_url: str = "") -> int:
     """Write :func:`print_result`'s PDF to ``path``; returns the number of pages."""
-    result = print_result(store, study_id, kind, base_url=base_url)
+    result = print_result(store, trial_id, kind, base_url=base_url)
     Path(path).write_bytes(result.data)
     return result.pages
 
 
-def _report(store: Store, study_id: int, build):
+def _report(store: Store, trial_id: int, build):
     """One snapshot, one analysis, one decision, and the document ``build`` makes."""
     from trials.decision import decide
 
-    f = trial_file(store, study_id)
+    f = trial_file(store, trial_id)
     analysis = analyse_file(f)
     decision = decide(analysis, study=f.study)
     doc = build(f.study, analysis, plan=list(f.plan), responses=list(f.responses),
@@ -69,25 +69,25 @@ def _report(store: Store, study_id: int, build):
     return doc, decision
 
 
-def report_html(store: Store, study_id: int) -> str:
+def report_html(store: Store, trial_id: int) -> str:
     """The trial's report as one self-contained HTML document
     (:func:`trials.printing.report.report_html`)."""
     from trials.printing.report import report_html as build
 
-    return _report(store, study_id, build)[0]
+    return _report(store, trial_id, build)[0]
 
 
-def report_pdf(store: Store, study_id: int) -> bytes:
+def report_pdf(store: Store, trial_id: int) -> bytes:
     """The trial's printable summary as PDF bytes (:func:`trials.printing.report.report_pdf`)."""
     from trials.printing.report import report_pdf as build
 
-    return _report(store, study_id, build)[0]
+    return _report(store, trial_id, build)[0]
 
 
-def write_report(store: Store, study_id: int, path: Path) -> str:
+def write_report(store: Store, trial_id: int, path: Path) -> str:
     """Write the trial's HTML report to ``path``; returns the decision's headline."""
     from trials.printing.report import report_html as build
 
-    doc, decision = _report(store, study_id, build)
+    doc, decision = _report(store, trial_id, build)
     Path(path).write_text(doc, encoding="utf-8")
     return decision.text

@@ -31,10 +31,10 @@ def add_panelist(
         tx, code, allergens=declared, restrictions=restrictions, consent_on=consent, by=by))
 
 
-def list_panelists(store: Store, study_id: int | None = None) -> list[Panelist]:
-    """The roster, or (with ``study_id``) the panelists in that trial's plan."""
+def list_panelists(store: Store, trial_id: int | None = None) -> list[Panelist]:
+    """The roster, or (with ``trial_id``) the panelists in that trial's plan."""
     with store.read() as tx:
-        return panel_rows.list_panelists(tx, study_id)
+        return panel_rows.list_panelists(tx, trial_id)
 
 
 def import_panelists(store: Store, path: str | Path, *, by: str = "import") -> int:

@@ -11,7 +11,7 @@ import pandas as pd
 
 from trials.errors import TrialsError
 from trials.methods import get_method
-from trials.model import Batch, Panelist, PlanEntry, Response, Study
+from trials.model import Batch, Panelist, PlanEntry, Answer, Trial
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import batches as batch_rows
@@ -26,24 +26,24 @@ class TrialFile:
     tablets write): the trial, its plan with the key, answers, batches, the roster and
     the tasting links."""
 
-    study: Study
+    study: Trial
     plan: tuple[PlanEntry, ...]
-    responses: tuple[Response, ...]
+    responses: tuple[Answer, ...]
     batches: tuple[Batch, ...]
     roster: tuple[Panelist, ...]
     links: dict[str, str]
 
 
-def trial_file(store: Store, study_id: int) -> TrialFile:
+def trial_file(store: Store, trial_id: int) -> TrialFile:
     """The trial's :class:`TrialFile`."""
     with store.read() as tx:
         return TrialFile(
-            study=trial_rows.get_trial(tx, study_id),
-            plan=tuple(plan_rows.plan_entries(tx, study_id)),
-            responses=tuple(answer_rows.responses(tx, study_id)),
-            batches=tuple(batch_rows.list_batches(tx, study_id)),
+            study=trial_rows.get_trial(tx, trial_id),
+            plan=tuple(plan_rows.plan_entries(tx, trial_id)),
+            responses=tuple(answer_rows.list_answers(tx, trial_id)),
+            batches=tuple(batch_rows.list_batches(tx, trial_id)),
             roster=tuple(panel_rows.list_panelists(tx)),
-            links=plan_rows.links(tx, study_id),
+            links=plan_rows.links(tx, trial_id),
         )
 
 
@@ -54,26 +54,26 @@ def analyse_file(f: TrialFile):
     return analyse(f.study, list(f.plan), list(f.responses), batches=list(f.batches))
 
 
-def analyse_study(store: Store, study_id: int):
+def analyse_trial(store: Store, trial_id: int):
     """The trial's analysis (:func:`trials.analysis.analyse`) from one snapshot."""
-    return analyse_file(trial_file(store, study_id))
+    return analyse_file(trial_file(store, trial_id))
 
 
-def study_decision(store: Store, study_id: int, analysis=None):
+def trial_decision(store: Store, trial_id: int, analysis=None):
     """The decision text for the trial's results (:func:`trials.decision.decide`), from
     a given analysis or a fresh one."""
     from trials.decision import decide
 
-    f = trial_file(store, study_id)
+    f = trial_file(store, trial_id)
     return decide(analysis if analysis is not None else analyse_file(f), study=f.study)
 
 
-def planning_answer(store: Store, study_id: int):
-    """How many assessors a discrimination trial needs for its alpha, beta and pd
+def panel_size_needed(store: Store, trial_id: int):
+    """How many panelists a discrimination trial needs for its alpha, beta and pd
     (:func:`trials.stats.power.panel_size`); None when the trial is not a
     forced-choice trial or has no pd yet."""
     with store.read() as tx:
-        study = trial_rows.get_trial(tx, study_id)
+        study = trial_rows.get_trial(tx, trial_id)
     if not get_method(study.method).is_forced_choice or not study.pd:
         return None
     from trials.stats.power import panel_size
@@ -82,7 +82,7 @@ def planning_answer(store: Store, study_id: int):
 
 
 def power_curve(method: str, *, pd: float, alpha: float, ns: Sequence[int]) -> pd.DataFrame:
-    """Exact power of the difference test against the number of assessors
+    """Exact power of the difference test against the number of panelists
     (:func:`trials.stats.power.power`); columns ``n power critical``."""
     from pandas import DataFrame  # the name ``pd`` is the proportion here
 
@@ -93,15 +93,15 @@ def power_curve(method: str, *, pd: float, alpha: float, ns: Sequence[int]) -> p
                       "critical": [r.critical for r in found]})
 
 
-def panel_performance_of(store: Store, study_id: int, attribute: str):
+def panel_performance_of(store: Store, trial_id: int, attribute: str):
     """Per-panelist performance on one rated attribute
     (:func:`trials.stats.panel.panel_performance`); sessions are the replicates."""
     from trials.service.tasting import answers_table
     from trials.stats.panel import panel_performance
 
     with store.read() as tx:
-        book = answer_rows.plan_book(tx, study_id)
-        answers = answer_rows.responses(tx, study_id)
+        book = answer_rows.plan_book(tx, trial_id)
+        answers = answer_rows.list_answers(tx, trial_id)
     frame = answers_table(book, answers)
     frame = frame[frame["attribute"] == attribute]
     if frame.empty:

@@ -87,7 +87,7 @@ def _check_roster(codes: Sequence[str], roster: dict[str, Panelist]) -> None:
 
 def draw_plan(
     store: Store,
-    study_id: int,
+    trial_id: int,
     *,
     panelist_codes: Sequence[str],
     session: str = "1",
@@ -115,7 +115,7 @@ def draw_plan(
         raise TrialsError(f"panelists listed twice: {', '.join(map(repr, dupes))}")
 
     def work(tx) -> list[PlanEntry]:
-        trial = trial_rows.get_trial(tx, study_id)
+        trial = trial_rows.get_trial(tx, trial_id)
         spec = get_method(trial.method)
         _check_samples(spec, trial.id, trial.samples, len(trial.attributes))
         roster = plan_rows.roster_of(tx, codes)
@@ -136,10 +136,10 @@ def draw_plan(
     return store.write(work)
 
 
-def plan(store: Store, study_id: int, session: str | None = None) -> list[PlanEntry]:
+def plan(store: Store, trial_id: int, session: str | None = None) -> list[PlanEntry]:
     """The serving plan with the decoding key (leader views and the serving sheet only)."""
     with store.read() as tx:
-        return plan_rows.plan_entries(tx, study_id, session)
+        return plan_rows.plan_entries(tx, trial_id, session)
 
 
 def conflicts_of(samples: Sequence[Sample], entries: Sequence[PlanEntry],
@@ -153,7 +153,7 @@ def conflicts_of(samples: Sequence[Sample], entries: Sequence[PlanEntry],
     return served_conflicts(entries, samples, roster)
 
 
-def allergen_conflicts(store: Store, study_id: int) -> list[AllergenConflict]:
+def allergen_conflicts(store: Store, trial_id: int) -> list[AllergenConflict]:
     """Panelists whose declared allergens a sample of the trial holds
     (:func:`trials.design.allergens.allergen_conflicts`).
 
@@ -161,21 +161,21 @@ def allergen_conflicts(store: Store, study_id: int) -> list[AllergenConflict]:
     sample of the trial counts for every panelist on the roster.
     """
     with store.read() as tx:
-        trial = trial_rows.get_trial(tx, study_id)
-        entries = plan_rows.plan_entries(tx, study_id)
+        trial = trial_rows.get_trial(tx, trial_id)
+        entries = plan_rows.plan_entries(tx, trial_id)
         roster = panel_rows.list_panelists(tx)
     return conflicts_of(trial.samples, entries, roster)
 
 
-def panel_choice(store: Store, study_id: int) -> PanelChoice:
+def panel_choice(store: Store, trial_id: int) -> PanelChoice:
     """Who may be served in the trial's next plan (one snapshot): panelists without a
     consent date cannot be; those with an allergen conflict are left out of the
     suggestion (drawing with them is refused)."""
     with store.read() as tx:
-        trial = trial_rows.get_trial(tx, study_id)
+        trial = trial_rows.get_trial(tx, trial_id)
         roster = panel_rows.list_panelists(tx)
-        planned = {p.code for p in panel_rows.list_panelists(tx, study_id)}
-        entries = plan_rows.plan_entries(tx, study_id)
+        planned = {p.code for p in panel_rows.list_panelists(tx, trial_id)}
+        entries = plan_rows.plan_entries(tx, trial_id)
     clash = {c.panelist_code for c in conflicts_of(trial.samples, entries, roster)}
     consented = [p.code for p in roster if p.consented]
     safe = [c for c in consented if c not in clash]
@@ -186,10 +186,10 @@ def panel_choice(store: Store, study_id: int) -> PanelChoice:
     )
 
 
-def plan_balance(store: Store, study_id: int) -> dict[str, pd.DataFrame]:
+def plan_balance(store: Store, trial_id: int) -> dict[str, pd.DataFrame]:
     """How balanced the drawn plan is: cups of each sample at each position, and (forced
     choice) how often each set pattern is served. Empty frames without a plan."""
-    entries = plan(store, study_id)
+    entries = plan(store, trial_id)
     if not entries:
         return {"positions": pd.DataFrame(), "patterns": pd.DataFrame()}
     frame = pd.DataFrame([e.to_dict() for e in entries])
@@ -204,12 +204,12 @@ def plan_balance(store: Store, study_id: int) -> dict[str, pd.DataFrame]:
     return out
 
 
-def panelist_token(store: Store, study_id: int, panelist_code: str) -> str:
+def panelist_token(store: Store, trial_id: int, panelist_code: str) -> str:
     """The unguessable token of a panelist's tasting link for a trial (made on first use)."""
-    return store.write(lambda tx: plan_rows.token_of(tx, study_id, panelist_code))
+    return store.write(lambda tx: plan_rows.token_of(tx, trial_id, panelist_code))
 
 
-def panelist_links(store: Store, study_id: int) -> dict[str, str]:
+def panelist_links(store: Store, trial_id: int) -> dict[str, str]:
     """Panelist code -> path of the tasting screen, relative to the app's address."""
     with store.read() as tx:
-        return plan_rows.links(tx, study_id)
+        return plan_rows.links(tx, trial_id)

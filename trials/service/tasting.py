@@ -21,7 +21,7 @@ from trials.model import (
     EntryMode,
     PanelistBallot,
     PlanBook,
-    Response,
+    Answer,
 )
 from trials.service import _input
 from trials.store import Store
@@ -42,7 +42,7 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
     with store.read() as tx:
         trial_id, code = plan_rows.token_owner(tx, token)
         book = answer_rows.plan_book(tx, trial_id, panelist_code=code)
-        mine = answer_rows.responses(tx, trial_id, panelist_code=code)
+        mine = answer_rows.list_answers(tx, trial_id, panelist_code=code)
     spec = get_method(book.trial.method)
     key = PlanKey.of(book.entries)
     sets = [BallotSet(sess, k, tuple(c.code for c in cups))
@@ -64,7 +64,7 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
 def save_checked(tx, book: PlanBook, session: str, panelist: str, code: str,
                  attribute: str, value: Any, *, comment: str, entered_by: str,
                  entered_at: dt.datetime | None, mode: EntryMode,
-                 checker: AnswerChecker | None = None) -> Response:
+                 checker: AnswerChecker | None = None) -> Answer:
     """Check one answer against the plan (an :class:`~trials.errors.AnswerError`, a
     TrialsError, names what was expected) and store it: recorded once; a changed
     answer replaces the old one, audited."""
@@ -82,7 +82,7 @@ def record_answer(
     value: Any = "",
     comment: str = "",
     session: str | None = None,
-) -> Response:
+) -> Answer:
     """Record a panelist's own answer from the tasting screen (mode ``tablet``).
 
     The same answer twice is recorded once; a different answer to the same question
@@ -90,7 +90,7 @@ def record_answer(
     served in one session only.
     """
 
-    def work(tx) -> Response:
+    def work(tx) -> Answer:
         trial_id, panelist = plan_rows.token_owner(tx, token)
         book = answer_rows.plan_book(tx, trial_id, panelist_code=panelist)
         sess = session
@@ -107,9 +107,9 @@ def record_answer(
     return store.write(work)
 
 
-def record_response(
+def enter_answer(
     store: Store,
-    study_id: int,
+    trial_id: int,
     *,
     panelist_code: str,
     code: str,
@@ -120,12 +120,12 @@ def record_response(
     entered_by: str = "leader",
     mode: EntryMode | str = EntryMode.PAPER,
     entered_at: dt.datetime | None = None,
-) -> Response:
+) -> Answer:
     """Record an answer entered by the leader (from a paper ballot, by default)."""
     mode = _input.entry_mode(mode)
 
-    def work(tx) -> Response:
-        book = answer_rows.plan_book(tx, study_id)
+    def work(tx) -> Answer:
+        book = answer_rows.plan_book(tx, trial_id)
         return save_checked(tx, book, session, panelist_code, code, attribute, value,
                             comment=comment, entered_by=entered_by, entered_at=entered_at,
                             mode=mode)
@@ -133,10 +133,10 @@ def record_response(
     return store.write(work)
 
 
-def responses(store: Store, study_id: int) -> list[Response]:
+def list_answers(store: Store, trial_id: int) -> list[Answer]:
     """Every answer to a trial, by session and panelist."""
     with store.read() as tx:
-        return answer_rows.responses(tx, study_id)
+        return answer_rows.list_answers(tx, trial_id)
 
 
 ANSWER_COLUMNS = ["session", "panelist", "code", "attribute", "value", "score", "sample",
@@ -144,8 +144,8 @@ ANSWER_COLUMNS = ["session", "panelist", "code", "attribute", "value", "score", 
                   "entered_at", "mode"]
 
 
-def answers_table(book: PlanBook, answers: list[Response]) -> pd.DataFrame:
-    """Answers joined with the key, tidy (see :func:`responses_frame`)."""
+def answers_table(book: PlanBook, answers: list[Answer]) -> pd.DataFrame:
+    """Answers joined with the key, tidy (see :func:`answers_frame`)."""
     key = PlanKey.of(book.entries)
     out = []
     for r in answers:
@@ -173,7 +173,7 @@ def answers_table(book: PlanBook, answers: list[Response]) -> pd.DataFrame:
     return frame
 
 
-def responses_frame(store: Store, study_id: int) -> pd.DataFrame:
+def answers_frame(store: Store, trial_id: int) -> pd.DataFrame:
     """Answers joined with the key, tidy, for analysis (leader only).
 
     Columns: ``session panelist code attribute value score sample set_index position
@@ -184,23 +184,23 @@ def responses_frame(store: Store, study_id: int) -> pd.DataFrame:
     choice's correctness follows.
     """
     with store.read() as tx:
-        book = answer_rows.plan_book(tx, study_id)
-        answers = answer_rows.responses(tx, study_id)
+        book = answer_rows.plan_book(tx, trial_id)
+        answers = answer_rows.list_answers(tx, trial_id)
     return answers_table(book, answers)
 
 
-def answer_progress(store: Store, study_id: int) -> pd.DataFrame:
+def answer_progress(store: Store, trial_id: int) -> pd.DataFrame:
     """Answers on file against answers expected, per panelist and session
     (:func:`trials.answers.answer_progress`). Columns ``session panelist expected
     answered``."""
     with store.read() as tx:
-        book = answer_rows.plan_book(tx, study_id)
-        got = answer_rows.responses(tx, study_id)
+        book = answer_rows.plan_book(tx, trial_id)
+        got = answer_rows.list_answers(tx, trial_id)
     return progress(get_method(book.trial.method), book.entries, got,
                     attributes=len(book.trial.attributes))
 
 
-def audit_log(store: Store, study_id: int) -> list[AuditEntry]:
+def audit_log(store: Store, trial_id: int) -> list[AuditEntry]:
     """Every change to a trial, oldest first (roster changes are under no trial)."""
     with store.read() as tx:
-        return answer_rows.audit_log(tx, study_id)
+        return answer_rows.audit_log(tx, trial_id)

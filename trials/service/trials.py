@@ -14,9 +14,9 @@ from trials.model import (
     AttributeKind,
     Sample,
     Status,
-    Study,
-    StudyOverview,
-    StudySummary,
+    Trial,
+    TrialOverview,
+    TrialSummary,
 )
 from trials.service import _input
 from trials.store import Store
@@ -27,7 +27,7 @@ EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta
 RESERVED_ATTRIBUTES = ("choice", "rank")
 
 
-def list_studies(store: Store) -> list[StudySummary]:
+def list_trials(store: Store) -> list[TrialSummary]:
     """Every trial on file, newest first."""
     with store.read() as tx:
         return trial_rows.list_trials(tx)
@@ -78,7 +78,7 @@ def _delta(value: Any) -> float | None:
     return delta
 
 
-def create_study(
+def create_trial(
     store: Store,
     *,
     name: str,
@@ -94,7 +94,7 @@ def create_study(
     attributes: Sequence[Attribute] = (),
     created_on: dt.date | None = None,
     by: str = "leader",
-) -> Study:
+) -> Trial:
     """Create a trial with its samples and attributes; returns it with its id."""
     fields = {
         "name": _input.name(name, "the trial's name"), "method": get_method(method).name,
@@ -107,16 +107,16 @@ def create_study(
     clean_attributes = [check_attribute(a) for a in attributes]
     trial_id = store.write(lambda tx: trial_rows.insert_trial(
         tx, fields, clean_samples, clean_attributes, by))
-    return get_study(store, trial_id)
+    return get_trial(store, trial_id)
 
 
-def get_study(store: Store, study_id: int) -> Study:
+def get_trial(store: Store, trial_id: int) -> Trial:
     """The trial with its samples and attributes."""
     with store.read() as tx:
-        return trial_rows.get_trial(tx, study_id)
+        return trial_rows.get_trial(tx, trial_id)
 
 
-def update_study(store: Store, study_id: int, *, by: str, **changes: Any) -> Study:
+def update_trial(store: Store, trial_id: int, *, by: str, **changes: Any) -> Trial:
     """Change fields of a trial (``name product aim objective alpha beta pd delta method``).
 
     Each changed field is audited. The method can change only while no plan is drawn.
@@ -142,34 +142,34 @@ def update_study(store: Store, study_id: int, *, by: str, **changes: Any) -> Stu
             clean[key] = _input.aim(value)
         else:
             clean[key] = str(value or "")
-    store.write(lambda tx: trial_rows.update_fields(tx, study_id, clean, by))
-    return get_study(store, study_id)
+    store.write(lambda tx: trial_rows.update_fields(tx, trial_id, clean, by))
+    return get_trial(store, trial_id)
 
 
-def set_status(store: Store, study_id: int, status: Status | str, *, by: str) -> Study:
+def set_status(store: Store, trial_id: int, status: Status | str, *, by: str) -> Trial:
     """Move a trial to ``status`` (planning, ready, tasting, analysed, decided)."""
     try:
         status = Status(status)
     except ValueError:
         known = ", ".join(s.value for s in Status)
         raise TrialsError(f"unknown status {status!r}; expected one of: {known}") from None
-    store.write(lambda tx: trial_rows.update_fields(tx, study_id, {"status": status.value}, by))
-    return get_study(store, study_id)
+    store.write(lambda tx: trial_rows.update_fields(tx, trial_id, {"status": status.value}, by))
+    return get_trial(store, trial_id)
 
 
 def record_decision(
-    store: Store, study_id: int, decision: str, rationale: str, *, by: str
-) -> Study:
+    store: Store, trial_id: int, decision: str, rationale: str, *, by: str
+) -> Trial:
     """Record the leader's decision and its rationale; the trial becomes ``decided``."""
     changes = {"decision": _input.name(decision, "the decision"),
                "rationale": rationale or "", "status": Status.DECIDED.value}
-    store.write(lambda tx: trial_rows.update_fields(tx, study_id, changes, by))
-    return get_study(store, study_id)
+    store.write(lambda tx: trial_rows.update_fields(tx, trial_id, changes, by))
+    return get_trial(store, trial_id)
 
 
 def add_sample(
     store: Store,
-    study_id: int,
+    trial_id: int,
     name: str,
     *,
     is_control: bool = False,
@@ -180,12 +180,12 @@ def add_sample(
     """Add a sample (a variant) to a trial whose plan is not drawn yet."""
     sample = _sample(Sample(name=name, is_control=is_control,
                             allergens=_input.allergens(allergens), description=description))
-    return store.write(lambda tx: trial_rows.add_sample_to(tx, study_id, sample, by))
+    return store.write(lambda tx: trial_rows.add_sample_to(tx, trial_id, sample, by))
 
 
 def add_attribute(
     store: Store,
-    study_id: int,
+    trial_id: int,
     name: str,
     *,
     kind: AttributeKind | str = AttributeKind.HEDONIC,
@@ -197,27 +197,27 @@ def add_attribute(
     """Add a rated attribute with its scale (whole points ``low``..``high``)."""
     attr = Attribute(name=name, kind=kind, low=low, high=high, anchors=tuple(anchors))
     return store.write(lambda tx: trial_rows.add_attribute_to(
-        tx, study_id, check_attribute(attr), by))
+        tx, trial_id, check_attribute(attr), by))
 
 
-def study_overview(store: Store, study_id: int) -> StudyOverview:
+def trial_overview(store: Store, trial_id: int) -> TrialOverview:
     """The trial at a glance for the leader, with each panelist's tasting link
     (one snapshot)."""
     with store.read() as tx:
-        study = trial_rows.get_trial(tx, study_id)
-        counts = trial_rows.overview_counts(tx, study_id)
-        links = plan_rows.links(tx, study_id)
-    return StudyOverview(
+        study = trial_rows.get_trial(tx, trial_id)
+        counts = trial_rows.overview_counts(tx, trial_id)
+        links = plan_rows.links(tx, trial_id)
+    return TrialOverview(
         id=study.id, name=study.name, method=study.method, status=study.status,
         product=study.product, objective=study.objective, samples=study.samples,
         attributes=study.attributes, links=links, decision=study.decision, **counts,
     )
 
 
-def change_stamp(store: Store, study_id: int) -> tuple[int, int]:
+def change_stamp(store: Store, trial_id: int) -> tuple[int, int]:
     """A value that changes whenever the trial changes: (last audit id, answers).
 
     Every write is audited, so a cached read keyed on this stays right.
     """
     with store.read() as tx:
-        return trial_rows.change_stamp(tx, study_id)
+        return trial_rows.change_stamp(tx, trial_id)

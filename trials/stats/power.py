@@ -11,7 +11,7 @@ reported).
 References
 ----------
 ISO 4120:2021 Sensory analysis - Methodology - Triangle test (choosing the number of
-assessors).
+panelists).
 ASTM E1885-04 Standard Test Method for Sensory Analysis - Triangle Test.
 Meilgaard, M., Civille, G. V. and Carr, B. T. Sensory Evaluation Techniques, CRC Press
 (chapter 6 and the statistical tables).
@@ -100,7 +100,7 @@ def power(n: int, *, method: str, pd: float, alpha: float = 0.05) -> PowerResult
 
 
 @dataclass(frozen=True, slots=True)
-class PlanResult(Record):
+class PanelSizeResult(Record):
     """How many panelists a difference test needs.
 
     ``n`` follows ``definition``: ``"first"`` is the smallest n whose exact power
@@ -130,7 +130,7 @@ def _normal_size(p0: float, p1: float, alpha: float, beta: float, sides: int) ->
 
 
 def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.20,
-               definition: str = "stable") -> PlanResult:
+               definition: str = "stable") -> PanelSizeResult:
     """Fewest panelists meeting both risks, by the exact binomial.
 
     Parameters
@@ -148,7 +148,7 @@ def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.2
 
     Returns
     -------
-    PlanResult
+    PanelSizeResult
         ``n``, its critical count and exact power, and both ``n_first`` and
         ``n_stable``.
 
@@ -191,7 +191,7 @@ def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.2
                 break
         limit *= 2
     idx = stable if definition == "stable" else first
-    return PlanResult(
+    return PanelSizeResult(
         method=method, pd=pd, alpha=alpha, beta=beta, n=int(ns[idx]),
         critical=int(crit[idx]), power=float(pw[idx]), definition=definition,
         n_first=int(ns[first]), n_stable=int(ns[stable]), checked_up_to=limit,
@@ -201,7 +201,7 @@ def panel_size(pd: float, *, method: str, alpha: float = 0.05, beta: float = 0.2
 
 
 @dataclass(frozen=True, slots=True)
-class AssessorsNeeded(Record):
+class PanelistsNeeded(Record):
     """For a test under way: how many more panelists the plan needs.
 
     ``more`` = ``planned - done`` (0 when the plan is met). With ``correct`` given,
@@ -220,9 +220,9 @@ class AssessorsNeeded(Record):
     definition: str
 
 
-def assessors_needed(done: int, *, method: str, pd: float, alpha: float = 0.05,
+def panelists_needed(done: int, *, method: str, pd: float, alpha: float = 0.05,
                      beta: float = 0.20, correct: int | None = None,
-                     definition: str = "stable") -> AssessorsNeeded:
+                     definition: str = "stable") -> PanelistsNeeded:
     """How many more panelists a test under way needs to meet its planned risks.
 
     Parameters
@@ -236,7 +236,7 @@ def assessors_needed(done: int, *, method: str, pd: float, alpha: float = 0.05,
 
     Returns
     -------
-    AssessorsNeeded
+    PanelistsNeeded
 
     Notes
     -----
@@ -261,6 +261,6 @@ def assessors_needed(done: int, *, method: str, pd: float, alpha: float = 0.05,
             raise TrialsError(f"correct ({correct!r}) cannot exceed done ({done!r})")
         needed = max(0, crit - correct)
         reachable = needed <= total - done
-    return AssessorsNeeded(method=method, done=done, planned=plan.n, more=total - done,
+    return PanelistsNeeded(method=method, done=done, planned=plan.n, more=total - done,
                            critical=crit, correct=correct, correct_needed=needed,
                            reachable=reachable, definition=definition)

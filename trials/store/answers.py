@@ -12,7 +12,7 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.answers import CheckedAnswer
-from trials.model import AuditEntry, EntryMode, PlanBook, PlanEntry, Response
+from trials.model import AuditEntry, EntryMode, PlanBook, PlanEntry, Answer
 from trials.store import limits, rows
 from trials.store.schema import (
     AuditRow,
@@ -59,7 +59,7 @@ def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
 
 
 def save_answer(s: Session, book: PlanBook, ans: CheckedAnswer, *, comment: str,
-                entered_by: str, entered_at: dt.datetime | None, mode: EntryMode) -> Response:
+                entered_by: str, entered_at: dt.datetime | None, mode: EntryMode) -> Answer:
     """Insert, or update (audited) a different answer; the same answer is kept once."""
     trial_id = book.trial.id
     sid, pid = book.session_ids[ans.session], book.panelist_ids[ans.panelist]
@@ -107,7 +107,7 @@ def insert_answers(s: Session, book: PlanBook,
     return len(values)
 
 
-def responses(s: Session, trial_id: int, *, panelist_code: str | None = None) -> list[Response]:
+def list_answers(s: Session, trial_id: int, *, panelist_code: str | None = None) -> list[Answer]:
     """Every answer to a trial (or one panelist's), by session, panelist and entry."""
     trial = rows.trial_row(s, trial_id)
     q = (

@@ -24,10 +24,10 @@ from trials.model import (
     EntryMode,
     Measurement,
     Panelist,
-    Response,
+    Answer,
     Sample,
     Status,
-    Study,
+    Trial,
 )
 from trials.store.schema import (
     AttributeRow,
@@ -127,8 +127,8 @@ def attribute_record(row: AttributeRow) -> Attribute:
     )
 
 
-def trial_record(row: StudyRow) -> Study:
-    return Study(
+def trial_record(row: StudyRow) -> Trial:
+    return Trial(
         name=row.name, method=row.method, id=row.id, objective=row.objective or "",
         alpha=row.alpha, beta=row.beta, pd=row.pd, delta=row.delta,
         status=Status(row.status), decision=row.decision or "",
@@ -164,8 +164,8 @@ def panelist_record(row: PanelistRow) -> Panelist:
     )
 
 
-def response_record(row: ResponseRow, session: str, panelist: str) -> Response:
-    return Response(
+def response_record(row: ResponseRow, session: str, panelist: str) -> Answer:
+    return Answer(
         session=session, panelist_code=panelist, code=row.code, attribute=row.attribute,
         value=row.value, comment=row.comment or "", entered_by=row.entered_by or "",
         entered_at=row.entered_at, mode=EntryMode(row.mode),

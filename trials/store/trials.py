@@ -17,7 +17,7 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.errors import TrialsError
-from trials.model import Attribute, AttributeKind, Sample, Status, Study, StudySummary
+from trials.model import Attribute, AttributeKind, Sample, Status, Trial, TrialSummary
 from trials.store import rows
 from trials.store.schema import (
     AttributeRow,
@@ -32,17 +32,17 @@ from trials.store.schema import (
 RESERVED_ATTRIBUTES = ("choice", "rank")
 
 
-def list_trials(s: Session) -> list[StudySummary]:
+def list_trials(s: Session) -> list[TrialSummary]:
     """One line per trial, newest first."""
     return [
-        StudySummary(id=r.id, name=r.name, method=r.method, status=Status(r.status),
+        TrialSummary(id=r.id, name=r.name, method=r.method, status=Status(r.status),
                      product=r.product or "", created_on=r.created_on,
                      decision=r.decision or "")
         for r in s.scalars(sa.select(StudyRow).order_by(StudyRow.id.desc())).all()
     ]
 
 
-def get_trial(s: Session, trial_id: int) -> Study:
+def get_trial(s: Session, trial_id: int) -> Trial:
     return rows.trial_record(rows.trial_row(s, trial_id))
 
 
@@ -156,7 +156,7 @@ def sessions_of(s: Session, trial_id: int) -> list[dict[str, str | None]]:
             for x in rows.trial_row(s, trial_id).sessions]
 
 
-def all_trials(s: Session) -> list[Study]:
+def all_trials(s: Session) -> list[Trial]:
     """Every trial with its samples and attributes, newest first, in three queries."""
     from sqlalchemy.orm import selectinload
 
