@@ -89,7 +89,8 @@ def main(argv=None) -> int:
         total_s += best
         total_cpu += best_cpu
         peak_mb = max(peak_mb, peak / 2**20)
-        print(f"  {name:8s} {best:6.2f} s wall {best_cpu:6.2f} s CPU  peak Python heap {peak / 2**20:6.1f} MB  "
+        print(f"  {name:8s} {best:6.2f} s wall {best_cpu:6.2f} s CPU  "
+              f"peak Python heap {peak / 2**20:6.1f} MB  "
               f"pages {result.pages:4d}  items {result.items:5d}  "
               f"size {len(result.data) / 2**20:5.2f} MB")
     rss_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # Linux: KiB

@@ -81,7 +81,8 @@ def statsmodels_path(data: pd.DataFrame):
 
 def main() -> None:
     parser = argparse.ArgumentParser()
-    parser.add_argument("--quick", action="store_true", help="fewer repeats, smaller statsmodels runs")
+    parser.add_argument("--quick", action="store_true",
+                        help="fewer repeats, smaller statsmodels runs")
     args = parser.parse_args()
     repeat = 2 if args.quick else 5
     print(f"python {platform.python_version()}, numpy {np.__version__}, pandas {pd.__version__}, "
@@ -101,7 +102,8 @@ def main() -> None:
         print(f"  ANOVA + HSD + letters, typed columns: {secs:.3f} s (best of {repeat}), "
               f"peak traced memory {mem:.0f} MiB")
         print(f"  same from all-text columns (CLI path): {secs_text:.3f} s")
-        print(f"  F(sample) = {res.term('sample').F:.4f} against {res.error_term}, hsd = {res.hsd:.4f}")
+        print(f"  F(sample) = {res.term('sample').F:.4f} against {res.error_term}, "
+              f"hsd = {res.hsd:.4f}")
 
     print("\nratio to statsmodels ols + anova_lm (typ 1) on balanced block designs:")
     # statsmodels builds a dense design (rows x (panelists + 10)) and takes its pseudo-inverse;
@@ -117,7 +119,8 @@ def main() -> None:
             and np.isclose(ours.term("error").ss, table.loc["Residual", "sum_sq"], rtol=1e-9)
             and np.isclose(ours.term("sample").p, table.loc["C(sample)", "PR(>F)"], rtol=1e-6)
         )
-        print(f"  {panelists:>5} panelists x 10 samples ({len(data):,} rows): ours {ours_s * 1e3:8.1f} ms, "
+        print(f"  {panelists:>5} panelists x 10 samples ({len(data):,} rows): "
+              f"ours {ours_s * 1e3:8.1f} ms, "
               f"statsmodels {sm_s * 1e3:9.1f} ms, ratio {sm_s / ours_s:7.1f}x, "
               f"identical SS and p (rtol 1e-9 / 1e-6): {bool(same)}")
 

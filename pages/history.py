@@ -13,7 +13,8 @@ store = ui.store()
 
 left, mid, right = st.columns([3, 1.4, 1.6])
 text = left.text_input(
-    "Search", placeholder="a sample, a product, a process setting (e.g. fryer), a word of the decision"
+    "Search",
+    placeholder="a sample, a product, a process setting (e.g. fryer), a word of the decision",
 )
 labels = {"": "any method"} | {m.name: m.label for m in METHODS}
 method = mid.selectbox("Method", list(labels), format_func=labels.get)

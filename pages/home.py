@@ -21,7 +21,8 @@ STATUS_HELP = {
 }
 
 if not studies:
-    st.info("No trials on file yet. Start one below, or run `trials demo` for the invented examples.")
+    st.info("No trials on file yet. Start one below, or run `trials demo` for the invented "
+            "examples.")
 else:
     counts = {s: sum(1 for x in studies if x.status == s) for s in Status}
     cols = st.columns(len(Status))

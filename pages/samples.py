@@ -102,8 +102,9 @@ if batches:
     if waiting:
         with st.form("sign_off"):
             st.markdown("**Food-safety sign-off** (before any cup is served)")
-            pick = st.selectbox("Batch", range(len(waiting)),
-                                format_func=lambda i: f"{waiting[i].sample_name} / {waiting[i].label}")
+            pick = st.selectbox(
+                "Batch", range(len(waiting)),
+                format_func=lambda i: f"{waiting[i].sample_name} / {waiting[i].label}")
             signer = st.text_input("Signed off by", value=ui.who() if ui.who() != "leader" else "")
             st.caption("Sign off only what was prepared, cooled and held as your local food "
                        "code requires.")

@@ -49,7 +49,8 @@ def ballot_screen() -> None:
 
     if not open_steps:
         st.success("## Thank you, you are done.\n\nAll your answers are saved. "
-                   "Please hand the tablet back to the panel leader.", icon=":material/check_circle:")
+                   "Please hand the tablet back to the panel leader.",
+                   icon=":material/check_circle:")
         return
 
     st.caption("If you have an allergy, feel unwell or want to stop, tell the panel leader at "

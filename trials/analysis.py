@@ -38,7 +38,7 @@ import pandas as pd
 from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
-from trials.model import Attribute, AttributeKind, Batch, PlanEntry, Record, Answer, Trial
+from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -288,7 +288,8 @@ def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
     if rule is Scoring.ODD_ONE_OUT:
         if sorted(samples.values()) != [1, spec.set_size - 1]:
             many = {2: "two", 3: "three"}.get(spec.set_size - 1, str(spec.set_size - 1))
-            return None, f"a {spec.name} set must hold {many} cups of one sample and one of the other"
+            return None, (f"a {spec.name} set must hold {many} cups of one sample "
+                          "and one of the other")
         return samples[pick.sample_name] == 1, ""
     if rule is Scoring.MATCH_REFERENCE:
         ref = _reference(cups)
@@ -592,7 +593,8 @@ def _ranking(study: Trial, plan, responses) -> tuple[RankingAnalysis, list[str]]
         res = rank_test(frame, rank="rank", sample="sample", panelist="panelist",
                         alpha=study.alpha)
     except TrialsError as exc:
-        return RankingAnalysis(n_pan, len(frame), rank_means, None, f"rank test not run: {exc}"), problems
+        return RankingAnalysis(n_pan, len(frame), rank_means, None,
+                               f"rank test not run: {exc}"), problems
     return RankingAnalysis(n_pan, len(frame), rank_means, res), problems
 
 

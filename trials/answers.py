@@ -32,7 +32,7 @@ import pandas as pd
 
 from trials.errors import AnswerError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import Attribute, PlanEntry, Record, Answer, Trial
+from trials.model import Answer, Attribute, PlanEntry, Record, Trial
 
 CHOICE = "choice"
 RANK = "rank"
@@ -158,7 +158,8 @@ class AnswerChecker:
         attribute = str(attribute or "").strip()
         value = "" if value is None else str(value).strip()
         if panelist not in self.key.panelists:
-            raise AnswerError("panelist", f"panelist {panelist!r} has no serving plan in this trial")
+            raise AnswerError("panelist",
+                              f"panelist {panelist!r} has no serving plan in this trial")
         if session not in self.sessions:
             known = ", ".join(repr(x) for x in self.sessions)
             raise AnswerError("session", f"expected one of the sessions {known}, got {session!r}")
@@ -383,12 +384,12 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
             chosen[(r.panelist_code, code_set.get((r.panelist_code, first), 0))] = r
         rows = []
         for (p, k), items in sorted(cups.items()):
-            r = chosen.get((p, k))
+            given = chosen.get((p, k))
             row = {"panelist": p, "set": k + 1,
                    "cups": " ".join(e.code for e in sorted(items, key=lambda e: e.position)),
-                   "chosen": r.code if r else ""}
+                   "chosen": given.code if given else ""}
             if spec.allows_no_preference:
-                row["no_preference"] = bool(r and r.value == NO_PREFERENCE)
+                row["no_preference"] = bool(given and given.value == NO_PREFERENCE)
             rows.append(row)
         return pd.DataFrame(rows, columns=columns)
     names = _score_names(spec, attributes)

@@ -18,7 +18,8 @@ st.set_page_config(page_title="Kitchen Trials", page_icon=":material/restaurant:
 
 
 def _page(name: str, title: str, icon: str, *, default: bool = False) -> st.Page:
-    return st.Page(ui.PAGES_DIR / f"{name}.py", title=title, icon=icon, url_path=name, default=default)
+    return st.Page(ui.PAGES_DIR / f"{name}.py", title=title, icon=icon, url_path=name,
+                   default=default)
 
 
 if ui.panelist_token():

@@ -59,12 +59,14 @@ def _check_limits(args: argparse.Namespace) -> None:
     for dest, (most, what) in _MOST.items():
         value = getattr(args, dest, None)
         if isinstance(value, int) and value > most:
-            shown = str(value) if len(str(value)) <= 20 else f"{str(value)[:12]}... ({len(str(value))} digits)"
+            shown = (str(value) if len(str(value)) <= 20
+                     else f"{str(value)[:12]}... ({len(str(value))} digits)")
             raise TrialsError(f"{what} may be at most {most:,}; got {shown}")
     for dest in ("alpha", "beta"):
         value = getattr(args, dest, None)
         if isinstance(value, float) and 0 < value < limits.MIN_ALPHA:
-            raise TrialsError(f"--{dest} may be no smaller than {limits.MIN_ALPHA:g}; got {value!r}")
+            raise TrialsError(f"--{dest} may be no smaller than {limits.MIN_ALPHA:g}; "
+                              f"got {value!r}")
 
 
 def _seed(args: argparse.Namespace) -> int | None:

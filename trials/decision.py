@@ -188,7 +188,8 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
             limits.append("Not significant is not the same as similar: " + _similarity_limit(fc))
     limits.extend(_risks(fc, a))
     if c.problems:
-        limits.append(f"{len(c.problems)} answer(s) were left out (see the report's problems list).")
+        limits.append(f"{len(c.problems)} answer(s) were left out "
+                      "(see the report's problems list).")
     if d.note:
         limits.append(f"Note: {d.note}.")
     return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
@@ -269,7 +270,8 @@ def _penalty_line(at: AttributeAnalysis) -> str:
     for r in flagged[:4]:
         who = f"{r.sample}: " if r.sample else ""
         parts.append(f"{who}'{r.group}' for {fmt(r.share * 100, 0)} % of answers, liking "
-                     f"{fmt(r.drop, 1)} lower (weighted penalty {fmt(r.penalty)}, {fmt_p(r.p_value)})")
+                     f"{fmt(r.drop, 1)} lower (weighted penalty {fmt(r.penalty)}, "
+                     f"{fmt_p(r.p_value)})")
     return f"{at.attribute} (just-about-right, penalty analysis): " + "; ".join(parts) + "."
 
 
@@ -310,7 +312,8 @@ def _ratings(a: TrialAnalysis, study: Trial | None) -> Decision:
                 + (f"; no difference shown on {', '.join(flat)}." if flat else "."))
     else:
         verdict = Verdict.NO_DIFFERENCE
-        head = f"No difference was shown between the samples on any attribute (alpha {fmt_risk(a.alpha)})."
+        head = ("No difference was shown between the samples on any attribute "
+                f"(alpha {fmt_risk(a.alpha)}).")
     limits = ["Not significant is not the same as equal: a difference smaller than the test "
               "could detect with this panel may remain."]
     delta = study.delta if study is not None else None
@@ -320,7 +323,8 @@ def _ratings(a: TrialAnalysis, study: Trial | None) -> Decision:
     limits.append("Panelists are treated as a random sample of consumers or trained "
                   "panelists; the scores are treated as interval data.")
     if a.problems:
-        limits.append(f"{len(a.problems)} answer(s) were left out (see the report's problems list).")
+        limits.append(f"{len(a.problems)} answer(s) were left out "
+                      "(see the report's problems list).")
     return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
 
 

@@ -60,7 +60,8 @@ def entry_test():
 def by_label(widgets, label: str):
     """The one widget of ``widgets`` whose label is ``label``."""
     found = [w for w in widgets if w.label == label]
-    assert len(found) == 1, f"expected one widget labelled {label!r}, found {[w.label for w in widgets]}"
+    assert len(found) == 1, (
+        f"expected one widget labelled {label!r}, found {[w.label for w in widgets]}")
     return found[0]
 
 

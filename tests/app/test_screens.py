@@ -298,7 +298,8 @@ def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials)
     assert not at.exception, [e.message for e in at.exception]
     (batch,) = service.list_batches(store, trial_id)
     assert (batch.sample_name, batch.label, batch.signed_off) == ("Einkorn flatbread", "E1", False)
-    assert [(m.name, m.value, m.unit) for m in batch.settings] == [("oven temperature", 260.0, "°C")]
+    assert [(m.name, m.value, m.unit) for m in batch.settings] == [
+        ("oven temperature", 260.0, "°C")]
     assert [(m.name, m.value, m.unit) for m in batch.measures] == [("moisture", 31.5, "%")]
     assert any("not signed off" in w.value for w in at.warning)
     by_label(at.text_input, "Signed off by").input("Head chef on duty")

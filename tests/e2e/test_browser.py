@@ -148,7 +148,7 @@ def test_every_leader_screen_opens_in_the_browser_without_an_error(app_server, b
     # tall, so that a screenshot holds the whole screen (the app scrolls inside itself)
     context = browser.new_context(viewport={"width": 1366, "height": 2600})
     page = context.new_page()
-    for i, (name, title, _) in enumerate(ui.LEADER_PAGES):
+    for i, (name, _title, _) in enumerate(ui.LEADER_PAGES):
         path = "" if i == 0 else name  # the default page is served at the root
         page.goto(f"{url}/{path}?study={trial_id}")
         page.get_by_text("Single-user mode").first.wait_for(timeout=TIMEOUT)

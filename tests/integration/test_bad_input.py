@@ -7,8 +7,8 @@ from __future__ import annotations
 import datetime as dt
 
 import pytest
-
 from store_builders import rating_trial, roster, triangle_trial
+
 from trials import service
 from trials.errors import ImportRowsError, TrialsError
 from trials.model import Sample

@@ -11,9 +11,9 @@ import scipy.stats
 import statsmodels.api as sm
 import statsmodels.formula.api as smf
 
-from trials.demo import seed_demo
 from trials import demo, service
 from trials.cli import main
+from trials.demo import seed_demo
 
 ROOT = __import__("pathlib").Path(__file__).resolve().parents[2]
 

@@ -15,7 +15,8 @@ GARBAGE_FILES = {
     "ragged.csv": b"panelist,sample,score\nP1,A,5,9\n",
     "quote.csv": b'panelist,sample,score\nP1,"A,5\n',
     "twice.csv": b"panelist,panelist,score\nP1,P2,5\n",
-    "infinite.csv": b"panelist,sample,score,rank\nP1,A,inf,1e400\nP1,B,5,2\nP2,A,-inf,1\nP2,B,4,2\n",
+    "infinite.csv": (b"panelist,sample,score,rank\n"
+                     b"P1,A,inf,1e400\nP1,B,5,2\nP2,A,-inf,1\nP2,B,4,2\n"),
     "empty.csv": b"",
     "utf16.csv": "panelist,sample,score\nP1,A,5\n".encode("utf-16"),
 }

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pandas as pd
 import pytest
-
 from store_builders import rating_trial, roster, triangle_trial
+
 from trials import service
 from trials.errors import ImportRowsError, TrialsError
 
@@ -127,7 +127,8 @@ def test_every_bad_row_is_named_and_no_row_is_imported(store, tmp_path):
         service.import_answers(store, sid, path)
     problems = err.value.problems
     assert problems[0] == "row 3, column 'value': expected a whole number from 1 to 9, got '12'"
-    assert problems[1] == "row 4, column 'panelist': panelist 'T99' has no serving plan in this trial"
+    assert problems[1] == ("row 4, column 'panelist': panelist 'T99' has no serving plan "
+                           "in this trial")
     assert problems[2].startswith(f"row 5, column 'code': '{other}' is not a code served to "
                                   "panelist 'T01' in session '1'")
     assert problems[3].startswith("row 6, column 'attribute': expected one of the trial's "

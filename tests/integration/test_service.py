@@ -6,10 +6,10 @@ import datetime as dt
 import json
 
 import pytest
+from store_builders import ranking_trial, rating_trial, roster, triangle_trial
 
-from store_builders import rating_trial, ranking_trial, roster, triangle_trial
-from trials.demo import seed_demo
 from trials import service
+from trials.demo import seed_demo
 from trials.errors import AccessDenied, NotFoundError, TrialsError
 from trials.methods import get_method
 from trials.model import EntryMode, Sample, Status
@@ -68,7 +68,8 @@ def test_a_decision_is_recorded_with_its_rationale_and_who_made_it(store):
                                     "No difference found", by="head chef")
     assert (study.decision, study.rationale, study.status) == (
         "Switch to the short proof", "No difference found", Status.DECIDED)
-    assert any(a.who == "head chef" and a.field == "decision" for a in service.audit_log(store, sid))
+    assert any(a.who == "head chef" and a.field == "decision"
+               for a in service.audit_log(store, sid))
 
 
 def test_an_unknown_trial_id_is_a_not_found_error_quoting_the_id(store):

@@ -18,21 +18,26 @@ INSERT INTO schema_version VALUES (1, '2026-01-01 00:00:00', 'created');
 CREATE TABLE study (id INTEGER PRIMARY KEY, name VARCHAR(200), objective TEXT, method VARCHAR(40),
   alpha FLOAT, beta FLOAT, pd FLOAT, delta FLOAT, status VARCHAR(20), decision TEXT,
   rationale TEXT, created_on DATE);
-CREATE TABLE sample (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) ON DELETE CASCADE,
+CREATE TABLE sample (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) \
+ON DELETE CASCADE,
   position INTEGER, name VARCHAR(200), is_control BOOLEAN, allergens VARCHAR(400),
   description TEXT, CONSTRAINT uq_sample_name UNIQUE (study_id, name));
-CREATE TABLE attribute (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) ON DELETE CASCADE,
+CREATE TABLE attribute (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) \
+ON DELETE CASCADE,
   position INTEGER, name VARCHAR(200), kind VARCHAR(20), low INTEGER, high INTEGER, anchors TEXT,
   CONSTRAINT uq_attribute_name UNIQUE (study_id, name));
-CREATE TABLE batch (id INTEGER PRIMARY KEY, sample_id INTEGER REFERENCES sample(id) ON DELETE CASCADE,
+CREATE TABLE batch (id INTEGER PRIMARY KEY, sample_id INTEGER REFERENCES sample(id) \
+ON DELETE CASCADE,
   label VARCHAR(100), prepared_on DATE, prepared_by VARCHAR(200), safety_signed_by VARCHAR(200),
   safety_signed_on DATE, notes TEXT, CONSTRAINT uq_batch_label UNIQUE (sample_id, label));
-CREATE TABLE batch_value (id INTEGER PRIMARY KEY, batch_id INTEGER REFERENCES batch(id) ON DELETE CASCADE,
+CREATE TABLE batch_value (id INTEGER PRIMARY KEY, batch_id INTEGER REFERENCES batch(id) \
+ON DELETE CASCADE,
   kind VARCHAR(10), position INTEGER, name VARCHAR(200), value VARCHAR(200), is_number BOOLEAN,
   unit VARCHAR(40), CONSTRAINT uq_batch_value UNIQUE (batch_id, kind, name));
 CREATE TABLE panelist (id INTEGER PRIMARY KEY, code VARCHAR(40) UNIQUE, allergens VARCHAR(400),
   restrictions TEXT, consent_on DATE);
-CREATE TABLE tasting_session (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) ON DELETE CASCADE,
+CREATE TABLE tasting_session (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) \
+ON DELETE CASCADE,
   name VARCHAR(40), held_on DATE, CONSTRAINT uq_session_name UNIQUE (study_id, name));
 CREATE TABLE plan_entry (id INTEGER PRIMARY KEY,
   session_id INTEGER REFERENCES tasting_session(id) ON DELETE CASCADE,
@@ -41,10 +46,12 @@ CREATE TABLE plan_entry (id INTEGER PRIMARY KEY,
   batch_id INTEGER REFERENCES batch(id) ON DELETE SET NULL,
   CONSTRAINT uq_plan_position UNIQUE (session_id, panelist_id, position),
   CONSTRAINT uq_plan_code UNIQUE (session_id, panelist_id, code));
-CREATE TABLE access_token (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) ON DELETE CASCADE,
+CREATE TABLE access_token (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) \
+ON DELETE CASCADE,
   panelist_id INTEGER REFERENCES panelist(id), token VARCHAR(64) UNIQUE,
   CONSTRAINT uq_token_owner UNIQUE (study_id, panelist_id));
-CREATE TABLE response (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) ON DELETE CASCADE,
+CREATE TABLE response (id INTEGER PRIMARY KEY, study_id INTEGER REFERENCES study(id) \
+ON DELETE CASCADE,
   session_id INTEGER REFERENCES tasting_session(id) ON DELETE CASCADE,
   panelist_id INTEGER REFERENCES panelist(id), question VARCHAR(240), code VARCHAR(40),
   attribute VARCHAR(200), value VARCHAR(200), comment TEXT, entered_by VARCHAR(200),
@@ -94,7 +101,8 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         conn.executescript(V1_DDL)
     store = open_store(f"sqlite:///{path}")
     with store.engine.connect() as conn:
-        versions = conn.execute(sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
+        versions = conn.execute(
+            sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
                                             (3, "study.aim")]
     study = service.get_trial(store, 1)

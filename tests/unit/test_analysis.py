@@ -28,12 +28,12 @@ from trials.analysis import (
 )
 from trials.errors import TrialsError
 from trials.model import (
+    Answer,
     Attribute,
     AttributeKind,
     Batch,
     Measurement,
     PlanEntry,
-    Answer,
     Sample,
     Trial,
 )
@@ -89,7 +89,8 @@ def test_triangle_counts_the_odd_cup_as_correct():
     assert counts.problems == ()
 
 
-@pytest.mark.parametrize("with_role", [True, False], ids=["reference-marked-R", "reference-first-cup"])
+@pytest.mark.parametrize("with_role", [True, False],
+                         ids=["reference-marked-R", "reference-first-cup"])
 def test_duo_trio_counts_the_cup_matching_the_reference(with_role):
     # ISO 10399: the correct answer is the coded cup holding the reference's sample.
     patterns = ["AAB", "ABA", "BAB", "BBA"] * 3
@@ -114,7 +115,8 @@ def test_duo_trio_answer_naming_the_reference_is_left_out_and_named():
     assert any("is the reference" in p for p in counts.problems)
 
 
-@pytest.mark.parametrize("method,patterns", [("2afc", ["AB", "BA"] * 5), ("3afc", ["AAB", "ABA", "BAA"] * 4)])
+@pytest.mark.parametrize("method,patterns", [("2afc", ["AB", "BA"] * 5),
+                                             ("3afc", ["AAB", "ABA", "BAA"] * 4)])
 def test_directional_methods_count_choices_of_the_trials_second_sample(method, patterns):
     plan = plan_for(method, patterns)
     s = study(method)
@@ -226,7 +228,8 @@ def rating_trial(n_panelists=8, seed=3):
             for a, shift in (("liking", pos), ("crunch", 4 - pos)):
                 score = int(np.clip(round(4 + shift + rng.normal(0, 1)), 1, 9))
                 responses.append(Answer("S1", pan, str(code), a, str(score)))
-                truth.append({"panelist": pan, "sample": sample.name, "attribute": a, "score": score})
+                truth.append({"panelist": pan, "sample": sample.name, "attribute": a,
+                              "score": score})
             code += 1
     return s, plan, responses, pd.DataFrame(truth)
 
@@ -235,7 +238,8 @@ def batches3():
     out = []
     for sample, salt in (("Crust A", [1.0, 1.1]), ("Crust B", [1.3, 1.4]), ("Crust C", [1.7, 1.6])):
         for i, v in enumerate(salt):
-            out.append(Batch(sample, f"{sample[-1]}{i + 1}", measures=(Measurement("salt", v, "%"),)))
+            out.append(Batch(sample, f"{sample[-1]}{i + 1}",
+                             measures=(Measurement("salt", v, "%"),)))
     return out
 
 
@@ -320,11 +324,11 @@ def test_search_matches_every_word_and_filters_by_method_and_decision(kw, names)
 
 def test_control_trend_gives_the_controls_mean_per_trial_in_date_order():
     rows = [
-        {"study": "T2", "date": "2025-03-01", "sample": "House loaf", "attribute": "liking", "score": 7},
-        {"study": "T2", "date": "2025-03-01", "sample": "House loaf", "attribute": "liking", "score": 8},
-        {"study": "T1", "date": "2025-01-10", "sample": "House loaf", "attribute": "liking", "score": 6},
+        {"study": "T2", "date": "2025-03-01", "sample": "House loaf", "attribute": "liking", "score": 7},  # noqa: E501
+        {"study": "T2", "date": "2025-03-01", "sample": "House loaf", "attribute": "liking", "score": 8},  # noqa: E501
+        {"study": "T1", "date": "2025-01-10", "sample": "House loaf", "attribute": "liking", "score": 6},  # noqa: E501
         {"study": "T1", "date": "2025-01-10", "sample": "Other", "attribute": "liking", "score": 1},
-        {"study": "T1", "date": "2025-01-10", "sample": "House loaf", "attribute": "crunch", "score": 3},
+        {"study": "T1", "date": "2025-01-10", "sample": "House loaf", "attribute": "crunch", "score": 3},  # noqa: E501
     ]
     trend = control_trend(rows, control="House loaf", attribute="liking")
     assert [(p.study, p.n, p.mean) for p in trend] == [("T1", 1, 6.0), ("T2", 2, 7.5)]

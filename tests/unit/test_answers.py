@@ -28,7 +28,7 @@ from trials.answers import (
 from trials.design.plan import serving_plan
 from trials.errors import AnswerError, TrialsError
 from trials.methods import get_method
-from trials.model import Attribute, AttributeKind, Answer, Sample, Trial
+from trials.model import Answer, Attribute, AttributeKind, Sample, Trial
 
 OLD, NEW = "Old brine", "Low-sodium brine"
 PANEL = ["P01", "P02", "P03", "P04", "P05", "P06"]
@@ -87,10 +87,12 @@ def test_a_triangle_choice_is_kept_as_the_sets_question():
 
 
 @pytest.mark.parametrize("args, column, text", [
-    (("1", "P99", "", "choice", ""), "panelist", "panelist 'P99' has no serving plan in this trial"),
+    (("1", "P99", "", "choice", ""), "panelist",
+     "panelist 'P99' has no serving plan in this trial"),
     (("9", "P01", "", "choice", ""), "session", "expected one of the sessions '1', '2', got '9'"),
     (("2", "P01", "", "choice", ""), "session", "panelist 'P01' is not served in session '2'"),
-    (("1", "P01", "", "score", ""), "attribute", "a triangle trial takes attribute 'choice', got 'score'"),
+    (("1", "P01", "", "score", ""), "attribute",
+     "a triangle trial takes attribute 'choice', got 'score'"),
     (("1", "P01", "", "choice", "5"), "value", "expected empty for a choice, got '5'"),
     (("1", "P01", "", "choice", ""), "code", "expected one code, got ''"),
     (("1", "P01", "999", "choice", ""), "code",
@@ -105,7 +107,8 @@ def test_a_bad_choice_names_its_column_and_what_was_expected(args, column, text)
 def test_a_code_of_another_panelist_is_refused():
     plan = fc_plan("triangle")
     other = cups_of(plan, "P03")[0].code
-    assert reason(lambda: checker("triangle", plan).check("1", "P01", other, "choice", ""))[0] == "code"
+    assert reason(
+        lambda: checker("triangle", plan).check("1", "P01", other, "choice", ""))[0] == "code"
 
 
 def test_a_duo_trio_answer_may_not_choose_the_reference():
@@ -217,7 +220,8 @@ def test_rating_steps_are_one_per_cup_done_when_every_attribute_is_scored():
     class Set:
         session, set_index, codes = "1", 0, ("311", "312")
 
-    answers = [Answer("1", "P01", "311", "liking", "6"), Answer("1", "P01", "311", "saltiness", "3"),
+    answers = [Answer("1", "P01", "311", "liking", "6"),
+               Answer("1", "P01", "311", "saltiness", "3"),
                Answer("1", "P01", "312", "liking", "4")]
     steps = tasting_steps(spec, [Set()], answers, ("liking", "saltiness"))
     assert [(s.kind, s.code, s.position, s.done) for s in steps] == [
@@ -236,8 +240,10 @@ def test_the_reference_is_served_first_and_is_not_a_choice():
 def test_paper_columns_come_from_the_registry_and_the_attributes():
     assert paper_columns(get_method("triangle")) == ("panelist", "set", "cups", "chosen")
     assert paper_columns(get_method("paired-preference"))[-1] == "no_preference"
-    assert paper_columns(get_method("rating"), ["liking"]) == ("panelist", "position", "code", "liking")
-    assert paper_columns(get_method("ranking"), ["liking"]) == ("panelist", "position", "code", "rank")
+    assert paper_columns(get_method("rating"), ["liking"]) == (
+        "panelist", "position", "code", "liking")
+    assert paper_columns(get_method("ranking"), ["liking"]) == (
+        "panelist", "position", "code", "rank")
 
 
 def test_a_paper_grid_round_trips_through_its_answers_and_the_checker():
@@ -252,7 +258,8 @@ def test_a_paper_grid_round_trips_through_its_answers_and_the_checker():
                                      "chosen": first, "no_preference": False}
     assert bool(grid.loc[1, "no_preference"]) is True
     items = sheet_answers(spec, "1", grid)
-    assert [(i, a["code"], a["value"]) for i, a in items] == [(0, first, ""), (1, "", NO_PREFERENCE)]
+    assert [(i, a["code"], a["value"]) for i, a in items] == [
+        (0, first, ""), (1, "", NO_PREFERENCE)]
     assert sheet_problems(checker("paired-preference", plan), "1", grid) == []
 
 

@@ -22,7 +22,8 @@ def _run(capsys, *argv):
 
 
 def test_analyze_ratings_prints_the_contract_keys_for_a_block_design(capsys):
-    code, out, err = _run(capsys, "analyze", "ratings", str(DATA / "rcbd_vascular_graft.csv"), "--json")
+    code, out, err = _run(capsys, "analyze", "ratings", str(DATA / "rcbd_vascular_graft.csv"),
+                          "--json")
     assert code == 0, err
     result = json.loads(out)
     assert {"anova", "means", "hsd", "groups"} <= set(result)
@@ -49,7 +50,8 @@ def test_analyze_ratings_with_replicates_names_the_interaction(capsys, tmp_path)
     )
     assert code == 0, err
     result = json.loads(out)
-    assert [row["term"] for row in result["anova"]] == ["sample", "panelist", "sample:panelist", "error"]
+    assert [row["term"] for row in result["anova"]] == [
+        "sample", "panelist", "sample:panelist", "error"]
     assert "tested against sample:panelist" in result["method"]
 
 

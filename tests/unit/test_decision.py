@@ -25,7 +25,7 @@ from tests.unit.test_analysis import (
 )
 from trials.analysis import analyse
 from trials.decision import Verdict, decide, decision_text, fmt, fmt_p
-from trials.model import PlanEntry, Answer, Sample, Trial
+from trials.model import Answer, PlanEntry, Sample, Trial
 from trials.stats.discrimination import difference_test, similarity_test
 from trials.stats.power import power
 
@@ -107,7 +107,8 @@ def test_paired_preference_names_the_preferred_sample_and_the_no_preference_rule
     d = decide(analyse(study("paired-preference"), plan, answers))
     ref = difference_test(24, 30, method="paired-preference")  # 23 + 1 of the split 2
     assert d.verdict == Verdict.PREFERENCE
-    assert d.headline.startswith("Panelists preferred New crumb: 24 of 30 chose it after 2 'no preference'")
+    assert d.headline.startswith(
+        "Panelists preferred New crumb: 24 of 30 chose it after 2 'no preference'")
     assert d.numbers["p_value"] == ref.p_value == pytest.approx(2 * sps.binom.sf(23, 30, 0.5))
 
 

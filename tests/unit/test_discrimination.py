@@ -24,7 +24,7 @@ from trials.stats.discrimination import (
     no_preference_counts,
     similarity_test,
 )
-from trials.stats.power import panelists_needed, panel_size, power
+from trials.stats.power import panel_size, panelists_needed, power
 
 ALPHAS = (0.20, 0.10, 0.05, 0.01, 0.001)
 
@@ -154,7 +154,8 @@ def test_critical_table_rows_agree_with_critical_value_and_frame():
     table = critical_table(range(5, 41), ALPHAS, method="triangle")
     for i, n in enumerate(table.ns):
         for j, alpha in enumerate(table.alphas):
-            assert table.critical[i][j] == critical_value(n, method="triangle", alpha=alpha).critical
+            assert table.critical[i][j] == critical_value(n, method="triangle",
+                                                          alpha=alpha).critical
     frame = table.to_frame()
     assert frame.loc[24, "0.05"] == 13
     assert frame.shape == (36, 5)
@@ -374,7 +375,8 @@ def test_panelists_needed_counts_the_rest_of_the_plan():
     assert res.critical == plan.critical and res.correct_needed == plan.critical - 6
     assert res.reachable
     done = panelists_needed(plan.n + 5, method="triangle", pd=0.3)
-    assert done.more == 0 and done.critical == critical_value(plan.n + 5, method="triangle").critical
+    assert (done.more == 0
+            and done.critical == critical_value(plan.n + 5, method="triangle").critical)
     with pytest.raises(TrialsError, match="12"):
         panelists_needed(10, method="triangle", pd=0.3, correct=12)
 

@@ -100,7 +100,8 @@ def test_replicated_test_keeps_alpha_where_the_pooled_binomial_does_not():
         warnings.simplefilter("ignore", OverdispersionWarning)
         for _ in range(reps):
             x = beta_binomial_panel(rng, 30, 6, 1 / 3, 0.5)
-            pooled += stats.binomtest(int(x.sum()), 180, 1 / 3, alternative="greater").pvalue <= 0.05
+            pooled += (stats.binomtest(int(x.sum()), 180, 1 / 3, alternative="greater").pvalue
+                       <= 0.05)
             corrected += replicated_difference_test(x, 6, method="triangle").significant
     # seeded run: about 0.13 pooled against about 0.05 corrected (nominal 0.05)
     assert pooled / reps > 0.10

@@ -64,12 +64,14 @@ def test_penalties_per_sample_agree_with_a_pandas_groupby():
         g = pd.cut(d[attr], [0, 2, 3, 5], labels=["too little", "just right", "too much"])
         ref = d.assign(g=g).groupby(["sample", "g"], observed=False)["liking"].agg(["mean", "size"])
         for (s, grp), row in ref.iterrows():
-            got = frame[(frame["sample"] == s) & (frame["attribute"] == attr) & (frame["group"] == grp)]
+            got = frame[(frame["sample"] == s) & (frame["attribute"] == attr)
+                        & (frame["group"] == grp)]
             assert int(got["n"].iloc[0]) == row["size"]
             assert got["share"].iloc[0] == pytest.approx(row["size"] / 30)
             if row["size"]:
                 assert got["mean_liking"].iloc[0] == pytest.approx(row["mean"])
-            assert bool(got["flagged"].iloc[0]) == (grp != "just right" and row["size"] / 30 >= 0.25)
+            assert bool(got["flagged"].iloc[0]) == (grp != "just right"
+                                                    and row["size"] / 30 >= 0.25)
 
 
 def test_a_seven_point_jar_scale_collapses_around_its_middle():

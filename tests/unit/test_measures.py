@@ -125,7 +125,8 @@ def test_unequal_lengths_are_a_trials_error_quoting_both():
 def _batches():
     def b(sample, label, salt, proof, flour="rye"):
         return Batch(sample, label,
-                     settings=(Measurement("proof time", proof, "min"), Measurement("flour", flour)),
+                     settings=(Measurement("proof time", proof, "min"),
+                               Measurement("flour", flour)),
                      measures=(Measurement("salt", salt, "g/100 g"),))
     return [
         b("Control loaf", "C1", 1.20, 60), b("Control loaf", "C2", "1,24", 60),
@@ -150,7 +151,8 @@ def test_summaries_give_mean_sd_n_per_sample_and_an_anova_per_variable():
     ref = sps.f_oneway([1.20, 1.24], [1.10, 1.14], [0.80, 0.84])
     assert anova["salt"].statistic == pytest.approx(ref.statistic, rel=1e-9)
     assert anova["salt"].p_value == pytest.approx(ref.pvalue, rel=1e-8)
-    assert list(summary.to_frame().columns) == ["variable", "unit", "kind", "sample", "n", "mean", "sd"]
+    assert list(summary.to_frame().columns) == [
+        "variable", "unit", "kind", "sample", "n", "mean", "sd"]
     assert summary.to_dict()["summaries"][0]["variable"] == "salt"
 
 

@@ -647,7 +647,7 @@ def test_labels_on_letter_stock_place_codes_inside_their_labels():
     assert [float(v) for v in r.pages[0].mediabox[2:]] == [612.0, 792.0]
     w, h = LETTER_3X10.label_size()
     for page in r.pages:
-        for x, y, t in positioned(page):
+        for x, _y, t in positioned(page):
             if re.fullmatch(r"\d{3}", t):
                 col = min(range(3), key=lambda k: abs(LETTER_3X10.origin(k)[0] + w / 2 - x))
                 ox = LETTER_3X10.origin(col)[0]

@@ -133,7 +133,8 @@ def test_durbin_agrees_with_durbin_original_formula_without_ties():
     res = durbin_test(data)
     t, k, r = 7, 3, 3
     sums = np.array(list(res.rank_sums.values()))
-    d = 12 * (t - 1) / (r * t * (k - 1) * (k + 1)) * (sums**2).sum() - 3 * r * (t - 1) * (k + 1) / (k - 1)
+    d = (12 * (t - 1) / (r * t * (k - 1) * (k + 1)) * (sums**2).sum()
+         - 3 * r * (t - 1) * (k + 1) / (k - 1))
     assert res.statistic == pytest.approx(d, rel=1e-12)
 
 
@@ -240,7 +241,8 @@ def test_page_normal_form_with_ties_uses_the_exact_permutation_variance():
     assert res.method == "normal"
     # independent check: enumerate each panelist's orderings of his own (tied) ranks
     ranks = stats.rankdata(scores, axis=1)
-    var = sum(np.var([np.dot([1, 2, 3], perm) for perm in itertools.permutations(row)]) for row in ranks)
+    var = sum(np.var([np.dot([1, 2, 3], perm) for perm in itertools.permutations(row)])
+              for row in ranks)
     mean = 8 * 3 * 16 / 4
     assert res.z == pytest.approx((res.statistic - mean) / np.sqrt(var), rel=1e-12)
 
@@ -263,7 +265,8 @@ def test_a_rank_that_is_not_a_number_names_its_line():
 def test_a_panelist_ranking_a_sample_twice_is_refused_with_both_lines():
     d = _long(_random_ranks(4, 3, 0))
     d.loc[1, "sample"] = "S0"
-    with pytest.raises(TrialsError, match=r"panelist/sample appears more than once at line\(s\) 2, 3"):
+    with pytest.raises(TrialsError,
+                       match=r"panelist/sample appears more than once at line\(s\) 2, 3"):
         friedman_test(d)
 
 

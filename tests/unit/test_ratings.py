@@ -26,7 +26,8 @@ def _random_ratings(panelists=8, samples="ABCD", reps=1, seed=1, effects=(0, 0.5
         for s, eff in zip(samples, effects):
             inter = rng.normal(0, 0.5)
             for r in range(reps):
-                rows.append((f"P{p:02d}", s, r + 1, round(5 + shift + eff + inter + rng.normal(), 1)))
+                rows.append((f"P{p:02d}", s, r + 1,
+                             round(5 + shift + eff + inter + rng.normal(), 1)))
     return pd.DataFrame(rows, columns=["panelist", "sample", "replicate", "score"])
 
 
@@ -119,7 +120,8 @@ def test_balanced_replicated_ratings_test_samples_against_the_interaction():
     )
 
 
-@pytest.mark.parametrize("drop", [[0], [0, 9, 22], [1, 6, 11, 16]], ids=["one-missing", "three-missing", "four-missing"])
+@pytest.mark.parametrize("drop", [[0], [0, 9, 22], [1, 6, 11, 16]],
+                         ids=["one-missing", "three-missing", "four-missing"])
 def test_incomplete_blocks_give_type_ii_sums_of_squares_and_adjusted_means_as_statsmodels(drop):
     data = _random_ratings(seed=7).drop(index=drop).reset_index(drop=True)
     res = rating_anova(data)
@@ -254,7 +256,8 @@ def test_a_duplicated_panelist_and_sample_names_both_lines():
 def test_a_duplicated_replicate_row_is_refused():
     data = _random_ratings(reps=2)
     data.loc[1, "replicate"] = 1
-    with pytest.raises(TrialsError, match=r"panelist/sample/replicate appears more than once at line\(s\) 2, 3"):
+    with pytest.raises(TrialsError,
+                       match=r"panelist/sample/replicate appears more than once at line\(s\) 2, 3"):
         rating_anova(data, replicate="replicate")
 
 

@@ -122,7 +122,8 @@ def _check_display(names, different, letters):
 
 @settings(max_examples=200, deadline=None)
 @given(st.integers(2, 7).flatmap(
-    lambda k: st.tuples(st.just(k), st.sets(st.sampled_from(list(itertools.combinations(range(k), 2)))))
+    lambda k: st.tuples(st.just(k),
+                        st.sets(st.sampled_from(list(itertools.combinations(range(k), 2)))))
 ))
 def test_letters_are_shared_exactly_by_the_pairs_not_declared_different(case):
     # the defining property of Piepho's (2004) insert-and-absorb display
@@ -152,7 +153,8 @@ def test_studentized_range_quadrature_agrees_with_scipy(k, df):
     # observed: 4e-10 or less below df = 1e5; above it scipy uses its infinite-df form, whose
     # error shrinks as 1/df (observed 2.3e-6 at k = 20, df = 1e6), so allow 5 / df there
     tol = 1e-9 if df < 1e5 else 5.0 / df
-    assert np.abs(studentized_range_cdf(q, k, df) - stats.studentized_range.cdf(q, k, df)).max() < tol
+    assert np.abs(studentized_range_cdf(q, k, df)
+                  - stats.studentized_range.cdf(q, k, df)).max() < tol
 
 
 @pytest.mark.parametrize("df", [1, 3, 10, 100, 1e5, 1e7, 1e9, np.inf])

@@ -237,7 +237,8 @@ def test_a_ranking_report_shows_the_rank_sums():
     for p in range(6):
         for pos, sample in enumerate(SAMPLES3, start=1):
             plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
-            responses.append(Answer("S1", f"P{p}", str(code), "rank", str(pos if p % 3 else 4 - pos)))
+            responses.append(Answer("S1", f"P{p}", str(code), "rank",
+                                    str(pos if p % 3 else 4 - pos)))
             code += 1
     a = analyse(s, plan, responses)
     doc = report_html(s, a, plan=plan, responses=responses)

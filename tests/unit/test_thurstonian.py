@@ -116,7 +116,8 @@ def simulate(method: str, d: float, trials: int, rng: np.random.Generator) -> fl
                          np.abs(x[:, 1] - x[:, 2]))
         return float(np.mean((d01 < d02) & (d01 < d12)))
     if method == "tetrad":  # group the two weakest against the two strongest
-        x = np.column_stack([rng.standard_normal((trials, 2)), rng.standard_normal((trials, 2)) + d])
+        x = np.column_stack([rng.standard_normal((trials, 2)),
+                             rng.standard_normal((trials, 2)) + d])
         order = np.argsort(x, axis=1)
         labels = np.array([0, 0, 1, 1])[order[:, :2]]
         return float(np.mean(labels[:, 0] == labels[:, 1]))
@@ -191,7 +192,8 @@ def test_conversion_records_the_convention_that_applied():
 def test_slope_matches_a_central_difference(method):
     d = np.array([0.3, 1.0, 2.5, 5.0])
     h = 1e-5
-    numeric = (pc_from_dprime(d + h, method=method) - pc_from_dprime(d - h, method=method)) / (2 * h)
+    numeric = (pc_from_dprime(d + h, method=method)
+               - pc_from_dprime(d - h, method=method)) / (2 * h)
     assert np.allclose(pc_slope(d, method=method), numeric, atol=1e-8)
 
 
@@ -199,7 +201,8 @@ def test_b_value_of_2afc_has_its_closed_form():
     # 2-AFC: pc = Phi(d/sqrt2), slope = phi(d/sqrt2)/sqrt2, so B = 2 pc(1-pc) / phi^2
     d = 1.2
     pc = N.cdf(d / math.sqrt(2))
-    assert b_value(d, method="2afc") == pytest.approx(2 * pc * (1 - pc) / N.pdf(d / math.sqrt(2)) ** 2)
+    assert b_value(d, method="2afc") == pytest.approx(
+        2 * pc * (1 - pc) / N.pdf(d / math.sqrt(2)) ** 2)
 
 
 def test_b_value_is_none_where_the_delta_method_fails():

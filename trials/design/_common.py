@@ -57,7 +57,8 @@ def carryover_counts(orders: list[list[int]], t: int) -> np.ndarray:
 
 
 def concurrence_matrix(blocks: list[list[int]], t: int) -> np.ndarray:
-    """``lam[i, j]``: in how many blocks samples ``i`` and ``j`` both appear (``lam[i, i] = r_i``)."""
+    """``lam[i, j]``: in how many blocks samples ``i`` and ``j`` both appear
+    (``lam[i, i] = r_i``)."""
     incidence = np.zeros((t, len(blocks)), dtype=int)
     for j, block in enumerate(blocks):
         for s in block:

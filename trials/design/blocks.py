@@ -725,8 +725,8 @@ def incomplete_blocks(
     if not balanced:
         warnings.warn(
             f"no balanced incomplete block design of {n} panelists is known here for "
-            f"t={t}, k={k}: replication {replication.min()}..{replication.max()}, pair concurrences "
-            f"{off.min()}..{off.max()}, efficiency {eff:.4f} (a BIBD would reach "
+            f"t={t}, k={k}: replication {replication.min()}..{replication.max()}, "
+            f"pair concurrences {off.min()}..{off.max()}, efficiency {eff:.4f} (a BIBD would reach "
             f"{t * (k - 1) / (k * (t - 1)):.4f})",
             UnbalancedPlanWarning,
             stacklevel=2,

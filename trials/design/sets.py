@@ -70,9 +70,10 @@ def discrimination_sets(
     rng : int, numpy.random.Generator or None
         Seed or generator; the same seed gives the same sets.
     reference : {"balanced", "constant"}
-        Methods whose first cup is the reference (``reference_first``: duo-trio) only: ``"balanced"`` serves A and B as the reference equally often
-        (all four patterns); ``"constant"`` always serves A (the control, listed first)
-        as the reference (patterns starting with ``A``). ISO 10399 describes both.
+        Methods whose first cup is the reference (``reference_first``: duo-trio) only:
+        ``"balanced"`` serves A and B as the reference equally often (all four patterns);
+        ``"constant"`` always serves A (the control, listed first) as the reference
+        (patterns starting with ``A``). ISO 10399 describes both.
 
     Returns
     -------

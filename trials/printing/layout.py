@@ -14,9 +14,9 @@ letter is printed as its base letter (``a``, ``o``), see :func:`printable`.
 
 from __future__ import annotations
 
+import functools
 import os
 import threading
-import functools
 import unicodedata
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass

@@ -28,7 +28,7 @@ import pandas as pd
 from trials.analysis import TrialAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
-from trials.model import Batch, PlanEntry, Answer, Trial
+from trials.model import Answer, Batch, PlanEntry, Trial
 
 CAUTION = (
     "Samples are food served to people. Before any tasting: declare every sample's "
@@ -165,7 +165,8 @@ def _ranks_chart(a: TrialAnalysis) -> Any:
 
     r = a.ranking.result
     order = sorted(r.rank_sums, key=lambda s: r.rank_sums[s])
-    fig = go.Figure(go.Bar(x=[pt(s) for s in order], y=[r.rank_sums[s] for s in order], marker_color="#3d6f8f",
+    fig = go.Figure(go.Bar(x=[pt(s) for s in order], y=[r.rank_sums[s] for s in order],
+                           marker_color="#3d6f8f",
                            text=[r.groups.get(s, "") for s in order], textposition="outside"))
     fig.update_layout(title=f"Rank sums (rank 1 = most); least significant difference "
                             f"{r.lsd:.1f}", yaxis_title="rank sum", height=340)
@@ -189,8 +190,9 @@ def _relation_chart(rel) -> Any:
     fig.update_yaxes(range=[min(rel.y) - 0.2 * span, max(rel.y) + 0.25 * span])
     xspan = (max(rel.x) - min(rel.x)) or 1.0
     fig.update_xaxes(range=[min(rel.x) - 0.1 * xspan, max(rel.x) + 0.1 * xspan])
-    fig.update_layout(title=f"{pt(rel.outcome)} against {pt(rel.predictor)}: a descriptive trend over "
-                            f"{len(rel.samples)} samples", xaxis_title=f"{pt(rel.predictor)}{unit}",
+    fig.update_layout(title=f"{pt(rel.outcome)} against {pt(rel.predictor)}: "
+                            f"a descriptive trend over {len(rel.samples)} samples",
+                      xaxis_title=f"{pt(rel.predictor)}{unit}",
                       yaxis_title=f"mean {pt(rel.outcome)}", showlegend=False, height=340)
     return fig
 
@@ -411,7 +413,8 @@ def _measures_section(a: TrialAnalysis, batches: Sequence[Batch], charts: _Chart
     rels = [rel for at in a.attributes for rel in at.relations]
     if rels:
         out.append("<h3>Sensory means against measured variables and settings</h3>")
-        out.append(_table(["outcome", "predictor", "samples", "r", "p", "slope", "intercept", "r\u00b2"],
+        out.append(_table(["outcome", "predictor", "samples", "r", "p", "slope", "intercept",
+                           "r\u00b2"],
                           [(r.outcome, r.predictor, len(r.samples), _g(r.correlation.r),
                             _g(r.correlation.p_value), _g(r.regression.slope),
                             _g(r.regression.intercept), _g(r.regression.r2)) for r in rels],
@@ -577,7 +580,8 @@ def report_pdf(study: Trial, analysis: TrialAnalysis, *,
 
     flow = [Paragraph(p(study.name), head),
             Paragraph(p(f"Trial report \u2013 {spec.label}"), body), Spacer(1, 4)]
-    flow += [Paragraph("Objective", h2), Paragraph(p(study.objective or "No objective stated."), body)]
+    flow += [Paragraph("Objective", h2),
+             Paragraph(p(study.objective or "No objective stated."), body)]
     flow += [Paragraph("Method and risks", h2),
              kv([("method", spec.label), ("published source", spec.reference)] + _risks(study))]
     flow += [Paragraph("Decision", h2), Paragraph(p(decision.headline), strong)]

@@ -53,7 +53,8 @@ def critical_table_pdf(table, *, page: str = "A4") -> PrintResult:
         for i in range(start, min(start + rows_per_page, len(table.ns))):
             c.drawString(LEFT, y, str(table.ns[i]))
             for j, value in enumerate(table.critical[i]):
-                c.drawRightString(LEFT + col * (j + 2) - 10, y, "-" if value is None else str(value))
+                c.drawRightString(LEFT + col * (j + 2) - 10, y,
+                                  "-" if value is None else str(value))
             y -= ROW
         c.setFont(SANS, 7.5)
         c.drawString(LEFT, BOTTOM - 20, "Kitchen Trials")

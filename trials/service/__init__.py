@@ -28,6 +28,7 @@ Only :mod:`trials.store` touches the database; the answer checks are pure
 (:mod:`trials.answers`).
 """
 
+from trials.answers import NO_PREFERENCE
 from trials.model import (
     AuditEntry,
     BallotAnswer,
@@ -38,8 +39,8 @@ from trials.model import (
 )
 from trials.service.answer_files import (
     check_paper_sheet,
-    export_bytes,
     export_answers,
+    export_bytes,
     import_answers,
     paper_sheet,
     save_paper_sheet,
@@ -53,7 +54,6 @@ from trials.service.batches import (
     measures_frame,
     sign_off_batch,
 )
-from trials.answers import NO_PREFERENCE
 from trials.service.documents import (
     print_bytes,
     print_document,
@@ -84,12 +84,12 @@ from trials.service.serving import (
 )
 from trials.service.tasting import (
     answer_progress,
+    answers_frame,
     audit_log,
     ballot_for_token,
-    record_answer,
     enter_answer,
     list_answers,
-    answers_frame,
+    record_answer,
 )
 from trials.service.trials import (
     add_attribute,
@@ -117,8 +117,8 @@ __all__ = [
     "export_bytes", "export_measures_bytes", "export_answers", "get_trial", "history",
     "import_archive", "import_batches", "import_panelists", "import_answers",
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
-    "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token", "plan",
-    "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
+    "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
+    "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
     "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
     "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",

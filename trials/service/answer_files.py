@@ -42,10 +42,9 @@ from trials.errors import AnswerError, ImportRowsError, TrialsError
 from trials.methods import get_method
 from trials.model import EntryMode, PlanBook, Trial
 from trials.service import _input
-from trials.service.tasting import checker_of, answers_frame, save_checked
-from trials.store import Store
+from trials.service.tasting import answers_frame, checker_of, save_checked
+from trials.store import Store, limits
 from trials.store import answers as answer_rows
-from trials.store import limits
 from trials.store import plans as plan_rows
 from trials.store import trials as trial_rows
 from trials.store.rows import now

@@ -11,7 +11,7 @@ import pandas as pd
 
 from trials.errors import TrialsError
 from trials.methods import get_method
-from trials.model import Batch, Panelist, PlanEntry, Answer, Trial
+from trials.model import Answer, Batch, Panelist, PlanEntry, Trial
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import batches as batch_rows

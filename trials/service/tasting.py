@@ -10,18 +10,18 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from trials.errors import TrialsError
-from trials.methods import Family, get_method
 from trials.answers import CHOICE, AnswerChecker, PlanKey, expected_answers
 from trials.answers import answer_progress as progress
+from trials.errors import TrialsError
+from trials.methods import Family, get_method
 from trials.model import (
+    Answer,
     AuditEntry,
     BallotAnswer,
     BallotSet,
     EntryMode,
     PanelistBallot,
     PlanBook,
-    Answer,
 )
 from trials.service import _input
 from trials.store import Store

@@ -125,7 +125,8 @@ def _critical_array(n: np.ndarray, alpha: np.ndarray, p0: float, sides: int) -> 
     ``P(X >= c) <= a < P(X >= c - 1)`` holds in every cell. (``binom.isf`` gives the same
     values but took about 16 ms per 5000 cells here, three times the whole of this.)
     """
-    n, a = np.broadcast_arrays(np.asarray(n, dtype=np.int64), np.asarray(alpha, dtype=float) / sides)
+    n, a = np.broadcast_arrays(np.asarray(n, dtype=np.int64),
+                               np.asarray(alpha, dtype=float) / sides)
     shape = n.shape
     n, a = n.ravel().astype(np.int64), a.ravel()
     q0 = 1.0 - p0
@@ -302,8 +303,8 @@ def critical_table(ns: Iterable[int] = range(5, 201),
     -----
     Vectorised: a Cornish-Fisher normal quantile gives the candidate for every cell at
     once, one incomplete-beta call its exact tail, and correction steps move each cell
-    until ``P(X >= c) <= alpha < P(X >= c - 1)`` (see ``_critical_array``). Same definition and references as
-    :func:`critical_value`.
+    until ``P(X >= c) <= alpha < P(X >= c - 1)`` (see ``_critical_array``). Same definition
+    and references as :func:`critical_value`.
 
     References
     ----------

@@ -233,7 +233,8 @@ def one_way_anova(groups: Mapping[str, Sequence[float]], *, variable: str = "",
              for g, vals in groups.items() if len(vals)}
     for g, vals in clean.items():
         if not np.all(np.isfinite(vals)):
-            raise TrialsError(f"{variable or 'variable'}: group {g!r} holds a value that is not a finite number")
+            raise TrialsError(f"{variable or 'variable'}: group {g!r} holds a value that is "
+                              "not a finite number")
     k = len(clean)
     n = int(sum(len(v) for v in clean.values()))
     df_b, df_w = k - 1, n - k

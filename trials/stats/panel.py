@@ -119,7 +119,8 @@ def panel_performance(
     t, b = len(s_names), len(p_names)
     if replicate:
         r_codes, r_names = label_codes(data, replicate)
-        check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)], [panelist, sample, replicate])
+        check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)],
+                     [panelist, sample, replicate])
     else:
         check_unique([p_codes, s_codes], [b, t], [panelist, sample])
     cell = p_codes * t + s_codes
@@ -165,7 +166,8 @@ def panel_performance(
         if p is not None and p >= alpha:
             flags.append(f"does not discriminate (p = {p:.3g} >= {alpha:g})")
         if mse is not None and median_mse and mse > mse_ratio * median_mse:
-            flags.append(f"poor repeatability (mse {mse:.3g} > {mse_ratio:g} x median {median_mse:.3g})")
+            flags.append(f"poor repeatability (mse {mse:.3g} > {mse_ratio:g} x median "
+                         f"{median_mse:.3g})")
         if agreement is not None and agreement < min_agreement:
             flags.append(f"disagrees with the panel (r = {agreement:.2f} < {min_agreement:g})")
         elif agreement is None and rated_count[name] >= 3:

@@ -375,7 +375,8 @@ def durbin_test(
     ``T = 12 (t - 1) / (r t (k - 1)(k + 1)) sum R_j^2 - 3 r (t - 1)(k + 1) / (k - 1)``
     (Durbin 1951). F form: ``(T / (t - 1)) / ((b (k - 1) - T) / (b k - b - t + 1))``.
     Two rank sums differ when
-    ``|R_i - R_j| > t(1 - alpha/2; b k - b - t + 1) sqrt((A - C) 2 r (1 - T / (b (k - 1))) / (b k - b - t + 1))``
+    ``|R_i - R_j| > t(1 - alpha/2; b k - b - t + 1)
+    sqrt((A - C) 2 r (1 - T / (b (k - 1))) / (b k - b - t + 1))``
     (Conover's ``lsd_t``); ``lsd`` is the normal form with the null variance
     ``(k + 1)(r (k - 1) + lambda_ij) / 6`` of a rank-sum difference, ``lambda_ij`` the
     panelists who ranked both.

@@ -112,7 +112,8 @@ def label_codes(data: pd.DataFrame, column: str) -> tuple[np.ndarray, list[str]]
     empty = np.asarray(text == "", dtype=bool)
     if empty.any():
         raise TrialsError(
-            f"column {column!r}: empty at line(s) {_lines(np.flatnonzero(empty[codes]))}; {LINE_RULE}"
+            f"column {column!r}: empty at line(s) {_lines(np.flatnonzero(empty[codes]))}; "
+            f"{LINE_RULE}"
         )
     if text.has_duplicates:  # e.g. "A" and "A ", or 1 and "1"
         codes, uniques = pd.factorize(col.astype("string").str.strip(), sort=False)
@@ -128,7 +129,9 @@ def sample_panelist_codes(data: pd.DataFrame, sample: str, panelist: str):
     s_codes, s_names = label_codes(data, sample)
     p_codes, p_names = label_codes(data, panelist)
     if len(s_names) < 2:
-        raise TrialsError(f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more")
+        raise TrialsError(
+            f"column {sample!r} holds one sample only ({s_names[0]!r}); need two or more"
+        )
     if len(p_names) < 2:
         raise TrialsError(
             f"column {panelist!r} holds one panelist only ({p_names[0]!r}); need two or more"
@@ -392,7 +395,8 @@ def rating_anova(
     t, b = len(s_names), len(p_names)
     if replicate:
         r_codes, r_names = label_codes(data, replicate)
-        check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)], [panelist, sample, replicate])
+        check_unique([p_codes, s_codes, r_codes], [b, t, len(r_names)],
+                     [panelist, sample, replicate])
     else:
         check_unique([p_codes, s_codes], [b, t], [panelist, sample])
 
@@ -513,7 +517,8 @@ def rating_anova(
 
     mean_map = {s_names[i]: float(means[i]) for i in range(t)}
     q_crit = tukey_q(alpha, t, df_test)
-    pairs = pairwise_comparisons(mean_map, v, ms=ms_test, df=df_test, alpha=alpha, q_critical=q_crit)
+    pairs = pairwise_comparisons(mean_map, v, ms=ms_test, df=df_test, alpha=alpha,
+                                 q_critical=q_crit)
     order = sorted(s_names, key=lambda s: -mean_map[s])
     groups = compact_letter_display(order, [(p.first, p.second) for p in pairs if p.different])
     t_crit = float(stats.t.ppf(1 - alpha / 2, df_test))
@@ -534,7 +539,8 @@ def rating_anova(
 
     method = (
         f"{design}; {ss_type}; sample effect tested against {error_term} "
-        f"(MS = {ms_test:.6g}, df = {df_test:g}); Tukey HSD (studentized range by quadrature, checked against scipy) "
+        f"(MS = {ms_test:.6g}, df = {df_test:g}); "
+        "Tukey HSD (studentized range by quadrature, checked against scipy) "
         f"and Fisher LSD at alpha = {alpha:g} from that term; letters by Piepho (2004)"
     )
     if not balanced and not with_reps:
@@ -568,6 +574,8 @@ def rating_anova(
         groups=groups,
         pairs=pairs,
         panelists=b,
-        replicates=(float(first) if balanced else float(big_n / filled.sum())) if with_reps else None,
+        replicates=(
+            (float(first) if balanced else float(big_n / filled.sum())) if with_reps else None
+        ),
         cov_unscaled=tuple(tuple(float(x) for x in row) for row in v),
     )

@@ -183,7 +183,8 @@ def _loglik(x: np.ndarray, m: np.ndarray, mu: float, gamma: float) -> float:
         return float(np.sum(log_comb + x * math.log(mu) + (m - x) * math.log1p(-mu)))
     t = 1.0 / gamma - 1.0
     a, b = mu * t, (1 - mu) * t
-    return float(np.sum(log_comb + special.betaln(x + a, m - x + b)) - x.size * special.betaln(a, b))
+    return float(np.sum(log_comb + special.betaln(x + a, m - x + b))
+                 - x.size * special.betaln(a, b))
 
 
 def beta_binomial_fit(correct: Counts, trials: Counts | int) -> BetaBinomialFit:

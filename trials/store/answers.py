@@ -12,7 +12,7 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.answers import CheckedAnswer
-from trials.model import AuditEntry, EntryMode, PlanBook, PlanEntry, Answer
+from trials.model import Answer, AuditEntry, EntryMode, PlanBook, PlanEntry
 from trials.store import limits, rows
 from trials.store.schema import (
     AuditRow,

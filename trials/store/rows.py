@@ -18,13 +18,13 @@ from sqlalchemy.orm import Session
 
 from trials.errors import NotFoundError
 from trials.model import (
+    Answer,
     Attribute,
     AttributeKind,
     Batch,
     EntryMode,
     Measurement,
     Panelist,
-    Answer,
     Sample,
     Status,
     Trial,
