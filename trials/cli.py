@@ -79,10 +79,10 @@ def _store(args: argparse.Namespace):
     return service.open_store(args.db)
 
 
-def _read_csv(path: str):
+def _read_csv(path: str, numbers: Sequence[str] = ()):
     from trials.tabular import read_table
 
-    return read_table(path)
+    return read_table(path, numbers=numbers)
 
 
 # ---------------------------------------------------------------- handlers: statistics
@@ -127,7 +127,7 @@ def _dprime(args: argparse.Namespace) -> dict[str, Any]:
 def _analyze_ratings(args: argparse.Namespace) -> dict[str, Any]:
     from trials.stats.ratings import rating_anova
 
-    data = _read_csv(args.file)
+    data = _read_csv(args.file, numbers=(args.score,))
     return rating_anova(
         data,
         score=args.score,

@@ -22,7 +22,8 @@ def _cups(store, sid, panelist="T01"):
 
 
 @pytest.mark.parametrize("text, says", [
-    (HEADER + "1,T01,{c},overall liking,5,,extra\n", "more cells than the header"),
+    (HEADER + "1,T01,{c},overall liking,5,,extra\n", "Expected 6 columns, got 7"),
+    (HEADER + "1,T01,{c}\n", "Expected 6 columns, got 3"),
     (HEADER + '1,T01,{c},overall liking,5,"never closed\n', "every quote must close"),
     ("session,panelist,code,code,attribute,value\n1,T01,{c},{c},overall liking,5\n",
      "'code' more than once"),
