@@ -11,16 +11,17 @@ trial_id = ui.pick_trial()
 store = ui.store()
 study = service.get_trial(store, trial_id)
 
-st.title(f"Decision: {study.name}")
+st.title(f"Decision: {ui.literal(study.name)}")
 result, suggested = ui.analysis(trial_id)
 
 with st.container(border=True):
     st.markdown("**What the results say**")
-    st.markdown(suggested.text if result.has_answers else f"No results yet: {result.message}.")
+    st.markdown(ui.literal(suggested.text, lines=True) if result.has_answers
+                else f"No results yet: {ui.literal(result.message)}.")
 
 if study.decision:
-    st.success(f"On file: **{study.decision}**" + (f"  \n{study.rationale}" if study.rationale
-                                                      else ""))
+    st.success(f"On file: **{ui.literal(study.decision)}**"
+               + (f"  \n{ui.literal(study.rationale, lines=True)}" if study.rationale else ""))
 
 with st.form("decide"):
     decision = st.text_input("Decision", value=study.decision,

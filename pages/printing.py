@@ -11,7 +11,7 @@ store = ui.store()
 study = service.get_trial(store, trial_id)
 overview = service.trial_overview(store, trial_id)
 
-st.title(f"Printing: {study.name}")
+st.title(f"Printing: {ui.literal(study.name)}")
 ui.food_caution(trial_id)
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")

@@ -8,7 +8,9 @@ without the entry script still meets its gate.
 from __future__ import annotations
 
 import hmac
+import html
 import os
+import re
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -179,7 +181,8 @@ def food_caution(trial_id: int | None = None) -> None:
         conflicts = service.allergen_conflicts(store(), trial_id)
         if conflicts:
             lines = "\n".join(
-                f"- panelist **{c.panelist_code}**: {c.sample_name} holds {', '.join(c.allergens)}"
+                f"- panelist **{literal(c.panelist_code)}**: {literal(c.sample_name)} holds "
+                f"{literal(', '.join(c.allergens))}"
                 for c in conflicts
             )
             st.warning("Allergen conflicts: these panelists declared an allergen that a "
@@ -187,7 +190,7 @@ def food_caution(trial_id: int | None = None) -> None:
                        icon=":material/warning:")
         unsigned = [b for b in service.list_batches(store(), trial_id) if not b.signed_off]
         if unsigned:
-            names = ", ".join(f"{b.sample_name} / {b.label}" for b in unsigned)
+            names = ", ".join(f"{literal(b.sample_name)} / {literal(b.label)}" for b in unsigned)
             st.warning(f"Batches not signed off for food safety yet (do not serve): {names}",
                        icon=":material/health_and_safety:")
     st.caption(
@@ -206,6 +209,44 @@ def leader_sidebar() -> None:
     """The leader's name for the audit log, kept for the session."""
     st.sidebar.text_input("Your name (for the audit log)", key="leader_name",
                           placeholder="leader", persist_state="session")
+
+
+# ---------------------------------------------------------------- text as typed
+
+# Every ASCII punctuation mark may be backslash-escaped in CommonMark; escaping them all
+# stops emphasis, links, images, headings, lists, tables, HTML, maths ($) and Streamlit's
+# directives (:red[...]). Streamlit also turns bare URLs, e-mail addresses, :emoji: and
+# :material/icon: codes found in the *parsed* text into links and icons, which no
+# backslash prevents: a word joiner (U+2060, invisible) after ':' and '@' and inside
+# "www." breaks those patterns.
+_PUNCTUATION = re.compile(r"([!-/:-@\[-`{-~])")
+WORD_JOINER = "\u2060"
+_WWW = re.compile(r"(www)(?=\\\.)", re.IGNORECASE)
+
+
+def literal(text: object, *, lines: bool = False) -> str:
+    """``text`` as Markdown that Streamlit shows exactly as typed: no link, image,
+    emphasis, heading, HTML, maths, colour directive, icon or emoji comes of it.
+
+    For every user-entered name or note put into ``st.markdown``, titles, captions,
+    alerts, and the labels and help of widgets (radio, pills, tabs, metrics, expanders,
+    buttons). Line breaks become spaces, or with ``lines`` hard line breaks (comments,
+    rationale, decision text). Select boxes and multiselects show their options as plain
+    text: their ``format_func`` needs no escaping (checked on Streamlit 1.67).
+    """
+    value = "" if text is None else str(text)
+    value = _PUNCTUATION.sub(r"\\\1", value)
+    value = _WWW.sub(r"\1" + WORD_JOINER, value)
+    value = value.replace(":", ":" + WORD_JOINER).replace("@", "@" + WORD_JOINER)
+    parts = re.split(r"\r\n|\r|\n", value)
+    return "  \n".join(parts) if lines else " ".join(parts)
+
+
+def chart_text(text: object) -> str:
+    """``text`` for a plotly label (tick, hover, legend, title, annotation): plotly reads
+    its text as a small HTML dialect, in which ``<a href>`` is a live link; escaped, it
+    shows the characters as typed."""
+    return html.escape("" if text is None else str(text), quote=True)
 
 
 # ---------------------------------------------------------------- the trial in hand
@@ -284,7 +325,7 @@ def changed() -> None:
 
 def show_problem(exc: Exception) -> None:
     """A bad input, said plainly (the message names the value and what was expected)."""
-    st.error(str(exc))
+    st.error(literal(str(exc), lines=True))
 
 
 @st.cache_resource(show_spinner="Analysing...", max_entries=16)
@@ -373,12 +414,14 @@ def means_chart(means: dict, ci: dict, *, title: str, low: float, high: float,
     hi = [ci[n][1] - y[i] for i, n in enumerate(names)]
     text = [(groups or {}).get(n, "") for n in names]
     fig = go.Figure(go.Scatter(
-        x=names, y=y, mode="markers+text", text=text, textposition="middle right",
+        x=[chart_text(n) for n in names], y=y, mode="markers+text",
+        text=[chart_text(t) for t in text], textposition="middle right",
         error_y={"type": "data", "symmetric": False, "array": hi, "arrayminus": lo},
         marker={"size": 12},
     ))
-    fig.update_layout(title=title, yaxis_title="mean score", yaxis_range=[low - 0.5, high + 0.5],
-                      height=340, margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    fig.update_layout(title=chart_text(title), yaxis_title="mean score",
+                      yaxis_range=[low - 0.5, high + 0.5], height=340,
+                      margin={"l": 10, "r": 10, "t": 40, "b": 10})
     st.plotly_chart(fig, width="stretch")
 
 
@@ -392,9 +435,10 @@ def panel_chart(frame, *, title: str) -> None:
     fig = go.Figure()
     for mask, name in ((~flagged, "in line"), (flagged, "stands apart")):
         fig.add_trace(go.Scatter(x=data.loc[mask, "agreement"], y=y[mask], mode="markers+text",
-                                 text=data.loc[mask, "panelist"], textposition="top center",
+                                 text=[chart_text(c) for c in data.loc[mask, "panelist"]],
+                                 textposition="top center",
                                  name=name, marker={"size": 10}))
-    fig.update_layout(title=title, xaxis_title="agreement with the panel (r)",
+    fig.update_layout(title=chart_text(title), xaxis_title="agreement with the panel (r)",
                       yaxis_title="repeatability (MSE)" if data["mse"].notna().any()
                       else "scores", height=360, margin={"l": 10, "r": 10, "t": 40, "b": 10})
     st.plotly_chart(fig, width="stretch")
@@ -433,7 +477,8 @@ def count_chart(correct: int, n: int, critical: int | None, *, guess: float, lab
     """The observed count against the count expected by chance and the critical value."""
     import plotly.graph_objects as go
 
-    fig = go.Figure(go.Bar(x=[correct, n - correct], y=[label, "other"], orientation="h",
+    fig = go.Figure(go.Bar(x=[correct, n - correct], y=[chart_text(label), "other"],
+                           orientation="h",
                            marker_color=["#2e7d32", "#9e9e9e"], text=[correct, n - correct],
                            textposition="auto"))
     fig.add_vline(x=n * guess, line_dash="dot", annotation_text="expected by chance")
