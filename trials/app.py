@@ -14,7 +14,7 @@ import streamlit as st
 
 from trials import ui
 
-st.set_page_config(page_title="Kitchen Trials", page_icon=":material/restaurant:", layout="wide")
+st.set_page_config(page_title="Kitchen Trials", page_icon="🍽️", layout="wide")
 
 
 def _page(name: str, title: str, icon: str, *, default: bool = False) -> st.Page:

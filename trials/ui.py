@@ -245,8 +245,9 @@ def literal(text: object, *, lines: bool = False) -> str:
 def chart_text(text: object) -> str:
     """``text`` for a plotly label (tick, hover, legend, title, annotation): plotly reads
     its text as a small HTML dialect, in which ``<a href>`` is a live link; escaped, it
-    shows the characters as typed."""
-    return html.escape("" if text is None else str(text), quote=True)
+    shows the characters as typed. Quotes stay: plotly decodes ``&lt; &gt; &amp;`` but
+    not ``&quot;``, and with no tag a quote does nothing."""
+    return html.escape("" if text is None else str(text), quote=False)
 
 
 # ---------------------------------------------------------------- the trial in hand

@@ -8,35 +8,27 @@ labels) and every string of every plotly figure is then inspected.
 
 from __future__ import annotations
 
-import datetime as dt
 import json
 import re
 
 import pytest
 
 from tests.app.conftest import page_test, shown
+from tests.nasty_names import (
+    ANCHORS_2,
+    ANCHORS_5,
+    ATTRIBUTES,
+    DIRECTIVE,
+    IMAGE,
+    LINK,
+    NAME,
+    PANELISTS,
+    SAMPLES,
+    TAG,
+    make_nasty_trial,
+    nasty,
+)
 from trials import service, ui
-from trials.model import Attribute, Sample
-
-IMAGE = "![x](http://example.invalid/x.png)"
-LINK = "[link](http://example.invalid)"
-TAG = '<a href="http://example.invalid">s</a>'
-DIRECTIVE = ":red[alarm]"
-
-
-def nasty(what: str) -> str:
-    return f"{what} {IMAGE} {LINK} {TAG} {DIRECTIVE}"
-
-
-NAME = nasty("Rye")
-SAMPLES = (nasty("Old flour"), nasty("New flour"))
-ATTRIBUTES = (nasty("Crumb"), nasty("Crust"))
-ANCHORS_2 = (nasty("too soft"), nasty("too firm"))
-ANCHORS_5 = tuple(nasty(f"point {i}") for i in range(1, 6))
-BATCH = "[b](http://example.invalid)"
-SETTING = nasty("oven")
-PANELISTS = ("[p](http://x.invalid)", "<b>P2</b>", ":red[P3]")
-COMMENT = nasty("note")
 
 # Markdown fields of element protos; select box and multiselect options are plain text in
 # Streamlit 1.67 (checked in a browser), and widget values are never rendered as Markdown.
@@ -47,30 +39,7 @@ PLAIN_OPTIONS = {"Selectbox", "MultiSelect"}
 @pytest.fixture
 def nasty_trial(app_db):
     store = service.open_store(app_db)
-    for code in PANELISTS:
-        service.add_panelist(store, code, consent_on=dt.date(2026, 1, 5))
-    service.add_panelist(store, nasty("A")[:40], allergens="![g](http://example.invalid/g)",
-                         consent_on=dt.date(2026, 1, 5))
-    trial = service.create_trial(
-        store, name=NAME, method="rating", product=nasty("bread"), objective=nasty("why"),
-        samples=[Sample(SAMPLES[0], is_control=True,
-                        allergens=("![g](http://example.invalid/g)",)),
-                 Sample(SAMPLES[1])],
-        attributes=[Attribute(ATTRIBUTES[0], low=1, high=9, anchors=ANCHORS_2),
-                    Attribute(ATTRIBUTES[1], low=1, high=5, anchors=ANCHORS_5)])
-    service.add_batch(store, trial.id, SAMPLES[0], BATCH, settings=[(SETTING, "220", "°C")],
-                      measures=[(nasty("moisture"), "41", "%")])
-    service.draw_plan(store, trial.id, panelist_codes=list(PANELISTS), seed=2)
-    for i, code in enumerate(PANELISTS[:2]):
-        token = service.panelist_token(store, trial.id, code)
-        for k, entry in enumerate(e for e in service.plan(store, trial.id)
-                                  if e.panelist_code == code):
-            for attribute in ATTRIBUTES:
-                service.record_answer(store, token, code=entry.code, attribute=attribute,
-                                      value=str(2 + (i + k) % 3), comment=COMMENT)
-    service.record_decision(store, trial.id, nasty("Switch"), nasty("Because") + "\n\n# no",
-                            by="test")
-    return store, trial.id
+    return store, make_nasty_trial(store)
 
 
 def _nodes(node):
@@ -167,7 +136,7 @@ def test_literal_makes_each_kind_of_markup_inert_and_reads_back_as_typed():
         assert shown(escaped) == text
     assert ui.literal("one\ntwo") == "one two"
     assert ui.literal("one\r\ntwo", lines=True) == "one  \ntwo"
-    assert ui.chart_text(TAG) == "&lt;a href=&quot;http://example.invalid&quot;&gt;s&lt;/a&gt;"
+    assert ui.chart_text(TAG) == '&lt;a href="http://example.invalid"&gt;s&lt;/a&gt;'
 
 
 @pytest.mark.parametrize("name", [name for name, _, _ in ui.LEADER_PAGES])
