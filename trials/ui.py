@@ -18,8 +18,10 @@ from typing import Any, NamedTuple
 import streamlit as st
 
 from trials import service
+from trials.gate import COOKIE, SIGN_IN_SECONDS, read_sign_in, sign_in_token
 
 PASSCODE_ENV = "TRIALS_PASSCODE"
+SECRET_ENV = "TRIALS_SESSION_SECRET"
 PAGES_DIR = Path(__file__).resolve().parent.parent / "pages"
 
 # (file name in pages/, title, icon); the first is the home screen.
@@ -103,8 +105,10 @@ def _leader_gate() -> None:
             f"(set {PASSCODE_ENV} to protect the leader screens)."
         )
         return
-    if st.session_state.get("leader_ok"):
+    if _signed_in(expected):
         return
+    if st.session_state.pop("_clear_cookie", False):
+        _write_cookie(st, "", 0.0)
     st.title("Kitchen Trials")
     with st.form("leader_gate"):
         given = st.text_input("Leader passcode", type="password")
@@ -119,6 +123,77 @@ def _throttle():
     from trials.gate import Throttle
 
     return Throttle()
+
+
+@st.cache_resource(show_spinner=False)
+def _server_secret() -> bytes:
+    """The secret mixed into sign-in tokens: ``TRIALS_SESSION_SECRET`` when set (tokens then
+    outlive a restart), else random per server process (a restart signs leaders out)."""
+    configured = os.environ.get(SECRET_ENV, "")
+    return configured.encode("utf-8") if configured else os.urandom(32)
+
+
+@st.cache_resource(show_spinner=False)
+def _signed_out() -> set[str]:
+    """Sign-in ids whose leader pressed "Sign out": their tokens open nothing any more."""
+    return set()
+
+
+def _cookie_token() -> str | None:
+    try:
+        return st.context.cookies.get(COOKIE) or None
+    except Exception:  # a test run without a browser has no cookies
+        return None
+
+
+def _signed_in(expected: str) -> bool:
+    """True once the passcode was given in this browser session, or a valid sign-in
+    cookie came with it (made with this passcode, under 12 hours old, not signed out)."""
+    if st.session_state.get("leader_ok"):
+        return True
+    if st.session_state.get("_leader_signed_out"):
+        return False  # the browser may still send the cookie it had when the tab opened
+    token = _cookie_token()
+    if token is None:
+        return False
+    sign_in = read_sign_in(token, expected, _server_secret())
+    if sign_in is None or sign_in in _signed_out():
+        import logging
+
+        logging.getLogger("trials.gate").warning("leader sign-in cookie refused: %s",
+                                                 _client_keys())
+        return False
+    st.session_state["leader_ok"] = True
+    st.session_state["_leader_sign_in"] = sign_in
+    return True
+
+
+def _write_cookie(where, token: str, expires: float) -> None:
+    """Set (or with ``expires`` 0, clear) the sign-in cookie from the browser: Streamlit
+    reads cookies but cannot set one. SameSite=Strict, the whole app's path, Secure under
+    HTTPS; Max-Age counts down to ``expires`` (seconds since the epoch)."""
+    import json
+
+    where.html(
+        "<script>(function () {"
+        f" var age = Math.max(0, Math.floor({float(expires)!r} - Date.now() / 1000));"
+        f" document.cookie = {json.dumps(COOKIE + '=')} + encodeURIComponent({json.dumps(token)})"
+        " + '; Max-Age=' + age + '; Path=/; SameSite=Strict'"
+        " + (location.protocol === 'https:' ? '; Secure' : '');"
+        "})();</script>",
+        unsafe_allow_javascript=True,
+    )
+
+
+def sign_out() -> None:
+    """Forget this browser's sign-in: the session, the cookie and the token itself."""
+    sign_in = st.session_state.pop("_leader_sign_in", None)
+    if sign_in:
+        _signed_out().add(sign_in)
+    st.session_state.pop("_leader_cookie", None)
+    st.session_state["leader_ok"] = False
+    st.session_state["_leader_signed_out"] = True
+    st.session_state["_clear_cookie"] = True
 
 
 def _client_keys() -> tuple[str, ...]:
@@ -143,8 +218,15 @@ def _try_passcode(given: str, expected: str) -> None:
         st.error(f"Too many wrong passcodes. Try again in {int(wait) + 1} seconds.")
         return
     if passcode_matches(given, expected):
+        import time
+
         throttle.passed(*keys)
+        sign_in = os.urandom(16).hex()
         st.session_state["leader_ok"] = True
+        st.session_state["_leader_sign_in"] = sign_in
+        st.session_state.pop("_leader_signed_out", None)
+        st.session_state["_leader_cookie"] = (
+            sign_in_token(expected, _server_secret(), sign_in), time.time() + SIGN_IN_SECONDS)
         st.rerun()
     throttle.failed(*keys)
     logging.getLogger("trials.gate").warning(
@@ -155,7 +237,8 @@ def _try_passcode(given: str, expected: str) -> None:
 def leader_unlocked() -> bool:
     """True where the leader screens may be listed: single-user mode, or the passcode
     given in this browser session."""
-    return configured_passcode() is None or bool(st.session_state.get("leader_ok"))
+    expected = configured_passcode()
+    return expected is None or _signed_in(expected)
 
 
 def require_panelist():
@@ -206,9 +289,18 @@ def who() -> str:
 
 
 def leader_sidebar() -> None:
-    """The leader's name for the audit log, kept for the session."""
+    """The leader's name for the audit log, kept for the session; with a passcode set,
+    "Sign out" (and, just after the passcode, the script that keeps the sign-in)."""
     st.sidebar.text_input("Your name (for the audit log)", key="leader_name",
                           placeholder="leader", persist_state="session")
+    if configured_passcode() is None:
+        return
+    cookie = st.session_state.get("_leader_cookie")
+    if cookie:
+        _write_cookie(st.sidebar, *cookie)
+    if st.sidebar.button("Sign out", icon=":material/logout:", key="sign_out"):
+        sign_out()
+        st.rerun()
 
 
 # ---------------------------------------------------------------- text as typed
