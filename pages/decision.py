@@ -66,9 +66,15 @@ elif st.button("Prepare the report", icon=":material/description:"):
 with st.expander("Export the answers", icon=":material/table_view:"):
     st.caption("Every answer with the sample behind each code (leader only); the file "
                "imports back.")
-    st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, trial_id),
-                       file_name=f"trial-{trial_id}-answers.csv", mime="text/csv",
-                       on_click="ignore")
+    if st.button("Prepare the answers with the key (CSV)", icon=":material/key:"):
+        try:
+            answers_csv = service.export_bytes(store, trial_id)
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.key_download(st, "Answers with the key (CSV)", answers_csv,
+                            file_name=f"trial-{trial_id}-answers.csv", mime="text/csv",
+                            key="dl_answers")
     st.download_button("Batch settings and measurements (CSV)",
                        lambda: service.export_measures_bytes(store, trial_id),
                        file_name=f"trial-{trial_id}-batches.csv", mime="text/csv",

@@ -42,3 +42,4 @@ else:
         ui.leader_pages(_page), position="sidebar" if ui.leader_unlocked() else "hidden"
     )
 navigation.run()
+ui.release_key_downloads()  # the decoding key's download addresses die now

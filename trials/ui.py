@@ -416,6 +416,40 @@ def changed() -> None:
     st.session_state["rev"] = st.session_state.get("rev", 0) + 1
 
 
+KEY_MEDIA = "_key_download"
+
+
+def key_download(where, label: str, data: bytes, *, file_name: str, mime: str,
+                 key: str) -> None:
+    """Offer a download that holds the decoding key for this run only.
+
+    Streamlit serves a download at ``/media/<id>`` to anyone holding the address for as
+    long as the button is on the screen (and one run more). So the bytes are made when the
+    leader presses "Prepare", the button is drawn in that run alone, and
+    :func:`release_key_downloads` makes the next run count twice: after the leader's next
+    action in the app the address answers 404.
+    """
+    where.download_button(label, data, file_name=file_name, mime=mime, on_click="ignore",
+                          type="primary", width="stretch", key=key,
+                          icon=":material/download:")
+    where.caption("Holds the decoding key: download it now. The link stops working at "
+                  "your next action in the app; prepare it again when needed.")
+    st.session_state[KEY_MEDIA] = "shown"
+
+
+def release_key_downloads() -> None:
+    """Call at the very end of a run (the entry script does). In the first run after a
+    key download was offered, rerun once: Streamlit marks a download no run shows and
+    deletes it at the end of the run after, so the address dies now rather than at some
+    later click."""
+    state = st.session_state.get(KEY_MEDIA)
+    if state == "shown":
+        st.session_state[KEY_MEDIA] = "pending"
+    elif state == "pending":
+        del st.session_state[KEY_MEDIA]
+        st.rerun()
+
+
 def show_problem(exc: Exception) -> None:
     """A bad input, said plainly (the message names the value and what was expected)."""
     st.error(literal(str(exc), lines=True))
