@@ -11,16 +11,17 @@ trial_id = ui.pick_trial()
 store = ui.store()
 study = service.get_trial(store, trial_id)
 
-st.title(f"Decision: {study.name}")
+st.title(f"Decision: {ui.literal(study.name)}")
 result, suggested = ui.analysis(trial_id)
 
 with st.container(border=True):
     st.markdown("**What the results say**")
-    st.markdown(suggested.text if result.has_answers else f"No results yet: {result.message}.")
+    st.markdown(ui.literal(suggested.text, lines=True) if result.has_answers
+                else f"No results yet: {ui.literal(result.message)}.")
 
 if study.decision:
-    st.success(f"On file: **{study.decision}**" + (f"  \n{study.rationale}" if study.rationale
-                                                      else ""))
+    st.success(f"On file: **{ui.literal(study.decision)}**"
+               + (f"  \n{ui.literal(study.rationale, lines=True)}" if study.rationale else ""))
 
 with st.form("decide"):
     decision = st.text_input("Decision", value=study.decision,
@@ -65,9 +66,15 @@ elif st.button("Prepare the report", icon=":material/description:"):
 with st.expander("Export the answers", icon=":material/table_view:"):
     st.caption("Every answer with the sample behind each code (leader only); the file "
                "imports back.")
-    st.download_button("Answers with the key (CSV)", lambda: service.export_bytes(store, trial_id),
-                       file_name=f"trial-{trial_id}-answers.csv", mime="text/csv",
-                       on_click="ignore")
+    if st.button("Prepare the answers with the key (CSV)", icon=":material/key:"):
+        try:
+            answers_csv = service.export_bytes(store, trial_id)
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.key_download(st, "Answers with the key (CSV)", answers_csv,
+                            file_name=f"trial-{trial_id}-answers.csv", mime="text/csv",
+                            key="dl_answers")
     st.download_button("Batch settings and measurements (CSV)",
                        lambda: service.export_measures_bytes(store, trial_id),
                        file_name=f"trial-{trial_id}-batches.csv", mime="text/csv",

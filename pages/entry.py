@@ -14,7 +14,7 @@ from trials.methods import Family
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
-st.title(f"Paper entry: {study.name}")
+st.title(f"Paper entry: {ui.literal(study.name)}")
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
     st.stop()
@@ -54,7 +54,7 @@ elif spec.family == Family.RATING:
     for a in study.attributes:
         config[a.name] = st.column_config.NumberColumn(
             a.name, min_value=a.low, max_value=a.high, step=1,
-            help=f"{a.kind}, whole points {a.low} to {a.high}")
+            help=f"{ui.literal(a.kind)}, whole points {a.low} to {a.high}")
 else:
     k = most_cups(base)  # the cups a panelist got: fewer than the samples in incomplete blocks
     config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
@@ -73,7 +73,7 @@ changed_rows = int((edited.astype("string").fillna("") != base.astype("string").
                    .any(axis=1).sum())
 if problems:
     st.error(f"{len(problems)} problem(s); nothing is saved until they are fixed:\n\n"
-             + "\n".join(f"- {p}" for p in problems[:30]))
+             + "\n".join(f"- {ui.literal(p)}" for p in problems[:30]))
 elif changed_rows:
     st.success(f"{changed_rows} row(s) changed; every answer checks out.")
 save = st.button("Save the answers", type="primary", disabled=bool(problems) or not changed_rows,

@@ -39,15 +39,15 @@ else:
     control = st.selectbox("Control sample", controls)
     points = service.control_trend(store, control)
     if not points:
-        st.info(f"No trial on file has scores for {control!r}.")
+        st.info(f"No trial on file has scores for {ui.literal(repr(control))}.")
     else:
         fig = go.Figure()
         for attribute in sorted({p.attribute for p in points}):
             mine = [p for p in points if p.attribute == attribute]
             fig.add_trace(go.Scatter(
-                x=[f"{p.date} {p.study}" for p in mine], y=[p.mean for p in mine],
+                x=[ui.chart_text(f"{p.date} {p.study}") for p in mine], y=[p.mean for p in mine],
                 error_y={"type": "data", "array": [p.sd or 0 for p in mine]},
-                mode="lines+markers", name=attribute,
+                mode="lines+markers", name=ui.chart_text(attribute),
             ))
         fig.update_layout(height=360, margin={"t": 30, "b": 10}, yaxis_title="mean score (± sd)",
                           legend_title="attribute")

@@ -54,7 +54,8 @@ else:
     if rows:
         chosen = studies[rows[0]]
         ui.select_study(chosen.id)
-        st.success(f"Working on trial #{chosen.id} {chosen.name}: the other screens open it.")
+        st.success(f"Working on trial #{chosen.id} {ui.literal(chosen.name)}: the other screens "
+                   "open it.")
 
 labels = {m.name: m.label for m in METHODS}
 with st.expander("Start a new trial", expanded=not studies, icon=":material/add:"):
@@ -81,5 +82,6 @@ with st.expander("Start a new trial", expanded=not studies, icon=":material/add:
         else:
             ui.changed()
             ui.select_study(study.id)
-            st.success(f"Trial #{study.id} {study.name} created. Go on with Trial set-up.")
+            st.success(f"Trial #{study.id} {ui.literal(study.name)} created. Go on with Trial "
+                       "set-up.")
 ui.food_caution()

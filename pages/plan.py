@@ -9,7 +9,7 @@ from trials.errors import TrialsError
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
-st.title(f"Serving plan: {study.name}")
+st.title(f"Serving plan: {ui.literal(study.name)}")
 ui.food_caution(trial_id)
 
 choice = service.panel_choice(store, trial_id)
@@ -44,7 +44,7 @@ if drawn:
     else:
         ui.changed()
         st.success(f"Plan drawn: {len(entries)} cups for {len(chosen)} panelists "
-                   f"(session {session}, seed {int(seed)}).")
+                   f"(session {ui.literal(session)}, seed {int(seed)}).")
         overview = service.trial_overview(store, trial_id)
 
 if not overview.plan_size:
@@ -65,7 +65,8 @@ with c2:
 st.subheader("Tasting links")
 address = ui.app_address()
 st.caption("Hand each panelist their own link; it opens that panelist's ballot only. "
-           + (f"Links start with {address} (set TRIALS_BASE_URL to the address tablets reach)."
+           + (f"Links start with {ui.literal(address)} (set TRIALS_BASE_URL to the address "
+               "tablets reach)."
               if address else "Put the app's address in front of each path."))
 links = pd.DataFrame({"panelist": list(overview.links),
                       "link": [address + path for path in overview.links.values()]})

@@ -11,7 +11,7 @@ store = ui.store()
 study = service.get_trial(store, trial_id)
 overview = service.trial_overview(store, trial_id)
 
-st.title(f"Printing: {study.name}")
+st.title(f"Printing: {ui.literal(study.name)}")
 ui.food_caution(trial_id)
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
@@ -22,6 +22,7 @@ DOCS = {
     "sheet": ("Serving sheet", "the decoding key, for the kitchen only: never hand it out"),
     "labels": ("Cup labels", "in serving order, grouped per panelist"),
 }
+KEY_KINDS = {"sheet"}  # hold the decoding key: offered for one run only (ui.key_download)
 stamp = service.change_stamp(store, trial_id)
 made = st.session_state.setdefault("printed", {})
 
@@ -41,6 +42,17 @@ for kind, (title, help_text) in DOCS.items():
     with st.container(border=True):
         c1, c2 = st.columns([3, 2], vertical_alignment="center")
         c1.markdown(f"**{title}**  \n{help_text}")
+        if kind in KEY_KINDS:
+            if c2.button(f"Prepare the {title.lower()}", key=f"prep_{kind}", width="stretch"):
+                try:
+                    data = _build(kind)
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+                else:
+                    ui.key_download(c2, f"Download the {title.lower()} (PDF)", data,
+                                    file_name=f"trial-{trial_id}-{kind}.pdf",
+                                    mime="application/pdf", key=f"dl_{kind}")
+            continue
         key = (trial_id, kind, stamp)
         if key not in made:
             if c2.button(f"Prepare the {title.lower()}", key=f"prep_{kind}", width="stretch"):

@@ -14,24 +14,24 @@ store = ui.store()
 study = service.get_trial(store, trial_id)
 spec = get_method(study.method)
 
-st.title(f"Results: {study.name}")
+st.title(f"Results: {ui.literal(study.name)}")
 result, decision = ui.analysis(trial_id)
 st.caption(f"{spec.label} · {result.panelists_answered} of {result.panelists_planned} panelists "
            f"answered · {result.answers} answers · alpha = {study.alpha:g}")
 
 if not result.has_answers:
-    st.info(f"No results: {result.message}.")
+    st.info(f"No results: {ui.literal(result.message)}.")
     st.stop()
 
 with st.container(border=True):
-    st.markdown(f"#### {decision.headline}")
+    st.markdown(f"#### {ui.literal(decision.headline)}")
     if decision.details:
         with st.expander("The evidence, point by point", expanded=len(decision.details) <= 3):
             for line in decision.details:
-                st.markdown(f"- {line}")
+                st.markdown(f"- {ui.literal(line)}")
     if decision.limits:
-        st.caption(" ".join(decision.limits))
-    st.caption(f"Method: {decision.method}. Source: {decision.reference}.")
+        st.caption(ui.literal(" ".join(decision.limits)))
+    st.caption(f"Method: {ui.literal(decision.method)}. Source: {ui.literal(decision.reference)}.")
 
 
 def _interval(ci) -> str:
@@ -47,7 +47,7 @@ if result.choice is not None:
         st.subheader("Choices")
         cols = st.columns(len(counts.counts) + 1)
         for col, (name, k) in zip(cols, counts.counts.items()):
-            col.metric(name, k)
+            col.metric(ui.literal(name), k)
         cols[-1].metric("No preference", counts.no_preference)
     else:
         st.subheader("Correct answers")
@@ -87,16 +87,16 @@ if result.choice is not None:
                   else sim.max_correct)
         s3.metric(f"Upper limit of pd (1 - beta = {1 - sim.beta:.2f})", f"{sim.pd_upper:.2f}")
     if fc.note:
-        st.caption(fc.note)
+        st.caption(ui.literal(fc.note))
 
 # ------------------------------------------------------------------ ratings
 if result.attributes:
     st.subheader("Ratings")
-    tabs = st.tabs([a.attribute for a in result.attributes])
+    tabs = st.tabs([ui.literal(a.attribute) for a in result.attributes])
     for tab, at in zip(tabs, result.attributes):
         with tab:
             if at.note:
-                st.caption(at.note)
+                st.caption(ui.literal(at.note))
             av = at.anova
             if av is None:
                 st.info("Not enough scores for an analysis of variance yet.")
@@ -137,7 +137,7 @@ if result.attributes:
                         "measure": r.predictor, "unit": r.unit, "r": r.correlation.r,
                         "p": r.correlation.p_value, "slope": r.regression.slope,
                     } for r in at.relations]), hide_index=True, width="stretch")
-                    st.caption(at.relations[0].note)
+                    st.caption(ui.literal(at.relations[0].note))
 
     st.subheader("Panel performance")
     c1, c2 = st.columns([2, 1], vertical_alignment="bottom")
@@ -149,7 +149,7 @@ if result.attributes:
         try:
             perf = ui.panel_performance(trial_id, which)
         except TrialsError as exc:
-            st.caption(str(exc))
+            st.caption(ui.literal(str(exc)))
         else:
             frame = perf.to_frame()
             ui.panel_chart(frame, title=f"{which}: agreement and repeatability")
@@ -161,7 +161,7 @@ if result.ranking is not None:
     rk = result.ranking
     st.subheader("Ranks")
     if rk.note:
-        st.caption(rk.note)
+        st.caption(ui.literal(rk.note))
     fr = rk.result
     if fr is not None:
         c1, c2, c3 = st.columns(3)
@@ -182,4 +182,4 @@ if result.measures.summaries:
 if result.problems:
     with st.expander(f"{len(result.problems)} answer(s) left out", icon=":material/info:"):
         for p in result.problems:
-            st.markdown(f"- {p}")
+            st.markdown(f"- {ui.literal(p)}")

@@ -13,7 +13,7 @@ from trials.model import AttributeKind
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
-st.title(f"Samples and batches: {study.name}")
+st.title(f"Samples and batches: {ui.literal(study.name)}")
 ui.food_caution(trial_id)
 
 # ------------------------------------------------------------------ samples

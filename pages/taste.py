@@ -41,7 +41,7 @@ def ballot_screen() -> None:
 
     st.markdown("## Tasting")
     if st.session_state.get("taste_problem"):
-        st.error(st.session_state["taste_problem"])
+        st.error(ui.literal(st.session_state["taste_problem"], lines=True))
 
     if not steps:
         st.info("Your ballot has no cups yet. Please ask the panel leader.")
@@ -103,19 +103,21 @@ def ballot_screen() -> None:
             st.caption(spec.tablet_instructions)
         for i, attr in enumerate(ballot.attributes):
             have = given.get((current.session, code, attr.name))
-            st.markdown(f"#### {attr.name}" + (f" · you gave **{have}**" if have else ""))
+            st.markdown(f"#### {ui.literal(attr.name)}"
+                        + (f" · you gave **{ui.literal(have)}**" if have else ""))
             points = list(range(attr.low, attr.high + 1))
             anchors = attr.anchors
             if len(anchors) == 2:
                 left, right = st.columns(2)
-                left.caption(f"{attr.low} = {anchors[0]}")
-                right.caption(f"{attr.high} = {anchors[1]}")
+                left.caption(f"{attr.low} = {ui.literal(anchors[0])}")
+                right.caption(f"{attr.high} = {ui.literal(anchors[1])}")
             cols = st.columns(len(points))
             for col, p in zip(cols, points):
                 label = str(p)
                 col.button(label, key=f"score_{current.session}_{code}_{i}_{p}",
                            type="primary" if have == label else "secondary", width="stretch",
-                           help=anchors[p - attr.low] if len(anchors) == len(points) else None,
+                           help=(ui.literal(anchors[p - attr.low]) if len(anchors) == len(points)
+                                 else None),
                            on_click=_save, args=(code, attr.name, label),
                            kwargs={"session": current.session})
 

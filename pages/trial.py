@@ -10,7 +10,7 @@ from trials.model import Status
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
-st.title(f"Trial set-up: {study.name}")
+st.title(f"Trial set-up: {ui.literal(study.name)}")
 st.caption(f"Trial #{study.id} · {spec.label} · status **{study.status}** · "
            f"{overview.plan_size} cups planned · {overview.responses} answers")
 

@@ -14,7 +14,7 @@ import streamlit as st
 
 from trials import ui
 
-st.set_page_config(page_title="Kitchen Trials", page_icon=":material/restaurant:", layout="wide")
+st.set_page_config(page_title="Kitchen Trials", page_icon="🍽️", layout="wide")
 
 
 def _page(name: str, title: str, icon: str, *, default: bool = False) -> st.Page:
@@ -42,3 +42,4 @@ else:
         ui.leader_pages(_page), position="sidebar" if ui.leader_unlocked() else "hidden"
     )
 navigation.run()
+ui.release_key_downloads()  # the decoding key's download addresses die now

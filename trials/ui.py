@@ -8,7 +8,9 @@ without the entry script still meets its gate.
 from __future__ import annotations
 
 import hmac
+import html
 import os
+import re
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -16,8 +18,10 @@ from typing import Any, NamedTuple
 import streamlit as st
 
 from trials import service
+from trials.gate import COOKIE, SIGN_IN_SECONDS, read_sign_in, sign_in_token
 
 PASSCODE_ENV = "TRIALS_PASSCODE"
+SECRET_ENV = "TRIALS_SESSION_SECRET"
 PAGES_DIR = Path(__file__).resolve().parent.parent / "pages"
 
 # (file name in pages/, title, icon); the first is the home screen.
@@ -101,8 +105,10 @@ def _leader_gate() -> None:
             f"(set {PASSCODE_ENV} to protect the leader screens)."
         )
         return
-    if st.session_state.get("leader_ok"):
+    if _signed_in(expected):
         return
+    if st.session_state.pop("_clear_cookie", False):
+        _write_cookie(st, "", 0.0)
     st.title("Kitchen Trials")
     with st.form("leader_gate"):
         given = st.text_input("Leader passcode", type="password")
@@ -117,6 +123,77 @@ def _throttle():
     from trials.gate import Throttle
 
     return Throttle()
+
+
+@st.cache_resource(show_spinner=False)
+def _server_secret() -> bytes:
+    """The secret mixed into sign-in tokens: ``TRIALS_SESSION_SECRET`` when set (tokens then
+    outlive a restart), else random per server process (a restart signs leaders out)."""
+    configured = os.environ.get(SECRET_ENV, "")
+    return configured.encode("utf-8") if configured else os.urandom(32)
+
+
+@st.cache_resource(show_spinner=False)
+def _signed_out() -> set[str]:
+    """Sign-in ids whose leader pressed "Sign out": their tokens open nothing any more."""
+    return set()
+
+
+def _cookie_token() -> str | None:
+    try:
+        return st.context.cookies.get(COOKIE) or None
+    except Exception:  # a test run without a browser has no cookies
+        return None
+
+
+def _signed_in(expected: str) -> bool:
+    """True once the passcode was given in this browser session, or a valid sign-in
+    cookie came with it (made with this passcode, under 12 hours old, not signed out)."""
+    if st.session_state.get("leader_ok"):
+        return True
+    if st.session_state.get("_leader_signed_out"):
+        return False  # the browser may still send the cookie it had when the tab opened
+    token = _cookie_token()
+    if token is None:
+        return False
+    sign_in = read_sign_in(token, expected, _server_secret())
+    if sign_in is None or sign_in in _signed_out():
+        import logging
+
+        logging.getLogger("trials.gate").warning("leader sign-in cookie refused: %s",
+                                                 _client_keys())
+        return False
+    st.session_state["leader_ok"] = True
+    st.session_state["_leader_sign_in"] = sign_in
+    return True
+
+
+def _write_cookie(where, token: str, expires: float) -> None:
+    """Set (or with ``expires`` 0, clear) the sign-in cookie from the browser: Streamlit
+    reads cookies but cannot set one. SameSite=Strict, the whole app's path, Secure under
+    HTTPS; Max-Age counts down to ``expires`` (seconds since the epoch)."""
+    import json
+
+    where.html(
+        "<script>(function () {"
+        f" var age = Math.max(0, Math.floor({float(expires)!r} - Date.now() / 1000));"
+        f" document.cookie = {json.dumps(COOKIE + '=')} + encodeURIComponent({json.dumps(token)})"
+        " + '; Max-Age=' + age + '; Path=/; SameSite=Strict'"
+        " + (location.protocol === 'https:' ? '; Secure' : '');"
+        "})();</script>",
+        unsafe_allow_javascript=True,
+    )
+
+
+def sign_out() -> None:
+    """Forget this browser's sign-in: the session, the cookie and the token itself."""
+    sign_in = st.session_state.pop("_leader_sign_in", None)
+    if sign_in:
+        _signed_out().add(sign_in)
+    st.session_state.pop("_leader_cookie", None)
+    st.session_state["leader_ok"] = False
+    st.session_state["_leader_signed_out"] = True
+    st.session_state["_clear_cookie"] = True
 
 
 def _client_keys() -> tuple[str, ...]:
@@ -141,8 +218,15 @@ def _try_passcode(given: str, expected: str) -> None:
         st.error(f"Too many wrong passcodes. Try again in {int(wait) + 1} seconds.")
         return
     if passcode_matches(given, expected):
+        import time
+
         throttle.passed(*keys)
+        sign_in = os.urandom(16).hex()
         st.session_state["leader_ok"] = True
+        st.session_state["_leader_sign_in"] = sign_in
+        st.session_state.pop("_leader_signed_out", None)
+        st.session_state["_leader_cookie"] = (
+            sign_in_token(expected, _server_secret(), sign_in), time.time() + SIGN_IN_SECONDS)
         st.rerun()
     throttle.failed(*keys)
     logging.getLogger("trials.gate").warning(
@@ -153,7 +237,8 @@ def _try_passcode(given: str, expected: str) -> None:
 def leader_unlocked() -> bool:
     """True where the leader screens may be listed: single-user mode, or the passcode
     given in this browser session."""
-    return configured_passcode() is None or bool(st.session_state.get("leader_ok"))
+    expected = configured_passcode()
+    return expected is None or _signed_in(expected)
 
 
 def require_panelist():
@@ -179,7 +264,8 @@ def food_caution(trial_id: int | None = None) -> None:
         conflicts = service.allergen_conflicts(store(), trial_id)
         if conflicts:
             lines = "\n".join(
-                f"- panelist **{c.panelist_code}**: {c.sample_name} holds {', '.join(c.allergens)}"
+                f"- panelist **{literal(c.panelist_code)}**: {literal(c.sample_name)} holds "
+                f"{literal(', '.join(c.allergens))}"
                 for c in conflicts
             )
             st.warning("Allergen conflicts: these panelists declared an allergen that a "
@@ -187,7 +273,7 @@ def food_caution(trial_id: int | None = None) -> None:
                        icon=":material/warning:")
         unsigned = [b for b in service.list_batches(store(), trial_id) if not b.signed_off]
         if unsigned:
-            names = ", ".join(f"{b.sample_name} / {b.label}" for b in unsigned)
+            names = ", ".join(f"{literal(b.sample_name)} / {literal(b.label)}" for b in unsigned)
             st.warning(f"Batches not signed off for food safety yet (do not serve): {names}",
                        icon=":material/health_and_safety:")
     st.caption(
@@ -203,9 +289,57 @@ def who() -> str:
 
 
 def leader_sidebar() -> None:
-    """The leader's name for the audit log, kept for the session."""
+    """The leader's name for the audit log, kept for the session; with a passcode set,
+    "Sign out" (and, just after the passcode, the script that keeps the sign-in)."""
     st.sidebar.text_input("Your name (for the audit log)", key="leader_name",
                           placeholder="leader", persist_state="session")
+    if configured_passcode() is None:
+        return
+    cookie = st.session_state.get("_leader_cookie")
+    if cookie:
+        _write_cookie(st.sidebar, *cookie)
+    if st.sidebar.button("Sign out", icon=":material/logout:", key="sign_out"):
+        sign_out()
+        st.rerun()
+
+
+# ---------------------------------------------------------------- text as typed
+
+# Every ASCII punctuation mark may be backslash-escaped in CommonMark; escaping them all
+# stops emphasis, links, images, headings, lists, tables, HTML, maths ($) and Streamlit's
+# directives (:red[...]). Streamlit also turns bare URLs, e-mail addresses, :emoji: and
+# :material/icon: codes found in the *parsed* text into links and icons, which no
+# backslash prevents: a word joiner (U+2060, invisible) after ':' and '@' and inside
+# "www." breaks those patterns.
+_PUNCTUATION = re.compile(r"([!-/:-@\[-`{-~])")
+WORD_JOINER = "\u2060"
+_WWW = re.compile(r"(www)(?=\\\.)", re.IGNORECASE)
+
+
+def literal(text: object, *, lines: bool = False) -> str:
+    """``text`` as Markdown that Streamlit shows exactly as typed: no link, image,
+    emphasis, heading, HTML, maths, colour directive, icon or emoji comes of it.
+
+    For every user-entered name or note put into ``st.markdown``, titles, captions,
+    alerts, and the labels and help of widgets (radio, pills, tabs, metrics, expanders,
+    buttons). Line breaks become spaces, or with ``lines`` hard line breaks (comments,
+    rationale, decision text). Select boxes and multiselects show their options as plain
+    text: their ``format_func`` needs no escaping (checked on Streamlit 1.67).
+    """
+    value = "" if text is None else str(text)
+    value = _PUNCTUATION.sub(r"\\\1", value)
+    value = _WWW.sub(r"\1" + WORD_JOINER, value)
+    value = value.replace(":", ":" + WORD_JOINER).replace("@", "@" + WORD_JOINER)
+    parts = re.split(r"\r\n|\r|\n", value)
+    return "  \n".join(parts) if lines else " ".join(parts)
+
+
+def chart_text(text: object) -> str:
+    """``text`` for a plotly label (tick, hover, legend, title, annotation): plotly reads
+    its text as a small HTML dialect, in which ``<a href>`` is a live link; escaped, it
+    shows the characters as typed. Quotes stay: plotly decodes ``&lt; &gt; &amp;`` but
+    not ``&quot;``, and with no tag a quote does nothing."""
+    return html.escape("" if text is None else str(text), quote=False)
 
 
 # ---------------------------------------------------------------- the trial in hand
@@ -282,9 +416,43 @@ def changed() -> None:
     st.session_state["rev"] = st.session_state.get("rev", 0) + 1
 
 
+KEY_MEDIA = "_key_download"
+
+
+def key_download(where, label: str, data: bytes, *, file_name: str, mime: str,
+                 key: str) -> None:
+    """Offer a download that holds the decoding key for this run only.
+
+    Streamlit serves a download at ``/media/<id>`` to anyone holding the address for as
+    long as the button is on the screen (and one run more). So the bytes are made when the
+    leader presses "Prepare", the button is drawn in that run alone, and
+    :func:`release_key_downloads` makes the next run count twice: after the leader's next
+    action in the app the address answers 404.
+    """
+    where.download_button(label, data, file_name=file_name, mime=mime, on_click="ignore",
+                          type="primary", width="stretch", key=key,
+                          icon=":material/download:")
+    where.caption("Holds the decoding key: download it now. The link stops working at "
+                  "your next action in the app; prepare it again when needed.")
+    st.session_state[KEY_MEDIA] = "shown"
+
+
+def release_key_downloads() -> None:
+    """Call at the very end of a run (the entry script does). In the first run after a
+    key download was offered, rerun once: Streamlit marks a download no run shows and
+    deletes it at the end of the run after, so the address dies now rather than at some
+    later click."""
+    state = st.session_state.get(KEY_MEDIA)
+    if state == "shown":
+        st.session_state[KEY_MEDIA] = "pending"
+    elif state == "pending":
+        del st.session_state[KEY_MEDIA]
+        st.rerun()
+
+
 def show_problem(exc: Exception) -> None:
     """A bad input, said plainly (the message names the value and what was expected)."""
-    st.error(str(exc))
+    st.error(literal(str(exc), lines=True))
 
 
 @st.cache_resource(show_spinner="Analysing...", max_entries=16)
@@ -373,12 +541,14 @@ def means_chart(means: dict, ci: dict, *, title: str, low: float, high: float,
     hi = [ci[n][1] - y[i] for i, n in enumerate(names)]
     text = [(groups or {}).get(n, "") for n in names]
     fig = go.Figure(go.Scatter(
-        x=names, y=y, mode="markers+text", text=text, textposition="middle right",
+        x=[chart_text(n) for n in names], y=y, mode="markers+text",
+        text=[chart_text(t) for t in text], textposition="middle right",
         error_y={"type": "data", "symmetric": False, "array": hi, "arrayminus": lo},
         marker={"size": 12},
     ))
-    fig.update_layout(title=title, yaxis_title="mean score", yaxis_range=[low - 0.5, high + 0.5],
-                      height=340, margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    fig.update_layout(title=chart_text(title), yaxis_title="mean score",
+                      yaxis_range=[low - 0.5, high + 0.5], height=340,
+                      margin={"l": 10, "r": 10, "t": 40, "b": 10})
     st.plotly_chart(fig, width="stretch")
 
 
@@ -392,9 +562,10 @@ def panel_chart(frame, *, title: str) -> None:
     fig = go.Figure()
     for mask, name in ((~flagged, "in line"), (flagged, "stands apart")):
         fig.add_trace(go.Scatter(x=data.loc[mask, "agreement"], y=y[mask], mode="markers+text",
-                                 text=data.loc[mask, "panelist"], textposition="top center",
+                                 text=[chart_text(c) for c in data.loc[mask, "panelist"]],
+                                 textposition="top center",
                                  name=name, marker={"size": 10}))
-    fig.update_layout(title=title, xaxis_title="agreement with the panel (r)",
+    fig.update_layout(title=chart_text(title), xaxis_title="agreement with the panel (r)",
                       yaxis_title="repeatability (MSE)" if data["mse"].notna().any()
                       else "scores", height=360, margin={"l": 10, "r": 10, "t": 40, "b": 10})
     st.plotly_chart(fig, width="stretch")
@@ -433,7 +604,8 @@ def count_chart(correct: int, n: int, critical: int | None, *, guess: float, lab
     """The observed count against the count expected by chance and the critical value."""
     import plotly.graph_objects as go
 
-    fig = go.Figure(go.Bar(x=[correct, n - correct], y=[label, "other"], orientation="h",
+    fig = go.Figure(go.Bar(x=[correct, n - correct], y=[chart_text(label), "other"],
+                           orientation="h",
                            marker_color=["#2e7d32", "#9e9e9e"], text=[correct, n - correct],
                            textposition="auto"))
     fig.add_vline(x=n * guess, line_dash="dot", annotation_text="expected by chance")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
@@ -65,14 +66,23 @@ def by_label(widgets, label: str):
     return found[0]
 
 
+def shown(markdown: str) -> str:
+    """What Markdown made by ``trials.ui.literal`` reads as on the screen: backslash
+    escapes and the invisible word joiners dropped, hard line breaks as line breaks."""
+    text = re.sub(r"\\([!-/:-@\[-`{-~])", r"\1", markdown).replace("\u2060", "")
+    return text.replace("  \n", "\n")
+
+
 def page_text(at) -> str:
-    """Every piece of text a page shows (markdown, titles, captions, alerts, metrics, tables)."""
+    """Every piece of text a page shows (markdown, titles, captions, alerts, metrics, tables),
+    as read on the screen (see :func:`shown`), so a check that a name is absent cannot be
+    fooled by its escaped form."""
     parts = []
     for kind in ("title", "header", "subheader", "markdown", "caption", "text", "error",
                  "warning", "info", "success"):
-        parts += [str(getattr(x, "value", "")) for x in getattr(at, kind)]
-    parts += [f"{m.label} {m.value}" for m in at.metric]
-    parts += [b.label for b in at.button]
+        parts += [shown(str(getattr(x, "value", ""))) for x in getattr(at, kind)]
+    parts += [shown(f"{m.label} {m.value}") for m in at.metric]
+    parts += [shown(b.label) for b in at.button]
     for df in at.dataframe:
         parts.append(df.value.to_string())
     return "\n".join(parts)

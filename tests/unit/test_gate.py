@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from trials import gate
 from trials.gate import FREE_TRIES, MAX_WAIT, Throttle
 
 
@@ -45,3 +46,39 @@ def test_the_right_passcode_clears_the_keys_it_was_given_with():
         gate.failed("session:a")
     gate.passed("session:a")
     assert gate.failures("session:a") == 0 and gate.wait("session:a") == 0
+
+
+# ---------------------------------------------------------------- sign-in token
+
+SECRET = b"s" * 32
+
+
+def test_a_sign_in_token_reads_back_within_twelve_hours_and_not_after():
+    made_at = 1_800_000_000.0
+    token = gate.sign_in_token("rye", SECRET, "abc", clock=lambda: made_at)
+    assert gate.read_sign_in(token, "rye", SECRET, clock=lambda: made_at + 11.9 * 3600) == "abc"
+    assert gate.read_sign_in(token, "rye", SECRET, clock=lambda: made_at + 12.1 * 3600) is None
+
+
+def test_a_sign_in_token_is_bound_to_the_passcode_and_the_server_secret():
+    token = gate.sign_in_token("rye", SECRET, "abc")
+    assert gate.read_sign_in(token, "rye", SECRET) == "abc"
+    assert gate.read_sign_in(token, "caraway", SECRET) is None  # passcode changed
+    assert gate.read_sign_in(token, "rye", b"t" * 32) is None  # another server's secret
+
+
+def test_a_tampered_or_foreign_token_reads_as_nothing():
+    token = gate.sign_in_token("rye", SECRET, "abc")
+    flipped = token[:-1] + ("A" if token[-1] != "A" else "B")
+    body = token.split(".")[0]
+    for bad in (flipped, "x" + token, body, "", "not a token", "a.b.c"):
+        assert gate.read_sign_in(bad, "rye", SECRET) is None, bad
+
+
+def test_a_sign_in_token_does_not_hold_the_passcode():
+    import base64
+
+    token = gate.sign_in_token("rye-and-caraway", SECRET, "abc")
+    payload = token.split(".")[0]
+    decoded = base64.urlsafe_b64decode(payload + "=" * (-len(payload) % 4))
+    assert b"rye" not in decoded and "rye" not in token
