@@ -29,6 +29,13 @@ def files(tmp_path):
         (tmp_path / name).write_bytes(data)
     (tmp_path / "folder.csv").mkdir()
     (tmp_path / "notdb.db").write_bytes(b"hello, not a database")
+    from trials import service
+    from trials.model import Sample
+
+    store = service.open_store(f"sqlite:///{tmp_path / 'store.db'}")
+    service.create_trial(store, name="Crust", method="triangle",
+                         samples=[Sample("Usual", is_control=True), Sample("Short")])
+    store.close()  # trial 1 exists, so commands get as far as writing their output
     return tmp_path
 
 
@@ -56,6 +63,9 @@ def _cases(folder):
     yield ["export", "responses", "--db", db, "--trial"], NUMBERS
     yield ["print", "ballots", "--db", db, "--out", str(folder / "b.pdf"), "--study"], NUMBERS
     yield ["report", "--db", db, "--out", str(folder / "missing" / "r.html"), "--trial"], ["1"]
+    yield ["report", "--db", db, "--trial", "1", "--out"], [str(folder), "/proc/version"]
+    yield ["export", "answers", "--db", db, "--trial", "1", "--out"], [
+        str(folder / "missing" / "a.csv"), str(folder)]
     yield ["app", "--db", db, "--port"], ["99999", "abc"]
 
 

@@ -30,3 +30,13 @@ def test_a_held_write_lock_blocks_no_reader_and_a_writer_is_told_the_store_is_bu
         other.execute("ROLLBACK")
         other.close()
     assert [t.name for t in service.list_trials(store)] == ["Crust"]
+
+
+def test_a_read_only_store_refuses_a_change_with_a_message(tmp_path):
+    path = tmp_path / "ro.db"
+    service.open_store(f"sqlite:///{path}").close()
+    store = service.open_store(f"sqlite:///file:{path}?mode=ro&uri=true")
+    assert service.list_trials(store) == []  # reading works
+    with pytest.raises(TrialsError, match="the store refused the change: attempt to write a "
+                                          "readonly database"):
+        service.create_trial(store, name="Rye", method="triangle")

@@ -133,6 +133,10 @@ class Store:
                     session.rollback()
                     attempt += 1
                     if not _retryable(exc):
+                        if isinstance(exc, OperationalError):  # read-only file, disk full
+                            reason = str(exc.orig).strip().splitlines()[0]
+                            raise TrialsError(f"the store refused the change: {reason}; "
+                                              "nothing was changed") from None
                         raise
                     waited = time.monotonic() - started
                     if attempt > retries or waited > BUSY_DEADLINE_S:
