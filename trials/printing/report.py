@@ -239,6 +239,9 @@ def _risks(study: Trial) -> list[tuple[str, Any]]:
         rows.append(("smallest difference of means that matters", fmt(study.delta)))
     if study.aim:
         rows.append(("aim", study.aim))
+    if study.target_sample:
+        rows.append(("target sample (expected to have more of the attribute)",
+                     study.target_sample))
     return rows
 
 
