@@ -4,7 +4,7 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import METHODS, Family, Scoring, get_method
+from trials.methods import METHODS, Scoring, get_method
 from trials.model import Status
 
 ui.require_leader()
@@ -28,7 +28,7 @@ with st.form("setup"):
     )
     aims = ["difference", "similarity"]
     aim = study.aim
-    if get_method(method).family == Family.DISCRIMINATION:
+    if get_method(method).is_forced_choice:  # paired preference too: equal preference
         aim = st.radio(
             "What the test must show", aims, horizontal=True,
             index=aims.index(study.aim) if study.aim in aims else 0,

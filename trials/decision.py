@@ -145,7 +145,30 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         details.append(
             f"Estimated proportion of panelists with a preference {fmt(d.pd)} "
             f"({_level(d.level)} interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}).")
-        if not d.significant:
+        s = fc.similarity
+        if fc.similarity_planned and s is not None:
+            numbers.update(_similarity_numbers(s))
+            allowed = (f"at most {s.max_correct} allowed" if s.max_correct is not None
+                       else f"no count of {s.n} can show equivalence at this beta")
+            bound = (f"{allowed} for equivalence at beta {fmt_risk(s.beta)} and pd "
+                     f"{fmt(s.pd)} (the proportion of panelists with a preference; two "
+                     f"one-sided exact binomial tests on the more-chosen share, Schuirmann "
+                     f"1987, bound 1/2 + pd/2 = {fmt(s.p_max, 3)}; {ref})")
+            if s.similar:
+                verdict = Verdict.SIMILAR
+                head = (f"The samples are equally preferred within the planned limit: the "
+                        f"more-chosen sample got {d.correct} of {d.n}{folded}, {bound}.")
+            else:
+                verdict = Verdict.NOT_SIMILAR
+                head = (f"Equal preference was not shown: the more-chosen sample "
+                        f"({pref}) got {d.correct} of {d.n}{folded}, {bound}.")
+            details.insert(0, (
+                f"Upper one-sided {_level(1 - s.beta)} limit of the proportion of panelists "
+                f"with a preference: {fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). "
+                f"Preference test: {fmt_p(d.p_value)}, {need}"
+                + (f": panelists preferred {pref}." if d.significant and c.preferred
+                   else ".")))
+        elif not d.significant:
             limits.append("Not significant is not the same as equally liked: "
                           + _similarity_limit(fc))
     else:
@@ -165,8 +188,7 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         details.append(estimate)
         s = fc.similarity
         if fc.similarity_planned and s is not None:
-            numbers.update({"similar": s.similar, "max_correct": s.max_correct,
-                            "pd_upper": s.pd_upper, "pd_max": s.pd, "beta": s.beta})
+            numbers.update(_similarity_numbers(s))
             conf = _level(1 - s.beta)
             allowed = (f"at most {s.max_correct} correct allowed" if s.max_correct is not None
                        else f"no count of {s.n} can show similarity at this beta")
@@ -195,6 +217,11 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
 
 
+def _similarity_numbers(s) -> dict[str, Any]:
+    return {"similar": s.similar, "max_correct": s.max_correct, "pd_upper": s.pd_upper,
+            "pd_max": s.pd, "beta": s.beta, "p_max": s.p_max}
+
+
 def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
     if fc.similarity_planned and fc.similarity is None:
         return "a similarity test was planned but could not be run (" + (fc.note or "no pd") + ")."
@@ -215,8 +242,10 @@ def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
 def _risks(fc: ForcedChoiceAnalysis, a: TrialAnalysis) -> list[str]:
     text = f"Risks planned: alpha {fmt_risk(fc.alpha)} (calling a difference that is not there)"
     if fc.similarity_planned:
+        who = ("have a preference" if get_method(fc.method).scoring is Scoring.PREFERENCE_COUNT
+               else "can tell them apart")
         text += (f", beta {fmt_risk(fc.beta)} (calling the samples similar when a proportion "
-                 f"{fmt(fc.pd)} of panelists can tell them apart)")
+                 f"{fmt(fc.pd)} of panelists {who})")
     elif fc.pd is not None:
         text += (f", beta {fmt_risk(fc.beta)} (missing a proportion of discriminators of "
                  f"{fmt(fc.pd)})")
