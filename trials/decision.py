@@ -373,22 +373,34 @@ def _ranking(a: TrialAnalysis) -> Decision:
     ref = f"{spec.reference}; {r.reference()} rank test"
     sums = sorted(r.rank_sums.items(), key=lambda kv: kv[1])
     listed = ", ".join(f"{s} {fmt(v, 1)} {r.groups.get(s, '')}".rstrip() for s, v in sums)
-    test = (f"{r.name()} chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}, "
-            f"{r.panelists} panelists")
-    differs = r.p_value <= a.alpha
+    chi = f"chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}"
+    f_df = f"{r.f_df[0]:g} and {r.f_df[1]:g} df"
+    f_form = f"F = {fmt(r.f_statistic)} on {f_df}, {fmt_p(r.f_p_value)}"
+    used, other = (f_form, chi) if r.form == "F" else (chi, f_form)
+    test = f"{r.name()} {used}, {r.panelists} panelists"
+    differs = r.overall_significant
     if differs:
         verdict = Verdict.DIFFERENCE
         head = f"The rankings differ between samples ({test}; {r.reference()}; {spec.reference})."
     else:
         verdict = Verdict.NO_DIFFERENCE
         head = f"No difference in rank was shown ({test}; {r.reference()}; {spec.reference})."
-    details = (f"Rank sums, rank 1 = most (samples sharing a letter do not differ by the least "
-               f"significant difference {fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, "
-               f"{r.lsd_method}): {listed}.",)
+    compared = ("samples sharing a letter do not differ by the least significant difference "
+                f"{fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, {r.lsd_method}; the pairs are "
+                f"compared only because the overall test is significant (protected LSD, "
+                f"Conover 1999)") if differs else (
+                "no pair is compared, so every sample shares one letter: the overall test is "
+                "not significant and the least significant difference is used only after a "
+                "significant one (protected LSD, Conover 1999)")
+    details = (f"The decision uses the {r.form} form of the test; the other form gives "
+               f"{other}.",
+               f"Rank sums, rank 1 = most ({compared}): {listed}.")
     limits = ("Not significant is not the same as equal.",
               "Ranks say which sample comes first, not by how much.")
     numbers = {"statistic": r.statistic, "df": r.df, "p_value": r.p_value,
-               "rank_sums": dict(r.rank_sums), "lsd": r.lsd, "groups": dict(r.groups)}
+               "f_statistic": r.f_statistic, "f_p_value": r.f_p_value, "form": r.form,
+               "overall_p_value": r.overall_p_value, "rank_sums": dict(r.rank_sums),
+               "lsd": r.lsd, "groups": dict(r.groups)}
     return Decision(verdict, head, details, limits, a.method, ref, numbers)
 
 

@@ -208,7 +208,7 @@ def test_ranking_decision_quotes_friedman_and_rank_sums():
                                 [2] * 9, [3 if p % 4 else 1 for p in range(9)])
     assert d.numbers["statistic"] == pytest.approx(ref.statistic)
     assert f"Friedman chi-square = {fmt(r.statistic)} on 2 df" in d.headline
-    assert "ISO 8587" in d.headline and "rank 1 = most" in d.details[0]
+    assert "ISO 8587" in d.headline and "rank 1 = most" in " ".join(d.details)
     assert "Friedman (1937)" in d.headline and "Friedman (1937)" in d.reference
     assert "Durbin" not in d.headline + d.reference
 
@@ -235,6 +235,38 @@ def test_an_incomplete_block_ranking_decision_names_durbin_and_cites_durbin_1951
     assert f"Durbin chi-square = {fmt(12.0)} on 6 df" in d.headline
     assert "Durbin (1951)" in d.headline and "Durbin (1951)" in d.reference
     assert "Friedman" not in d.headline + d.reference
+
+
+def test_a_ranking_decision_names_the_form_used_and_gives_the_other():
+    # Conover (1999) sec. 5.8 (from memory): chi-square p = 0.062, F p = 0.0049; the
+    # tails recomputed with scipy. The decision uses the chi-square form (ISO 8587), so
+    # it shows no difference, quotes the F form beside it, and compares no pair.
+    s, plan, responses = ice_cream_ranking_trial()
+    d = decide(analyse(s, plan, responses))
+    assert d.verdict == Verdict.NO_DIFFERENCE
+    assert d.numbers["p_value"] == pytest.approx(sps.chi2.sf(12.0, 6), rel=1e-9)
+    assert d.numbers["f_p_value"] == pytest.approx(sps.f.sf(8.0, 6, 8), rel=1e-9)
+    assert f"Durbin chi-square = {fmt(12.0)} on 6 df, p = 0.062" in d.headline
+    text = " ".join(d.details)
+    assert "uses the chi-square form" in text and "F = 8.00 on 6 and 8 df, p = 0.005" in text
+    assert "no pair is compared" in text and "protected LSD, Conover 1999" in text
+    assert set(d.numbers["groups"].values()) == {"a"}
+
+
+def test_a_significant_ranking_says_its_pairs_were_compared_after_the_overall_test():
+    s = Trial(name="Ranks", method="ranking", samples=SAMPLES3)
+    plan, responses, code = [], [], 500
+    for p in range(12):
+        for pos, sample in enumerate(SAMPLES3, start=1):
+            plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
+            responses.append(Answer("S1", f"P{p}", str(code), "rank", str(pos)))
+            code += 1
+    d = decide(analyse(s, plan, responses))
+    # every panelist ranks the same way: chi-square = b (k - 1) = 24 (Friedman 1937)
+    assert d.numbers["statistic"] == pytest.approx(24.0)
+    assert d.verdict == Verdict.DIFFERENCE
+    assert "compared only because the overall test is significant" in " ".join(d.details)
+    assert sorted(d.numbers["groups"].values()) == ["a", "b", "c"]
 
 
 def test_the_decision_quotes_only_the_measured_variables_that_follow_the_means():
