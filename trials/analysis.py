@@ -39,6 +39,7 @@ from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
+from trials.replication import replicated_tests
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -100,6 +101,10 @@ class ForcedChoiceAnalysis(Record):
     beta: float
     pd: float | None
     note: str = ""
+    # replicated panels (a panelist answered more than once): Tarone's test, and the
+    # beta-binomial test that replaces the pooled one where it finds overdispersion
+    overdispersion: Any | None = None  # trials.stats.replicated.OverdispersionResult
+    replicated: Any | None = None  # trials.stats.replicated.ReplicatedDifferenceResult
 
 
 @dataclass(frozen=True, slots=True)
@@ -464,8 +469,13 @@ def _forced_choice(study: Trial, plan, responses) -> ForcedChoiceAnalysis:
                                                       beta=study.beta)
                 except TrialsError as exc:
                     notes.append(f"similarity test not run: {exc}")
+    over = replicated = None
+    if difference is not None:
+        over, replicated, similarity, more = replicated_tests(study, counts, similarity)
+        notes += more
     return ForcedChoiceAnalysis(study.method, counts, preference, difference, similarity, similar,
-                                study.alpha, study.beta, study.pd, "; ".join(notes))
+                                study.alpha, study.beta, study.pd, "; ".join(notes),
+                                over, replicated)
 
 
 # --------------------------------------------------------------------------- ratings

@@ -125,6 +125,30 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     ci = d.ci_method or "exact interval"
     details: list[str] = []
     limits: list[str] = []
+    significant = d.significant
+    rep, over = fc.replicated, fc.overdispersion
+    if rep is not None:  # overdispersed replicated answers: the beta-binomial test decides
+        significant = rep.significant
+        sided = "two-sided" if spec.sides == 2 else "one-sided"
+        evidence = (f"({fmt_p(rep.p_value)}, {sided} beta-binomial test, Ennis and Bi 1998, "
+                    f"because the replicated answers are overdispersed; {ref})")
+        numbers.update({"p_value": rep.p_value, "pooled_p_value": d.p_value,
+                        "gamma": rep.gamma, "effective_n": rep.effective_n,
+                        "tarone_z": over.statistic, "tarone_p_value": over.p_value})
+        details.append(
+            f"Panelists answered more than once and their answers vary more between "
+            f"panelists than chance allows (Tarone 1979: Z = {fmt(over.statistic)}, "
+            f"{fmt_p(over.p_value)}), so they are not pooled as independent: the "
+            f"beta-binomial test gives Z = {fmt(rep.statistic)}, {fmt_p(rep.p_value)} "
+            f"(dispersion gamma {fmt(rep.gamma)}, {fmt(rep.effective_n, 1)} effective answers "
+            f"of {rep.answers}); the pooled exact binomial test would give "
+            f"{fmt_p(d.p_value)} ({need}).")
+    elif over is not None:
+        numbers.update({"tarone_z": over.statistic, "tarone_p_value": over.p_value})
+        details.append(
+            f"Panelists answered more than once; Tarone's test (1979) finds no overdispersion "
+            f"(Z = {fmt(over.statistic)}, {fmt_p(over.p_value)} at alpha "
+            f"{fmt_risk(over.alpha)}), so the answers are pooled as independent.")
 
     if spec.scoring is Scoring.PREFERENCE_COUNT:
         pref = c.preferred or "neither sample"
@@ -133,7 +157,7 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         if fc.preference is not None and c.no_preference:
             folded = f" after {fc.preference.note}"
             numbers["no_preference"] = c.no_preference
-        if d.significant and c.preferred:
+        if significant and c.preferred:
             verdict = Verdict.PREFERENCE
             head = (f"Panelists preferred {pref}: {d.correct} of {d.n} chose it{folded} "
                     f"{evidence}.")
@@ -166,9 +190,9 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
                 f"Upper one-sided {_level(1 - s.beta)} limit of the proportion of panelists "
                 f"with a preference: {fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). "
                 f"Preference test: {fmt_p(d.p_value)}, {need}"
-                + (f": panelists preferred {pref}." if d.significant and c.preferred
+                + (f": panelists preferred {pref}." if significant and c.preferred
                    else ".")))
-        elif not d.significant:
+        elif not significant:
             limits.append("Not significant is not the same as equally liked: "
                           + _similarity_limit(fc))
     else:
@@ -179,7 +203,7 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
             f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "
             f"(interval {fmt(d.dprime_ci[0], 1)} to {fmt(d.dprime_ci[1], 1)}, Thurstonian "
             f"model of the {spec.label.lower()}).")
-        if d.significant:
+        if significant:
             verdict = Verdict.DIFFERENCE
             head = f"Panelists told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
         else:
@@ -192,6 +216,9 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
             conf = _level(1 - s.beta)
             allowed = (f"at most {s.max_correct} correct allowed" if s.max_correct is not None
                        else f"no count of {s.n} can show similarity at this beta")
+            if rep is not None:  # the similarity test ran on the corrected counts
+                allowed += (f" of {s.n} effective answers ({s.correct} correct after the "
+                            f"design-effect correction for overdispersion, Rao and Scott 1992)")
             if s.similar:
                 verdict = Verdict.SIMILAR
                 head = (f"The samples are similar within the planned limit: {d.correct} of "
@@ -206,8 +233,11 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
                 f"Upper one-sided {conf} limit of the proportion of discriminators: "
                 f"{fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). Difference test: "
                 f"{fmt_p(d.p_value)}, {need}."))
-        elif not d.significant:
+        elif not significant:
             limits.append("Not significant is not the same as similar: " + _similarity_limit(fc))
+    if rep is not None:
+        limits.append("The interval of the proportion of discriminators is from the pooled "
+                      "answers: with overdispersed answers it is too narrow.")
     limits.extend(_risks(fc, a))
     if c.problems:
         limits.append(f"{len(c.problems)} answer(s) were left out "
