@@ -173,6 +173,7 @@ if result.ranking is not None:
             "group": fr.groups.get(s, ""),
         } for s in fr.rank_sums]).sort_values("rank sum"), hide_index=True, width="stretch")
         st.caption(fr.method)
+        st.caption(fr.comparisons)
 
 # ------------------------------------------------------------------ batches and problems
 if result.measures.summaries:

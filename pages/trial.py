@@ -4,7 +4,7 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import METHODS, Family, get_method
+from trials.methods import METHODS, Scoring, get_method
 from trials.model import Status
 
 ui.require_leader()
@@ -28,13 +28,23 @@ with st.form("setup"):
     )
     aims = ["difference", "similarity"]
     aim = study.aim
-    if get_method(method).family == Family.DISCRIMINATION:
+    if get_method(method).is_forced_choice:  # paired preference too: equal preference
         aim = st.radio(
             "What the test must show", aims, horizontal=True,
             index=aims.index(study.aim) if study.aim in aims else 0,
             format_func={"difference": "a difference (are the samples told apart?)",
                          "similarity": "similarity (are they close enough to swap?)"}.get,
             help="A similarity aim is tested at beta and pd; keep beta small for it.",
+        )
+    target = study.target_sample
+    if get_method(method).scoring is Scoring.TARGET_BY_ROLE and study.samples:
+        sample_names = [s.name for s in study.samples]
+        target = st.selectbox(
+            "Target sample (expected to have more of the attribute)", sample_names,
+            index=sample_names.index(target) if target in sample_names else None,
+            placeholder="Choose the target before drawing the plan",
+            disabled=overview.plan_size > 0,
+            help="A correct answer picks this sample; fixed once a serving plan is drawn.",
         )
     c1, c2, c3 = st.columns(3)
     alpha = c1.number_input("alpha (risk of a false difference)", 0.001, 0.5,
@@ -62,6 +72,8 @@ if saved:
         changes["aim"] = aim
     if not overview.plan_size:
         changes["method"] = method
+        if target:
+            changes["target_sample"] = target
     try:
         study = service.update_trial(store, trial_id, by=ui.who(), **changes)
     except TrialsError as exc:

@@ -39,6 +39,7 @@ from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
+from trials.replication import replicated_tests
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -100,6 +101,10 @@ class ForcedChoiceAnalysis(Record):
     beta: float
     pd: float | None
     note: str = ""
+    # replicated panels (a panelist answered more than once): Tarone's test, and the
+    # beta-binomial test that replaces the pooled one where it finds overdispersion
+    overdispersion: Any | None = None  # trials.stats.replicated.OverdispersionResult
+    replicated: Any | None = None  # trials.stats.replicated.ReplicatedDifferenceResult
 
 
 @dataclass(frozen=True, slots=True)
@@ -240,17 +245,25 @@ def decode_responses(plan: Sequence[PlanEntry], responses: Sequence[Answer]) -> 
 def target_sample(study: Trial, plan: Sequence[PlanEntry] = ()) -> str:
     """The sample a target-by-role answer (2-AFC, 3-AFC) must pick; "" for other rules.
 
-    The registry names the target by its role in the plan (``MethodSpec.target_role``,
-    ``"B"`` for 2-AFC and 3-AFC): the target is the sample of the plan's cups with that
-    role. Where the plan holds no such cup, the role's letter is read as the plan maker
-    (:func:`trials.design.plan.serving_plan`) reads it: A is the trial's first sample and
-    B its second. Today's plans make the first listed sample A, so the target of 2-AFC
-    and 3-AFC is the trial's second sample.
+    The target is chosen when the trial is set up (``Trial.target_sample``: the sample
+    expected to be stronger in the attribute) and is used whatever the order the samples
+    are listed in. A trial set up before the target was stored (schema version 3 and
+    older) names none; then the registry's role is read from the plan
+    (``MethodSpec.target_role``, ``"B"`` for 2-AFC and 3-AFC): the target is the sample
+    of the plan's cups with that role, and where the plan holds no such cup the role's
+    letter is read as the plan maker (:func:`trials.design.plan.serving_plan`) reads it
+    without a target: A is the trial's first sample and B its second.
     """
     spec = get_method(study.method)
     role = spec.target_role
     if spec.scoring is not Scoring.TARGET_BY_ROLE or not role:
         return ""
+    chosen = (getattr(study, "target_sample", "") or "").strip()
+    if chosen:
+        if study.samples and chosen not in {s.name for s in study.samples}:
+            raise TrialsError(f"trial {study.name!r}: the target sample {chosen!r} is not "
+                              "one of its samples")
+        return chosen
     named = {e.sample_name for e in plan if e.role == role}
     if len(named) == 1:
         return named.pop()
@@ -312,7 +325,7 @@ def score_choices(study: Trial, plan: Sequence[PlanEntry],
     Parameters
     ----------
     study : trials.model.Trial
-        Its ``method`` picks the rule; its samples' order names the 2-AFC/3-AFC target.
+        Its ``method`` picks the rule; its ``target_sample`` is the 2-AFC/3-AFC target.
     plan : sequence of trials.model.PlanEntry
         The decoding key: each cup's code, sample, role and set.
     responses : sequence of trials.model.Answer
@@ -333,7 +346,7 @@ def score_choices(study: Trial, plan: Sequence[PlanEntry],
     - duo-trio (ISO 10399): correct when the chosen cup holds the reference's sample;
       the reference is the cup with role ``"R"``, else the set's first cup;
     - 2-AFC (ISO 5495) and 3-AFC: correct when the chosen cup holds the target, the
-      trial's second sample (:func:`target_sample`);
+      sample chosen at set-up (:func:`target_sample`), whatever the listing order;
     - tetrad (unspecified): correct when the two chosen cups hold the same sample;
     - paired preference: no right answer; choices counted per sample. An answer of
       ``"no preference"`` (allowed by the response format) is counted apart
@@ -427,6 +440,9 @@ def _forced_choice(study: Trial, plan, responses) -> ForcedChoiceAnalysis:
     notes = []
     correct, n = counts.correct, counts.n
     spec = get_method(study.method)
+    if spec.scoring is Scoring.TARGET_BY_ROLE and not (study.target_sample or "").strip():
+        notes.append(f"the trial names no target sample; {counts.target!r}, the sample of "
+                     f"the plan's role {spec.target_role!r} cups, is taken as the target")
     if spec.scoring is Scoring.PREFERENCE_COUNT and counts.n + counts.no_preference > 0:
         values = list(counts.counts.values()) + [0, 0]
         try:
@@ -453,8 +469,13 @@ def _forced_choice(study: Trial, plan, responses) -> ForcedChoiceAnalysis:
                                                       beta=study.beta)
                 except TrialsError as exc:
                     notes.append(f"similarity test not run: {exc}")
+    over = replicated = None
+    if difference is not None:
+        over, replicated, similarity, more = replicated_tests(study, counts, similarity)
+        notes += more
     return ForcedChoiceAnalysis(study.method, counts, preference, difference, similarity, similar,
-                                study.alpha, study.beta, study.pd, "; ".join(notes))
+                                study.alpha, study.beta, study.pd, "; ".join(notes),
+                                over, replicated)
 
 
 # --------------------------------------------------------------------------- ratings
@@ -608,8 +629,8 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     Parameters
     ----------
     study : trials.model.Trial
-        Method, risks (``alpha``, ``beta``, ``pd``), samples (in order: the second is
-        the 2-AFC/3-AFC target) and attributes (ratings).
+        Method, risks (``alpha``, ``beta``, ``pd``), samples, the 2-AFC/3-AFC target
+        (``target_sample``) and attributes (ratings).
     plan : sequence of trials.model.PlanEntry
         The serving plan: the decoding key.
     responses : sequence of trials.model.Answer

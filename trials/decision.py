@@ -125,6 +125,30 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     ci = d.ci_method or "exact interval"
     details: list[str] = []
     limits: list[str] = []
+    significant = d.significant
+    rep, over = fc.replicated, fc.overdispersion
+    if rep is not None:  # overdispersed replicated answers: the beta-binomial test decides
+        significant = rep.significant
+        sided = "two-sided" if spec.sides == 2 else "one-sided"
+        evidence = (f"({fmt_p(rep.p_value)}, {sided} beta-binomial test, Ennis and Bi 1998, "
+                    f"because the replicated answers are overdispersed; {ref})")
+        numbers.update({"p_value": rep.p_value, "pooled_p_value": d.p_value,
+                        "gamma": rep.gamma, "effective_n": rep.effective_n,
+                        "tarone_z": over.statistic, "tarone_p_value": over.p_value})
+        details.append(
+            f"Panelists answered more than once and their answers vary more between "
+            f"panelists than chance allows (Tarone 1979: Z = {fmt(over.statistic)}, "
+            f"{fmt_p(over.p_value)}), so they are not pooled as independent: the "
+            f"beta-binomial test gives Z = {fmt(rep.statistic)}, {fmt_p(rep.p_value)} "
+            f"(dispersion gamma {fmt(rep.gamma)}, {fmt(rep.effective_n, 1)} effective answers "
+            f"of {rep.answers}); the pooled exact binomial test would give "
+            f"{fmt_p(d.p_value)} ({need}).")
+    elif over is not None:
+        numbers.update({"tarone_z": over.statistic, "tarone_p_value": over.p_value})
+        details.append(
+            f"Panelists answered more than once; Tarone's test (1979) finds no overdispersion "
+            f"(Z = {fmt(over.statistic)}, {fmt_p(over.p_value)} at alpha "
+            f"{fmt_risk(over.alpha)}), so the answers are pooled as independent.")
 
     if spec.scoring is Scoring.PREFERENCE_COUNT:
         pref = c.preferred or "neither sample"
@@ -133,7 +157,7 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         if fc.preference is not None and c.no_preference:
             folded = f" after {fc.preference.note}"
             numbers["no_preference"] = c.no_preference
-        if d.significant and c.preferred:
+        if significant and c.preferred:
             verdict = Verdict.PREFERENCE
             head = (f"Panelists preferred {pref}: {d.correct} of {d.n} chose it{folded} "
                     f"{evidence}.")
@@ -145,7 +169,30 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         details.append(
             f"Estimated proportion of panelists with a preference {fmt(d.pd)} "
             f"({_level(d.level)} interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}).")
-        if not d.significant:
+        s = fc.similarity
+        if fc.similarity_planned and s is not None:
+            numbers.update(_similarity_numbers(s))
+            allowed = (f"at most {s.max_correct} allowed" if s.max_correct is not None
+                       else f"no count of {s.n} can show equivalence at this beta")
+            bound = (f"{allowed} for equivalence at beta {fmt_risk(s.beta)} and pd "
+                     f"{fmt(s.pd)} (the proportion of panelists with a preference; two "
+                     f"one-sided exact binomial tests on the more-chosen share, Schuirmann "
+                     f"1987, bound 1/2 + pd/2 = {fmt(s.p_max, 3)}; {ref})")
+            if s.similar:
+                verdict = Verdict.SIMILAR
+                head = (f"The samples are equally preferred within the planned limit: the "
+                        f"more-chosen sample got {d.correct} of {d.n}{folded}, {bound}.")
+            else:
+                verdict = Verdict.NOT_SIMILAR
+                head = (f"Equal preference was not shown: the more-chosen sample "
+                        f"({pref}) got {d.correct} of {d.n}{folded}, {bound}.")
+            details.insert(0, (
+                f"Upper one-sided {_level(1 - s.beta)} limit of the proportion of panelists "
+                f"with a preference: {fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). "
+                f"Preference test: {fmt_p(d.p_value)}, {need}"
+                + (f": panelists preferred {pref}." if significant and c.preferred
+                   else ".")))
+        elif not significant:
             limits.append("Not significant is not the same as equally liked: "
                           + _similarity_limit(fc))
     else:
@@ -156,7 +203,7 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
             f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "
             f"(interval {fmt(d.dprime_ci[0], 1)} to {fmt(d.dprime_ci[1], 1)}, Thurstonian "
             f"model of the {spec.label.lower()}).")
-        if d.significant:
+        if significant:
             verdict = Verdict.DIFFERENCE
             head = f"Panelists told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
         else:
@@ -165,11 +212,13 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
         details.append(estimate)
         s = fc.similarity
         if fc.similarity_planned and s is not None:
-            numbers.update({"similar": s.similar, "max_correct": s.max_correct,
-                            "pd_upper": s.pd_upper, "pd_max": s.pd, "beta": s.beta})
+            numbers.update(_similarity_numbers(s))
             conf = _level(1 - s.beta)
             allowed = (f"at most {s.max_correct} correct allowed" if s.max_correct is not None
                        else f"no count of {s.n} can show similarity at this beta")
+            if rep is not None:  # the similarity test ran on the corrected counts
+                allowed += (f" of {s.n} effective answers ({s.correct} correct after the "
+                            f"design-effect correction for overdispersion, Rao and Scott 1992)")
             if s.similar:
                 verdict = Verdict.SIMILAR
                 head = (f"The samples are similar within the planned limit: {d.correct} of "
@@ -184,8 +233,11 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
                 f"Upper one-sided {conf} limit of the proportion of discriminators: "
                 f"{fmt(s.pd_upper)} (planned limit {fmt(s.pd)}). Difference test: "
                 f"{fmt_p(d.p_value)}, {need}."))
-        elif not d.significant:
+        elif not significant:
             limits.append("Not significant is not the same as similar: " + _similarity_limit(fc))
+    if rep is not None:
+        limits.append("The interval of the proportion of discriminators is from the pooled "
+                      "answers: with overdispersed answers it is too narrow.")
     limits.extend(_risks(fc, a))
     if c.problems:
         limits.append(f"{len(c.problems)} answer(s) were left out "
@@ -193,6 +245,11 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     if d.note:
         limits.append(f"Note: {d.note}.")
     return Decision(verdict, head, tuple(details), tuple(limits), a.method, ref, numbers)
+
+
+def _similarity_numbers(s) -> dict[str, Any]:
+    return {"similar": s.similar, "max_correct": s.max_correct, "pd_upper": s.pd_upper,
+            "pd_max": s.pd, "beta": s.beta, "p_max": s.p_max}
 
 
 def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
@@ -215,8 +272,10 @@ def _similarity_limit(fc: ForcedChoiceAnalysis) -> str:
 def _risks(fc: ForcedChoiceAnalysis, a: TrialAnalysis) -> list[str]:
     text = f"Risks planned: alpha {fmt_risk(fc.alpha)} (calling a difference that is not there)"
     if fc.similarity_planned:
+        who = ("have a preference" if get_method(fc.method).scoring is Scoring.PREFERENCE_COUNT
+               else "can tell them apart")
         text += (f", beta {fmt_risk(fc.beta)} (calling the samples similar when a proportion "
-                 f"{fmt(fc.pd)} of panelists can tell them apart)")
+                 f"{fmt(fc.pd)} of panelists {who})")
     elif fc.pd is not None:
         text += (f", beta {fmt_risk(fc.beta)} (missing a proportion of discriminators of "
                  f"{fmt(fc.pd)})")
@@ -344,22 +403,34 @@ def _ranking(a: TrialAnalysis) -> Decision:
     ref = f"{spec.reference}; {r.reference()} rank test"
     sums = sorted(r.rank_sums.items(), key=lambda kv: kv[1])
     listed = ", ".join(f"{s} {fmt(v, 1)} {r.groups.get(s, '')}".rstrip() for s, v in sums)
-    test = (f"{r.name()} chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}, "
-            f"{r.panelists} panelists")
-    differs = r.p_value <= a.alpha
+    chi = f"chi-square = {fmt(r.statistic)} on {r.df} df, {fmt_p(r.p_value)}"
+    f_df = f"{r.f_df[0]:g} and {r.f_df[1]:g} df"
+    f_form = f"F = {fmt(r.f_statistic)} on {f_df}, {fmt_p(r.f_p_value)}"
+    used, other = (f_form, chi) if r.form == "F" else (chi, f_form)
+    test = f"{r.name()} {used}, {r.panelists} panelists"
+    differs = r.overall_significant
     if differs:
         verdict = Verdict.DIFFERENCE
         head = f"The rankings differ between samples ({test}; {r.reference()}; {spec.reference})."
     else:
         verdict = Verdict.NO_DIFFERENCE
         head = f"No difference in rank was shown ({test}; {r.reference()}; {spec.reference})."
-    details = (f"Rank sums, rank 1 = most (samples sharing a letter do not differ by the least "
-               f"significant difference {fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, "
-               f"{r.lsd_method}): {listed}.",)
+    compared = ("samples sharing a letter do not differ by the least significant difference "
+                f"{fmt(r.lsd, 1)} at alpha {fmt_risk(r.alpha)}, {r.lsd_method}; the pairs are "
+                f"compared only because the overall test is significant (protected LSD, "
+                f"Conover 1999)") if differs else (
+                "no pair is compared, so every sample shares one letter: the overall test is "
+                "not significant and the least significant difference is used only after a "
+                "significant one (protected LSD, Conover 1999)")
+    details = (f"The decision uses the {r.form} form of the test; the other form gives "
+               f"{other}.",
+               f"Rank sums, rank 1 = most ({compared}): {listed}.")
     limits = ("Not significant is not the same as equal.",
               "Ranks say which sample comes first, not by how much.")
     numbers = {"statistic": r.statistic, "df": r.df, "p_value": r.p_value,
-               "rank_sums": dict(r.rank_sums), "lsd": r.lsd, "groups": dict(r.groups)}
+               "f_statistic": r.f_statistic, "f_p_value": r.f_p_value, "form": r.form,
+               "overall_p_value": r.overall_p_value, "rank_sums": dict(r.rank_sums),
+               "lsd": r.lsd, "groups": dict(r.groups)}
     return Decision(verdict, head, details, limits, a.method, ref, numbers)
 
 

@@ -65,8 +65,9 @@ class MethodSpec(Record):
     - ``choose``: how many codes one answer names (1; 2 for the tetrad's group);
     - ``allows_no_preference``: whether "no preference" (with no code) is an answer;
     - ``scoring``: the rule that scores one answer (:class:`Scoring`);
-    - ``target_role``: for :attr:`Scoring.TARGET_BY_ROLE`, the plan role (letter) of the
-      cups whose sample the answer must pick (see :func:`trials.analysis.target_sample`);
+    - ``target_role``: for :attr:`Scoring.TARGET_BY_ROLE`, the plan role (letter) the
+      cups of the trial's target sample (``Trial.target_sample``, chosen at set-up)
+      carry, whatever the samples' order (see :func:`trials.analysis.target_sample`);
     - ``correct_phrase``: the decision's words for a correct answer ("... of 24 picked
       the odd sample"); ``{target}`` is replaced by the target sample's name;
     - ``model``: the psychometric model key of :mod:`trials.stats.thurstonian`;

@@ -151,6 +151,9 @@ class Trial(Record):
     # discrimination: "difference" or "similarity" (which test answers the objective);
     # "" = not stated, then an objective using "similar"/"same as" means similarity
     aim: str = ""
+    # target-by-role methods (2-AFC, 3-AFC): the sample expected to be stronger in the
+    # attribute, the one a correct answer picks; chosen at set-up ("" = not chosen)
+    target_sample: str = ""
     status: Status = Status.PLANNING
     decision: str = ""
     rationale: str = ""

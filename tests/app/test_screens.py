@@ -101,10 +101,31 @@ def test_the_set_up_screen_shows_the_critical_value_table_of_the_method(small_tr
     assert shown.loc[24, "0.05"] == 13
 
 
+def test_the_set_up_screen_stores_the_2afc_target_the_leader_chooses(small_trials):
+    store = small_trials["store"]
+    study = service.create_trial(store, name="Brine: two salts", method="2afc",
+                                 samples=["Lower-sodium brine", "Usual brine"])
+    at = _run("trial", study=study.id)
+    label = "Target sample (expected to have more of the attribute)"
+    pick = by_label(at.selectbox, label)
+    assert pick.options == ["Lower-sodium brine", "Usual brine"] and pick.value is None
+    pick.select("Lower-sodium brine")
+    by_label(at.button, "Save the set-up").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert service.get_trial(store, study.id).target_sample == "Lower-sodium brine"
+
+
+def test_the_set_up_screen_has_no_target_for_a_triangle(small_trials):
+    at = _run("trial", study=small_trials["triangle"])
+    assert not [w for w in at.selectbox if w.label.startswith("Target sample")]
+
+
 def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
     store = small_trials["store"]
     study = service.create_trial(store, name="Rice: rinsed or not", method="2afc",
-                                 samples=["Unrinsed rice", "Rinsed rice"])
+                                 samples=["Unrinsed rice", "Rinsed rice"],
+                                 target_sample="Rinsed rice")
     at = _run("plan", study=study.id)
     assert "No plan drawn yet." in page_text(at)
     by_label(at.number_input, "Seed (the same seed draws the same plan)").set_value(11)

@@ -28,7 +28,7 @@ def _trial(store, method):
     study = service.create_trial(
         store, name=f"Check {method}", method=method,
         samples=[Sample(f"Sample {i}") for i in range(SAMPLES[method])], attributes=attrs,
-        by="test")
+        target_sample="Sample 0" if get_method(method).target_role else "", by="test")
     service.draw_plan(store, study.id, panelist_codes=codes, seed=11, by="test",
                       per_panelist=3 if method == "ranking" else None)
     return study.id, codes

@@ -104,17 +104,20 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         versions = conn.execute(
             sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
-                                            (3, "study.aim")]
+                                            (3, "study.aim"), (4, "study.target_sample")]
     study = service.get_trial(store, 1)
-    assert (study.name, study.objective, study.product, study.aim) == (
-        "Old trial", "kept from v1", "", "")
+    assert (study.name, study.objective, study.product, study.aim, study.target_sample) == (
+        "Old trial", "kept from v1", "", "", "")
     assert [s.allergens for s in study.samples] == [(), ("gluten",)]
     service.update_trial(store, 1, by="test", product="brioche")
     assert service.get_trial(store, 1).product == "brioche"
+    # version 4's column takes a target, one of the trial's samples
+    service.update_trial(store, 1, by="test", target_sample="New")
+    assert service.get_trial(store, 1).target_sample == "New"
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:
-        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 3
+        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 4
     again.close()
 
 

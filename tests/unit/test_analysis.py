@@ -197,6 +197,40 @@ def test_a_trial_states_a_similarity_aim_by_field_or_by_its_objective(aim, objec
     assert planned_similarity(study("triangle", aim=aim, objective=objective)) is expected
 
 
+@pytest.mark.parametrize("method,patterns", [("2afc", ["AB", "BA"] * 6),
+                                             ("3afc", ["AAB", "ABA", "BAA"] * 4)])
+def test_the_stored_target_is_scored_whatever_the_samples_listing_order(method, patterns):
+    # the plan's cups of OLD are letter A, of NEW letter B; the trial lists NEW first
+    # and names OLD as the target: every answer picking OLD is correct (issue 16)
+    plan = plan_for(method, patterns)
+    s = study(method, samples=(Sample(NEW), Sample(OLD)), target_sample=OLD)
+    assert target_sample(s, plan) == OLD
+    answers = [choose(p, next(c for c in cups(plan, p) if c.sample_name == OLD).code)
+               for p in dict.fromkeys(e.panelist_code for e in plan)]
+    result = analyse(s, plan, answers)
+    if method == "2afc":
+        assert (result.choice.counts.correct, result.choice.counts.n) == (12, 12)
+        # exact one-sided binomial, ISO 5495; scipy's binomtest as the independent value
+        expected = sps.binomtest(12, 12, 0.5, alternative="greater").pvalue
+        assert result.choice.difference.p_value == pytest.approx(expected, rel=1e-12)
+    else:  # a plan whose target sample fills two cups of a set cannot be scored
+        assert result.choice.counts.n == 0 and len(result.choice.counts.problems) == 12
+    assert "names no target" not in result.choice.note
+
+
+def test_a_trial_without_a_stored_target_reads_it_from_the_plan_and_says_so():
+    plan = plan_for("2afc", ["AB", "BA"])
+    result = analyse(study("2afc"), plan, [choose("P01", "102")])
+    assert result.choice.counts.target == NEW
+    assert "names no target sample; 'New crumb', the sample of the plan's role 'B'" in (
+        result.choice.note)
+
+
+def test_a_stored_target_that_is_not_a_sample_is_refused():
+    with pytest.raises(TrialsError, match="'Rye' is not one of its samples"):
+        target_sample(study("2afc", target_sample="Rye"), [])
+
+
 def test_target_needs_two_samples_or_a_b_role_in_the_plan():
     with pytest.raises(TrialsError, match="'Crumb trial'"):
         target_sample(study("2afc", samples=()), [])

@@ -112,6 +112,60 @@ def test_paired_preference_names_the_preferred_sample_and_the_no_preference_rule
     assert d.numbers["p_value"] == ref.p_value == pytest.approx(2 * sps.binom.sf(23, 30, 0.5))
 
 
+def _preference_answers(plan, new_count):
+    out = []
+    for i, p in enumerate(dict.fromkeys(e.panelist_code for e in plan)):
+        want = "New crumb" if i < new_count else "Old crumb"
+        out.append(choose(p, next(c.code for c in cups(plan, p) if c.sample_name == want)))
+    return out
+
+
+def _tost_max_correct(n, pd, beta):
+    """The equivalence bound by brute force with exact integers (no scipy): the largest
+    x with P(X <= x) <= beta under p_max = 1/2 + pd/2 (two one-sided tests on the
+    more-chosen share; ASTM E2263 / ISO 5495's two-sided paired comparison)."""
+    from fractions import Fraction
+    from math import comb
+
+    p = Fraction(1, 2) + Fraction(pd).limit_denominator(1000) / 2
+    best, tail = None, Fraction(0)
+    for x in range(n + 1):
+        tail += comb(n, x) * p ** x * (1 - p) ** (n - x)
+        if tail > Fraction(beta).limit_denominator(10 ** 6):
+            break
+        best = x
+    return best
+
+
+@pytest.mark.parametrize("new_count,similar", [(52, True), (62, False)],
+                         ids=["52-of-100-equal", "62-of-100-not-shown"])
+def test_paired_preference_planned_as_similarity_is_decided_by_the_equivalence_test(
+        new_count, similar):
+    # issue 16: the decision used to say "no preference shown" and "no similarity test was
+    # planned" while quoting the planned beta
+    import html
+
+    from trials.printing.report import report_html
+
+    plan = plan_for("paired-preference", ["AB", "BA"] * 50)
+    s = study("paired-preference", aim="similarity", pd=0.3, beta=0.05)
+    analysis = analyse(s, plan, _preference_answers(plan, new_count))
+    d = decide(analysis)
+    assert html.escape(d.headline, quote=False) in report_html(s, analysis, plan=plan)
+    bound = _tost_max_correct(100, 0.3, 0.05)
+    ref = similarity_test(new_count, 100, method="paired-preference", pd=0.3, beta=0.05)
+    assert ref.max_correct == bound  # the library against exact integers
+    assert ref.similar is similar and (new_count <= bound) is similar
+    assert d.verdict == (Verdict.SIMILAR if similar else Verdict.NOT_SIMILAR)
+    assert d.numbers["max_correct"] == bound and d.numbers["beta"] == 0.05
+    assert f"at most {bound} allowed for equivalence at beta 0.05 and pd 0.30" in d.headline
+    assert "two one-sided exact binomial tests" in d.headline and "0.650" in d.headline
+    assert f"{fmt(ref.pd_upper)} (planned limit 0.30)" in d.details[0]
+    text = d.text
+    assert "no similarity test" not in text and "No preference was shown" not in text
+    assert "have a preference" in " ".join(d.limits)
+
+
 def test_ratings_name_the_differing_attributes_letters_hsd_and_error_term():
     from trials.stats.ratings import rating_anova
 
@@ -154,7 +208,7 @@ def test_ranking_decision_quotes_friedman_and_rank_sums():
                                 [2] * 9, [3 if p % 4 else 1 for p in range(9)])
     assert d.numbers["statistic"] == pytest.approx(ref.statistic)
     assert f"Friedman chi-square = {fmt(r.statistic)} on 2 df" in d.headline
-    assert "ISO 8587" in d.headline and "rank 1 = most" in d.details[0]
+    assert "ISO 8587" in d.headline and "rank 1 = most" in " ".join(d.details)
     assert "Friedman (1937)" in d.headline and "Friedman (1937)" in d.reference
     assert "Durbin" not in d.headline + d.reference
 
@@ -181,6 +235,38 @@ def test_an_incomplete_block_ranking_decision_names_durbin_and_cites_durbin_1951
     assert f"Durbin chi-square = {fmt(12.0)} on 6 df" in d.headline
     assert "Durbin (1951)" in d.headline and "Durbin (1951)" in d.reference
     assert "Friedman" not in d.headline + d.reference
+
+
+def test_a_ranking_decision_names_the_form_used_and_gives_the_other():
+    # Conover (1999) sec. 5.8 (from memory): chi-square p = 0.062, F p = 0.0049; the
+    # tails recomputed with scipy. The decision uses the chi-square form (ISO 8587), so
+    # it shows no difference, quotes the F form beside it, and compares no pair.
+    s, plan, responses = ice_cream_ranking_trial()
+    d = decide(analyse(s, plan, responses))
+    assert d.verdict == Verdict.NO_DIFFERENCE
+    assert d.numbers["p_value"] == pytest.approx(sps.chi2.sf(12.0, 6), rel=1e-9)
+    assert d.numbers["f_p_value"] == pytest.approx(sps.f.sf(8.0, 6, 8), rel=1e-9)
+    assert f"Durbin chi-square = {fmt(12.0)} on 6 df, p = 0.062" in d.headline
+    text = " ".join(d.details)
+    assert "uses the chi-square form" in text and "F = 8.00 on 6 and 8 df, p = 0.005" in text
+    assert "no pair is compared" in text and "protected LSD, Conover 1999" in text
+    assert set(d.numbers["groups"].values()) == {"a"}
+
+
+def test_a_significant_ranking_says_its_pairs_were_compared_after_the_overall_test():
+    s = Trial(name="Ranks", method="ranking", samples=SAMPLES3)
+    plan, responses, code = [], [], 500
+    for p in range(12):
+        for pos, sample in enumerate(SAMPLES3, start=1):
+            plan.append(PlanEntry("S1", f"P{p}", pos, str(code), sample.name, 0))
+            responses.append(Answer("S1", f"P{p}", str(code), "rank", str(pos)))
+            code += 1
+    d = decide(analyse(s, plan, responses))
+    # every panelist ranks the same way: chi-square = b (k - 1) = 24 (Friedman 1937)
+    assert d.numbers["statistic"] == pytest.approx(24.0)
+    assert d.verdict == Verdict.DIFFERENCE
+    assert "compared only because the overall test is significant" in " ".join(d.details)
+    assert sorted(d.numbers["groups"].values()) == ["a", "b", "c"]
 
 
 def test_the_decision_quotes_only_the_measured_variables_that_follow_the_means():

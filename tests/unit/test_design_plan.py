@@ -42,6 +42,26 @@ def test_a_triangle_plan_gives_each_panelist_three_coded_cups_in_the_iso_orders(
     assert len(codes) == len(set(codes)) == 36
 
 
+@pytest.mark.parametrize("method", ["2afc", "3afc"])
+@pytest.mark.parametrize("order", [("New", "Control"), ("Control", "New")], ids=["new-first",
+                                                                                "control-first"])
+def test_the_target_cups_carry_the_target_role_whatever_the_listing_order(method, order):
+    # trials.methods: 2-AFC and 3-AFC score the cup of role B (target_role) as the target
+    entries = serving_plan(method, list(order), PANEL, rng=3, target="New")
+    assert {e.role for e in entries if e.sample_name == "New"} == {"B"}
+    assert {e.role for e in entries if e.sample_name == "Control"} == {"A"}
+    if method == "3afc":  # Frijters (1979): one target cup in each set of three
+        for cups in _by_panelist(entries).values():
+            assert [c.sample_name for c in cups].count("New") == 1
+    with pytest.raises(TrialsError, match="'Other' is not one of"):
+        serving_plan(method, list(order), PANEL, target="Other")
+
+
+def test_a_target_is_ignored_by_methods_without_one():
+    with_target = serving_plan("triangle", ["a", "b"], PANEL, rng=1, target="b")
+    assert with_target == serving_plan("triangle", ["a", "b"], PANEL, rng=1)
+
+
 def test_a_duo_trio_plan_marks_the_reference_cup():
     entries = _plan("duo-trio", ["Control", "Test"], PANEL[:4], rng=2, reference="constant")
     for cups in _by_panelist(entries).values():

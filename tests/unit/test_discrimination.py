@@ -432,3 +432,38 @@ def test_a_smaller_alpha_never_needs_fewer_correct_answers(method, n, a1, a2):
     c_lo = critical_value(n, method=method, alpha=lo).critical
     c_hi = critical_value(n, method=method, alpha=hi).critical
     assert c_lo is None or (c_hi is not None and c_hi <= c_lo)
+
+
+def test_alpha_equal_to_an_exact_binomial_tail_gives_agreeing_critical_and_significance():
+    # issue 16: duo-trio n = 10, alpha = 11/1024 = P(X >= 9 | 1/2) exactly (by hand:
+    # (C(10,9) + C(10,10)) / 2**10); 9 correct must be both "needed" and significant
+    from fractions import Fraction
+    from math import comb
+
+    tail = Fraction(comb(10, 9) + comb(10, 10), 2 ** 10)
+    assert tail == Fraction(11, 1024)
+    r = difference_test(9, 10, method="duo-trio", alpha=float(tail))
+    assert r.critical == 9 and r.significant and r.p_value == float(tail)
+    assert not difference_test(8, 10, method="duo-trio", alpha=float(tail)).significant
+
+
+@pytest.mark.parametrize("method", ["triangle", "duo-trio", "paired-preference"])
+def test_every_exact_tail_as_alpha_makes_its_count_the_critical_one(method):
+    # brute force with exact fractions: for each n and count c, alpha set to the exact
+    # tail of c (two-sided: twice it) must give critical c, c significant, c - 1 not
+    from fractions import Fraction
+    from math import comb
+
+    guess = {"triangle": Fraction(1, 3), "duo-trio": Fraction(1, 2),
+             "paired-preference": Fraction(1, 2)}[method]
+    sides = 2 if method == "paired-preference" else 1
+    for n in range(5, 41, 5):
+        for c in range(n // 2 + 1, n + 1):
+            tail = sum(comb(n, k) * guess ** k * (1 - guess) ** (n - k) for k in range(c, n + 1))
+            alpha = float(sides * tail)
+            if not 1e-6 <= alpha < 1:
+                continue
+            assert critical_value(n, method=method, alpha=alpha).critical == c, (n, c)
+            assert difference_test(c, n, method=method, alpha=alpha).significant, (n, c)
+            if c - 1 >= (n + 1) // 2:
+                assert not difference_test(c - 1, n, method=method, alpha=alpha).significant

@@ -13,6 +13,8 @@ from scipy import stats
 
 from trials.errors import IncompleteBlocksError, TrialsError
 from trials.stats.ranks import (
+    RankTable,
+    _rank_core,
     durbin_test,
     friedman_test,
     page_test,
@@ -105,6 +107,67 @@ def test_a_clear_order_gives_separate_letters_by_rank_sum():
     res = friedman_test(_long(r))
     assert res.p_value < 1e-6
     assert res.groups == {"S0": "a", "S1": "b", "S2": "c"}
+
+
+def test_letters_are_withheld_when_the_overall_friedman_test_is_not_significant():
+    # a rank-sum gap beyond the LSD with a non-significant Friedman test (issue 16: the
+    # decision said "no difference" while the letters split two samples)
+    rng = np.random.default_rng(7)
+    for _ in range(500):
+        r = _random_ranks(12, 6, int(rng.integers(1 << 31)))
+        res = friedman_test(_long(r))
+        if any(p.exceeds_lsd for p in res.pairs) and not res.overall_significant:
+            break
+    else:  # pragma: no cover - the seed gives one within a few draws
+        pytest.fail("no such trial drawn")
+    # scipy's friedmanchisquare is the independent value of the overall p
+    assert res.overall_p_value == pytest.approx(
+        stats.friedmanchisquare(*r.T).pvalue, rel=1e-9)
+    assert res.overall_p_value > 0.05 and res.form == "chi-square"
+    assert not any(p.different for p in res.pairs)
+    assert set(res.groups.values()) == {"a"}
+    assert "no pair compared" in res.comparisons and "Conover 1999" in res.comparisons
+
+
+@pytest.mark.slow
+def test_protected_lsd_flags_any_pair_at_most_alpha_of_the_time_under_no_difference():
+    # Monte Carlo, fixed seed: 12 panelists x 6 samples, every ranking equally likely.
+    # Unprotected, the ISO 8587 LSD flags at least one of the 15 pairs in about 40 % of
+    # trials (the issue's audit); protected by the Friedman test at alpha 0.05 the share
+    # must be at most alpha within Monte Carlo error (3 standard errors), and equal to
+    # the share of trials scipy's friedmanchisquare finds significant.
+    b, k, sims, alpha = 12, 6, 1200, 0.05
+    rng = np.random.default_rng(20260516)
+    names = tuple(f"S{j}" for j in range(k))
+    panel = tuple(f"p{i}" for i in range(b))
+    flagged = unprotected = scipy_sig = 0
+    for _ in range(sims):
+        r = np.argsort(rng.random((b, k)), axis=1).argsort(axis=1) + 1.0
+        res = _rank_core(RankTable(names, panel, tuple(map(tuple, r))), alpha)
+        flagged += any(p.different for p in res.pairs)
+        unprotected += any(p.exceeds_lsd for p in res.pairs)
+        scipy_sig += stats.friedmanchisquare(*r.T).pvalue <= alpha
+    se = (alpha * (1 - alpha) / sims) ** 0.5
+    assert flagged / sims <= alpha + 3 * se
+    assert flagged <= scipy_sig  # a flagged pair needs a significant overall test
+    assert unprotected / sims > 0.3  # the gate is what brings it down
+
+
+def test_the_f_form_can_decide_and_gate_the_comparisons():
+    # Conover (1999) sec. 5.8 ice cream example (from memory): chi-square T = 12.00 on 6 df
+    # (p = 0.062), F = 8.00 on 6 and 8 df (p = 0.0049); scipy's distributions as the
+    # independent tails
+    data = pd.read_csv(DATA / "durbin_ice_cream.csv")
+    chi = durbin_test(data)
+    f = durbin_test(data, form="F")
+    assert chi.p_value == pytest.approx(stats.chi2.sf(12.0, 6), rel=1e-9)
+    assert f.f_p_value == pytest.approx(stats.f.sf(8.0, 6, 8), rel=1e-9)
+    assert round(chi.p_value, 3) == 0.062 and round(f.f_p_value, 4) == 0.0049
+    assert not chi.overall_significant and set(chi.groups.values()) == {"a"}
+    assert f.overall_significant and f.overall_p_value == f.f_p_value and f.form == "F"
+    assert [p.different for p in f.pairs] == [p.exceeds_lsd for p in f.pairs]
+    with pytest.raises(TrialsError, match="form must be"):
+        durbin_test(data, form="z")
 
 
 def test_every_panelist_tying_everything_is_refused():

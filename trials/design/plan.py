@@ -14,7 +14,7 @@ from trials.design.codes import POOL, blinding_codes
 from trials.design.sets import coded_sets, discrimination_sets
 from trials.design.williams import williams_design
 from trials.errors import TrialsError
-from trials.methods import get_method
+from trials.methods import Scoring, get_method
 from trials.model import PlanEntry
 
 
@@ -41,6 +41,7 @@ def serving_plan(
     per_panelist: int | None = None,
     reference: str = "balanced",
     session_index: int | None = None,
+    target: str | None = None,
 ) -> list[PlanEntry]:
     """The serving plan of one session: who gets which coded cup, in which order.
 
@@ -50,7 +51,8 @@ def serving_plan(
         A method of the registry.
     sample_names : sequence of str
         The samples. Forced-choice methods need exactly two: the first is sample
-        ``A`` (list the control first), the second ``B``.
+        ``A`` (list the control first), the second ``B``; with ``target`` given, the
+        target sample takes the method's target role whatever the order.
     panelist_codes : sequence of str
         The panelists, in the order they are assigned to the design's rows.
     session : str
@@ -72,6 +74,12 @@ def serving_plan(
     session_index : int, optional
         0-based index for the Williams rotation; None reads it from ``session``
         when that is a whole number (``"2"`` -> 1), else 0.
+    target : str, optional
+        Target-by-role methods (2-AFC, 3-AFC: ``MethodSpec.scoring`` is
+        ``TARGET_BY_ROLE``): the sample a correct answer picks. Its cups get the role
+        ``MethodSpec.target_role`` (B for 2-AFC and 3-AFC) and the other sample the
+        other letter, so the plan itself records the target. Must be one of
+        ``sample_names``; ignored by other methods. None keeps the listed order.
 
     Returns
     -------
@@ -113,6 +121,12 @@ def serving_plan(
         free = len([c for c in POOL if c not in set(exclude)])
         scope = "plan" if free >= len(panel) * (spec.set_size or 0) else "set"
         coded = coded_sets(sets, rng=gen, exclude=exclude, scope=scope)
+        if target is not None and spec.scoring is Scoring.TARGET_BY_ROLE:
+            if target not in samples:
+                raise TrialsError(f"the target sample {target!r} is not one of {samples!r}")
+            other = next(s for s in samples if s != target)
+            role = spec.target_role
+            samples = [target, other] if role == "A" else [other, target]
         name = {"A": samples[0], "B": samples[1]}
         for code, cups in zip(panel, coded.sets):
             for cup in cups:

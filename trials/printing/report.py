@@ -239,6 +239,9 @@ def _risks(study: Trial) -> list[tuple[str, Any]]:
         rows.append(("smallest difference of means that matters", fmt(study.delta)))
     if study.aim:
         rows.append(("aim", study.aim))
+    if study.target_sample:
+        rows.append(("target sample (expected to have more of the attribute)",
+                     study.target_sample))
     return rows
 
 
@@ -377,9 +380,12 @@ def _ranking_results(a: TrialAnalysis, charts: _Charts) -> str:
     r = rk.result
     out = [_kv([("test", r.reference()), ("method", r.method),
                 (f"{r.name()} chi-square", _g(r.statistic)),
-                ("df", r.df), ("p-value", _g(r.p_value)), ("panelists", r.panelists),
+                ("df", r.df), ("p-value", _g(r.p_value)),
+                (f"{r.name()} F", f"{_g(r.f_statistic)} on {r.f_df[0]:g} and {r.f_df[1]:g} df"),
+                ("F p-value", _g(r.f_p_value)), ("form used for the decision", r.form),
+                ("panelists", r.panelists),
                 ("least significant difference of rank sums", _g(r.lsd)),
-                ("LSD method", r.lsd_method)])]
+                ("LSD method", r.lsd_method), ("pairwise comparisons", r.comparisons)])]
     order = sorted(r.rank_sums, key=lambda s: r.rank_sums[s])
     out.append(_table(["sample", "rank sum", "mean rank", "letters"],
                       [(s, _g(r.rank_sums[s]), _g(r.mean_ranks.get(s)), r.groups.get(s, ""))

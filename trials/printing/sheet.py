@@ -18,7 +18,7 @@ from reportlab.lib.pagesizes import landscape
 from reportlab.pdfgen.canvas import Canvas
 
 from trials.errors import TrialsError
-from trials.methods import get_method
+from trials.methods import Scoring, get_method
 from trials.model import AllergenConflict, Batch, Panelist, PlanEntry, Trial
 from trials.printing.layout import (
     BOLD,
@@ -257,10 +257,13 @@ def serving_sheet_pdf(
         ``kind="sheet"``, ``items`` = number of sessions.
     """
     groups = group_plan(plan)
-    method = get_method(study.method)
-    del method  # validated: the sheet names the method in its header
+    method = get_method(study.method)  # validated: the sheet names it in its header
     samples = {s.name: s for s in study.samples}
     entries = [e for g in groups for e in g.entries]
+    target = ""  # target-by-role methods: the stored target, else the plan's target role
+    if method.scoring is Scoring.TARGET_BY_ROLE:
+        target = study.target_sample or next(
+            (e.sample_name for e in entries if e.role == method.target_role), "")
     for e in entries:
         if e.sample_name not in samples:
             raise TrialsError(
@@ -290,13 +293,14 @@ def serving_sheet_pdf(
         sheet.session = session
         sheet.start_page()
         cups = [e for g in groups if g.session == session for e in g.entries]
-        _session(sheet, session, cups, samples, batch_map, found, ticker)
+        _session(sheet, session, cups, samples, batch_map, found, ticker, target)
     c.showPage()
     pages = sheet.pages
     return PrintResult(finish(c, buffer), pages, "sheet", len(sessions))
 
 
-def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker) -> None:
+def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker,
+             target: str = "") -> None:
     sheet.text(f"Session {session}: {len(cups)} cups for "
                f"{len(dict.fromkeys(e.panelist_code for e in cups))} panelists",
                BOLD, 13, gap=6)
@@ -327,6 +331,12 @@ def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker) ->
     sheet.y -= 4
 
     # samples: the key summary
+    if target:
+        role = next((e.role for e in cups if e.sample_name == target), "")
+        sheet.text(f"Target sample: {target} (expected to have more of the attribute; a "
+                   f"correct answer picks it; its cups carry role {role})." if role else
+                   f"Target sample: {target} (expected to have more of the attribute).",
+                   BOLD, 9.5, gap=4)
     sheet.text("Samples, codes and preparation", BOLD, 11, gap=2)
     rows = []
     for name in names:
@@ -337,7 +347,8 @@ def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker) ->
         if s.description:
             notes.insert(0, s.description)
         rows.append([
-            name + (" (control)" if s.is_control else ""),
+            name + (" (control)" if s.is_control else "") + (" (target)" if name == target
+                                                              else ""),
             " ".join(codes),
             str(sum(e.sample_name == name for e in cups)),
             ", ".join(sorted(a.lower() for a in s.allergens)) or "none declared",

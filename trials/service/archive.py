@@ -75,7 +75,9 @@ def import_archive(store: Store, data: bytes, *, by: str = "import") -> int:
     fields = {
         "name": st["name"], "method": get_method(st["method"]).name,
         "objective": st["objective"], "product": st.get("product", ""),
-        "aim": _input.aim(st.get("aim", "")), "alpha": st["alpha"], "beta": st["beta"],
+        "aim": _input.aim(st.get("aim", "")),
+        "target_sample": str(st.get("target_sample", "") or ""),
+        "alpha": st["alpha"], "beta": st["beta"],
         "pd": st["pd"], "delta": st["delta"], "decision": st["decision"],
         "rationale": st["rationale"],
         "created_on": _input.as_date(st["created_on"], "created_on"),

@@ -12,7 +12,7 @@ from collections.abc import Iterable, Sequence
 import pandas as pd
 
 from trials.errors import NotFoundError, TrialsError
-from trials.methods import Family, MethodSpec, get_method
+from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import AllergenConflict, PanelChoice, Panelist, PlanEntry, Sample
 from trials.service import _input
 from trials.store import Store
@@ -30,8 +30,10 @@ def _plan_entries(
     session_index: int,
     exclude_codes: Iterable[str],
     per_panelist: int | None,
+    target: str = "",
 ) -> list[PlanEntry]:
-    """The serving plan from trials.design.plan.serving_plan, the control first."""
+    """The serving plan from trials.design.plan.serving_plan, the control first; for a
+    target-by-role method the target sample takes the method's target role."""
     from trials.design.plan import serving_plan
 
     ordered = sorted(samples, key=lambda x: not x.is_control)
@@ -41,7 +43,7 @@ def _plan_entries(
         return list(serving_plan(
             spec.name, [x.name for x in ordered], panelist_codes, session=session, rng=seed,
             exclude_codes=exclude_codes, per_panelist=per_panelist,
-            session_index=session_index,
+            session_index=session_index, target=target or None,
         ))
 
 
@@ -71,6 +73,22 @@ def _check_samples(spec: MethodSpec, trial_id: int, samples: Sequence[Sample],
     if spec.family == Family.RATING and not n_attributes:
         raise TrialsError(
             f"a rating trial needs at least one attribute; trial {trial_id} has none")
+
+
+def _check_target(spec: MethodSpec, trial_id: int, samples: Sequence[Sample],
+                  target: str) -> None:
+    """A target-by-role method (2-AFC, 3-AFC) needs its target sample chosen first."""
+    if spec.scoring is not Scoring.TARGET_BY_ROLE:
+        return
+    names = [x.name for x in samples]
+    if not target:
+        raise TrialsError(
+            f"a {spec.label} trial needs its target sample (the one expected to have more "
+            f"of the attribute) before a plan is drawn; choose one of "
+            f"{', '.join(map(repr, names))} on the set-up screen (trial {trial_id})")
+    if target not in names:
+        raise TrialsError(f"the target sample {target!r} of trial {trial_id} is not one of "
+                          f"its samples {', '.join(map(repr, names))}")
 
 
 def _check_roster(codes: Sequence[str], roster: dict[str, Panelist]) -> None:
@@ -103,8 +121,10 @@ def draw_plan(
     drawn again. Every panelist must be on the roster with a consent date, and no
     panelist may be served a sample holding an allergen they declared (the plan is
     refused, naming each conflict). A session that already has answers cannot be
-    redrawn. Each cup gets the sample's latest signed-off batch (else its latest
-    batch). Each panelist gets an access token for the tasting link.
+    redrawn. A target-by-role method (2-AFC, 3-AFC) needs the trial's target sample
+    chosen first; its cups then carry the method's target role. Each cup gets the
+    sample's latest signed-off batch (else its latest batch). Each panelist gets an
+    access token for the tasting link.
     """
     session = _input.name(session, "the session's name")
     codes = [str(c).strip() for c in panelist_codes]
@@ -118,11 +138,12 @@ def draw_plan(
         trial = trial_rows.get_trial(tx, trial_id)
         spec = get_method(trial.method)
         _check_samples(spec, trial.id, trial.samples, len(trial.attributes))
+        _check_target(spec, trial.id, trial.samples, trial.target_sample)
         roster = plan_rows.roster_of(tx, codes)
         _check_roster(codes, roster)
         index, used = plan_rows.open_session(tx, trial.id, session, by)
         entries = _plan_entries(spec, trial.samples, codes, session, seed, index, used,
-                                per_panelist)
+                                per_panelist, trial.target_sample)
         conflicts = served_conflicts(entries, trial.samples, [roster[c] for c in codes])
         if conflicts:
             raise TrialsError(

@@ -23,7 +23,8 @@ from trials.store import Store
 from trials.store import plans as plan_rows
 from trials.store import trials as trial_rows
 
-EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method")
+EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method",
+            "target_sample")
 RESERVED_ATTRIBUTES = ("choice", "rank")
 
 
@@ -93,15 +94,23 @@ def create_trial(
     samples: Sequence[Sample | str] = (),
     attributes: Sequence[Attribute] = (),
     created_on: dt.date | None = None,
+    target_sample: str = "",
     by: str = "leader",
 ) -> Trial:
-    """Create a trial with its samples and attributes; returns it with its id."""
+    """Create a trial with its samples and attributes; returns it with its id.
+
+    ``target_sample`` (2-AFC, 3-AFC: the methods whose registry scoring is
+    target-by-role) names the sample expected to be stronger in the attribute, the one
+    a correct answer picks; it must be one of ``samples``, and a plan is drawn only once
+    it is chosen (here or with :func:`update_trial`).
+    """
     fields = {
         "name": _input.name(name, "the trial's name"), "method": get_method(method).name,
         "objective": objective or "", "product": product or "", "aim": _input.aim(aim),
         "alpha": _input.fraction(alpha, "alpha"), "beta": _input.fraction(beta, "beta"),
         "pd": _input.fraction(pd, "pd", allow_none=True), "delta": _delta(delta),
         "created_on": created_on or _input.today(),
+        "target_sample": (target_sample or "").strip(),
     }
     clean_samples = [_sample(x) for x in samples]
     clean_attributes = [check_attribute(a) for a in attributes]
@@ -117,9 +126,11 @@ def get_trial(store: Store, trial_id: int) -> Trial:
 
 
 def update_trial(store: Store, trial_id: int, *, by: str, **changes: Any) -> Trial:
-    """Change fields of a trial (``name product aim objective alpha beta pd delta method``).
+    """Change fields of a trial (``name product aim objective alpha beta pd delta method
+    target_sample``).
 
-    Each changed field is audited. The method can change only while no plan is drawn.
+    Each changed field is audited. The method and the target sample can change only
+    while no plan is drawn; the target sample must be one of the trial's samples.
     """
     unknown = sorted(set(changes) - set(EDITABLE))
     if unknown:
@@ -140,6 +151,8 @@ def update_trial(store: Store, trial_id: int, *, by: str, **changes: Any) -> Tri
             clean[key] = get_method(value).name
         elif key == "aim":
             clean[key] = _input.aim(value)
+        elif key == "target_sample":
+            clean[key] = str(value or "").strip()
         else:
             clean[key] = str(value or "")
     store.write(lambda tx: trial_rows.update_fields(tx, trial_id, clean, by))

@@ -10,7 +10,10 @@ Versions:
    tasting_session, plan_entry, access_token, response, audit_log, schema_version);
 2. ``study.product``: what the samples are variants of, for the history search;
 3. ``study.aim``: ``difference`` or ``similarity``, the question a discrimination test
-   answers (empty: read from the objective's wording, see ``trials.analysis``).
+   answers (empty: read from the objective's wording, see ``trials.analysis``);
+4. ``study.target_sample``: the sample a target-by-role method (2-AFC, 3-AFC) expects
+   to be stronger in the attribute, chosen at set-up (empty for other methods, and for
+   trials set up before version 4: their analysis reads the target from the plan's roles).
 
 To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
 change the mapping in ``schema.py`` to match, and keep the test that upgrades a
@@ -37,12 +40,18 @@ def _v3_study_aim(conn: Connection) -> None:
     conn.execute(sa.text("ALTER TABLE study ADD COLUMN aim VARCHAR(20) NOT NULL DEFAULT ''"))
 
 
+def _v4_study_target_sample(conn: Connection) -> None:
+    conn.execute(sa.text(
+        "ALTER TABLE study ADD COLUMN target_sample VARCHAR(200) NOT NULL DEFAULT ''"))
+
+
 # version reached -> (step, note); the step upgrades from version - 1
 STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
     2: (_v2_study_product, "study.product"),
     3: (_v3_study_aim, "study.aim"),
+    4: (_v4_study_target_sample, "study.target_sample"),
 }
-LATEST = 3
+LATEST = 4
 
 
 def current_version(conn: Connection) -> int | None:

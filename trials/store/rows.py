@@ -133,7 +133,8 @@ def trial_record(row: StudyRow) -> Trial:
         alpha=row.alpha, beta=row.beta, pd=row.pd, delta=row.delta,
         status=Status(row.status), decision=row.decision or "",
         rationale=row.rationale or "", product=row.product or "",
-        aim=row.aim or "", created_on=row.created_on,
+        aim=row.aim or "", target_sample=row.target_sample or "",
+        created_on=row.created_on,
         samples=tuple(sample_record(s) for s in row.samples),
         attributes=tuple(attribute_record(a) for a in row.attributes),
     )

@@ -49,6 +49,7 @@ class StudyRow(Base):
     name: Mapped[str] = mapped_column(String(200))
     product: Mapped[str] = mapped_column(String(200), default="")
     aim: Mapped[str] = mapped_column(String(20), default="")
+    target_sample: Mapped[str] = mapped_column(String(200), default="")
     objective: Mapped[str] = mapped_column(Text, default="")
     method: Mapped[str] = mapped_column(String(40))
     alpha: Mapped[float] = mapped_column(Float, default=0.05)

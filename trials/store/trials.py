@@ -58,17 +58,34 @@ def insert_trial(s: Session, fields: dict[str, Any], samples: Sequence[Sample],
         add_sample(s, row, sample, by)
     for attr in attributes:
         add_attribute(s, row, attr, by)
+    _check_target(row, row.target_sample or "")
     return row.id
 
 
+def _check_target(row: StudyRow, target: str) -> None:
+    """A target sample, when given, is one of the trial's samples."""
+    names = [x.name for x in row.samples]
+    if target and target not in names:
+        raise TrialsError(
+            f"the target sample {target!r} is not a sample of trial {row.id}; "
+            f"expected one of: {', '.join(map(repr, names)) or 'no samples yet'}")
+
+
 def update_fields(s: Session, trial_id: int, changes: dict[str, Any], by: str) -> None:
-    """Set fields of a trial, each change audited; the method only while no plan is drawn."""
+    """Set fields of a trial, each change audited; the method and the target sample only
+    while no plan is drawn (the target must be one of the trial's samples)."""
     row = rows.trial_row(s, trial_id)
     if "method" in changes and changes["method"] != row.method and rows.plan_count(s, row.id):
         raise TrialsError(
             f"cannot change the method of trial {row.id} to {changes['method']!r}: "
             "a serving plan is drawn"
         )
+    if "target_sample" in changes and changes["target_sample"] != (row.target_sample or ""):
+        _check_target(row, changes["target_sample"])
+        if rows.plan_count(s, row.id):
+            raise TrialsError(
+                f"cannot change the target sample of trial {row.id} to "
+                f"{changes['target_sample']!r}: a serving plan is drawn with the target's cups")
     for key, value in changes.items():
         old = getattr(row, key)
         if old != value:
