@@ -122,7 +122,7 @@ class Store:
         ``work`` rolls back and propagates at once.
         """
         attempt = 0
-        started = time.monotonic()
+        first_busy: float | None = None  # waits count from the first refusal, not the queue
         while True:
             with self._write_lock or nullcontext(), self._write() as session:
                 try:
@@ -138,7 +138,9 @@ class Store:
                             raise TrialsError(f"the store refused the change: {reason}; "
                                               "nothing was changed") from None
                         raise
-                    waited = time.monotonic() - started
+                    now = time.monotonic()
+                    first_busy = now if first_busy is None else first_busy
+                    waited = now - first_busy + BUSY_TIMEOUT_MS / 1000
                     if attempt > retries or waited > BUSY_DEADLINE_S:
                         if _busy(exc):
                             raise TrialsError(
