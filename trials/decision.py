@@ -322,7 +322,16 @@ def _penalty_line(at: AttributeAnalysis) -> str:
     if p is None:
         return ""
     flagged = [r for r in p.flagged() if r.drop is not None]
+    # a flagged group with answers but no drop: nobody answered "just right" for that
+    # sample, so there is no liking to compare with; say so rather than drop it
+    unrated = [r for r in p.flagged() if r.drop is None and r.n > 0]
+    missing = "".join(
+        f" {r.sample + ': ' if r.sample else ''}no panelist answered 'just right', so the "
+        f"penalty of '{r.group}' ({fmt(r.share * 100, 0)} % of answers) cannot be computed."
+        for r in unrated)
     if not flagged:
+        if missing:
+            return f"{at.attribute} (just-about-right):{missing}"
         return (f"{at.attribute} (just-about-right): no off-JAR group reached "
                 f"{fmt(p.threshold * 100, 0)} % of answers.")
     parts = []
@@ -331,7 +340,8 @@ def _penalty_line(at: AttributeAnalysis) -> str:
         parts.append(f"{who}'{r.group}' for {fmt(r.share * 100, 0)} % of answers, liking "
                      f"{fmt(r.drop, 1)} lower (weighted penalty {fmt(r.penalty)}, "
                      f"{fmt_p(r.p_value)})")
-    return f"{at.attribute} (just-about-right, penalty analysis): " + "; ".join(parts) + "."
+    return (f"{at.attribute} (just-about-right, penalty analysis): " + "; ".join(parts) + "."
+            + missing)
 
 
 def _ratings(a: TrialAnalysis, study: Trial | None) -> Decision:

@@ -104,3 +104,29 @@ def test_an_even_jar_scale_is_refused():
 def test_a_missing_attribute_column_is_named():
     with pytest.raises(TrialsError, match="'sour'"):
         jar_penalty(_table(), ["sour"], sample=None)
+
+
+def test_a_sample_with_no_just_right_answer_is_named_in_the_decision():
+    # common practice: the penalty is the drop from the "just right" group's liking, so
+    # with no "just right" answer there is nothing to compare with
+    from trials.analysis import AttributeAnalysis
+    from trials.decision import _penalty_line
+
+    data = pd.DataFrame({
+        "panelist": [f"c{i}" for i in range(6)] * 2,
+        "sample": ["Brine A"] * 6 + ["Brine B"] * 6,
+        "salt": [3, 3, 3, 4, 2, 3] + [5, 5, 4, 5, 4, 5],  # nobody finds Brine B just right
+        "liking": [7, 8, 7, 5, 5, 8] + [3, 4, 4, 2, 5, 3],
+    })
+    res = jar_penalty(data, ["salt"], sample="sample")
+    assert _row_of(res, "Brine B", "just right").n == 0
+    too_much = _row_of(res, "Brine B", "too much")
+    assert too_much.flagged and too_much.drop is None and too_much.share == 1.0
+    at = AttributeAnalysis("salt", "jar", 1, 5, 6, 12, {}, None, res, ())
+    line = _penalty_line(at)
+    assert ("Brine B: no panelist answered 'just right', so the penalty of 'too much' "
+            "(100 % of answers) cannot be computed.") in line
+
+
+def _row_of(res, sample, group):
+    return [r for r in res.rows if r.sample == sample and r.group == group][0]

@@ -177,3 +177,15 @@ def test_relations_pair_each_sample_mean_with_its_batches_and_skip_flat_variable
     assert "not proof" in salt.note
     direct = relate(liking, means, outcome="liking", predictor="salt")
     assert direct.samples == ("Control loaf", "Short proof", "Low salt")
+
+
+def test_a_constant_response_has_no_r2_rather_than_a_perfect_fit():
+    # r2 = S_xy^2 / (S_xx S_yy) is 0/0 when y does not vary (Draper and Smith 1998,
+    # ch. 1); statsmodels' OLS reports nan for it, the independent check here
+    x, y = [1.0, 2.0, 3.0, 4.0], [6.0, 6.0, 6.0, 6.0]
+    line = linear_regression(x, y)
+    fit = sm.OLS(np.array(y), sm.add_constant(np.array(x))).fit()
+    assert math.isnan(fit.rsquared)
+    assert line.r2 is None and line.p_value is None
+    assert "r2 is undefined" in line.note
+    assert line.slope == 0.0 and line.intercept == pytest.approx(6.0)

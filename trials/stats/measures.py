@@ -378,8 +378,9 @@ def linear_regression(x: Sequence[float], y: Sequence[float]) -> Regression:
     -------
     Regression
         ``slope``, ``intercept``, ``r2``, ``p_value`` (t test of slope = 0) and
-        ``slope_se``; the test fields are None when n < 3, and everything is None when
-        x does not vary.
+        ``slope_se``; the test fields are None when n < 3, everything is None when
+        x does not vary, and ``r2`` and the test are None when y does not vary (r2 is
+        0/0 there, undefined, not 1).
 
     Notes
     -----
@@ -406,7 +407,10 @@ def linear_regression(x: Sequence[float], y: Sequence[float]) -> Regression:
                           "the predictor does not vary across the samples")
     slope = sxy / sxx
     intercept = float(ya.mean() - slope * xa.mean())
-    r2 = (sxy * sxy) / (sxx * syy) if syy > 0 else 1.0
+    if syy == 0.0:  # a constant response: r2 = 0/0, undefined (not a perfect fit)
+        return Regression(n, 0.0, intercept, None, None, None,
+                          "the response does not vary across the samples: r2 is undefined")
+    r2 = (sxy * sxy) / (sxx * syy)
     if n < 3:
         return Regression(n, slope, intercept, r2, None, None,
                           "2 samples: the line passes through both; no test")
