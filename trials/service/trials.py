@@ -7,6 +7,7 @@ import datetime as dt
 from collections.abc import Iterable, Sequence
 from typing import Any
 
+from trials.answers import CHOICE, RANK
 from trials.errors import TrialsError
 from trials.methods import get_method
 from trials.model import (
@@ -25,7 +26,7 @@ from trials.store import trials as trial_rows
 
 EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method",
             "target_sample")
-RESERVED_ATTRIBUTES = ("choice", "rank")
+RESERVED_ATTRIBUTES = (CHOICE, RANK)  # the attribute names of forced choices and ranks
 
 
 def list_trials(store: Store) -> list[TrialSummary]:

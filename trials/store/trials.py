@@ -29,8 +29,6 @@ from trials.store.schema import (
     StudyRow,
 )
 
-RESERVED_ATTRIBUTES = ("choice", "rank")
-
 
 def list_trials(s: Session) -> list[TrialSummary]:
     """One line per trial, newest first."""
