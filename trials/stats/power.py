@@ -264,3 +264,252 @@ def panelists_needed(done: int, *, method: str, pd: float, alpha: float = 0.05,
     return PanelistsNeeded(method=method, done=done, planned=plan.n, more=total - done,
                            critical=crit, correct=correct, correct_needed=needed,
                            reachable=reachable, definition=definition)
+
+
+# ---------------------------------------------------------------- rating trials
+
+DESIGNS = ("blocked", "monadic")
+
+
+@dataclass(frozen=True, slots=True)
+class RatingPower(Record):
+    """Power of the F test of samples in a rating trial with ``n`` panelists.
+
+    ``design`` "blocked": every panelist rates every sample once (randomized complete
+    block, panelists as blocks); "monadic": each panelist rates one sample, ``n`` per
+    sample. ``effect_size`` is Cohen's f, ``noncentrality`` the lambda of the
+    noncentral F, ``f_critical`` the F that the test must pass.
+    """
+
+    design: str
+    samples: int
+    n: int
+    alpha: float
+    effect_size: float
+    noncentrality: float
+    df_num: int
+    df_den: int
+    f_critical: float
+    power: float
+    method: str
+
+
+def _anova_df(n: int, samples: int, design: str) -> tuple[int, int, int]:
+    """(df_num, df_den, total ratings) of the samples' F test."""
+    if design == "blocked":
+        return samples - 1, (samples - 1) * (n - 1), n * samples
+    return samples - 1, samples * (n - 1), n * samples
+
+
+def _check_design(samples: int, design: str) -> int:
+    if design not in DESIGNS:
+        raise TrialsError(f"design must be 'blocked' or 'monadic', got {design!r}")
+    return _count(samples, "samples", low=2)
+
+
+_ANOVA_METHOD = {
+    "blocked": ("noncentral F of the randomized complete block ANOVA (panelists as blocks), "
+                "lambda = f^2 n k (Cohen 1988, ch. 8)"),
+    "monadic": "noncentral F of the one-way ANOVA, lambda = f^2 n k (Cohen 1988, ch. 8)",
+}
+
+
+def anova_power(effect_size: float, n: int, *, samples: int, alpha: float = 0.05,
+                design: str = "blocked") -> RatingPower:
+    """Power of the ANOVA F test of ``samples`` means for Cohen's effect size f.
+
+    Parameters
+    ----------
+    effect_size : float
+        Cohen's f: the standard deviation of the true sample means divided by the error
+        standard deviation (> 0).
+    n : int
+        Panelists (blocked: each rates every sample; monadic: per sample).
+    samples : int
+        Samples compared, k >= 2.
+    alpha : float
+        Risk of the F test.
+    design : {"blocked", "monadic"}
+
+    Returns
+    -------
+    RatingPower
+
+    Notes
+    -----
+    Under the alternative ``F`` follows the noncentral F distribution with
+    ``lambda = f^2 N`` (``N = n k`` ratings) and ``(k - 1, df_den)`` degrees of freedom;
+    power ``= P(F' > F_{1-alpha})`` (``scipy.stats.ncf``). ``df_den`` is
+    ``(k - 1)(n - 1)`` for the randomized complete block design (panelists as fixed
+    blocks; the panelist effect leaves the error) and ``k (n - 1)`` for the one-way
+    (monadic) design (Cohen 1988, ch. 8; Montgomery, Design and Analysis of
+    Experiments, ch. 4). Assumes normal errors with a common variance and, for the
+    blocked design, additive panelist effects (no sample x panelist interaction beyond
+    the error).
+
+    References
+    ----------
+    Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, 2nd ed.
+    Erlbaum, ch. 8. Cohen, J. (1992). A power primer. Psychol. Bull. 112:155-159.
+    """
+    samples = _check_design(samples, design)
+    n = _count(n, "n", low=2)
+    alpha = _prob(alpha, "alpha")
+    f = float(effect_size)
+    if not math.isfinite(f) or f <= 0:
+        raise TrialsError(f"effect_size must be a positive number, got {effect_size!r}")
+    d1, d2, total = _anova_df(n, samples, design)
+    lam = f * f * total
+    crit = float(stats.f.isf(alpha, d1, d2))
+    pw = float(stats.ncf.sf(crit, d1, d2, lam))
+    return RatingPower(design=design, samples=samples, n=n, alpha=alpha, effect_size=f,
+                       noncentrality=lam, df_num=d1, df_den=d2, f_critical=crit, power=pw,
+                       method=_ANOVA_METHOD[design])
+
+
+def rating_effect_size(delta: float, sd: float, *, samples: int) -> float:
+    """Cohen's f of the least favourable configuration: two of ``samples`` means
+    ``delta`` apart and the others half way, ``f = delta / (sd sqrt(2 k))``.
+
+    Of all configurations whose largest difference is ``delta``, this one has the
+    smallest spread of means, so a panel sized for it detects any such difference
+    with at least the stated power (Cohen 1988, section 8.2, pattern 1)."""
+    samples = _count(samples, "samples", low=2)
+    delta, sd = float(delta), float(sd)
+    if not (math.isfinite(delta) and delta > 0):
+        raise TrialsError(f"delta must be a positive number of scale points, got {delta!r}")
+    if not (math.isfinite(sd) and sd > 0):
+        raise TrialsError(f"sd must be a positive number of scale points, got {sd!r}")
+    return delta / (sd * math.sqrt(2.0 * samples))
+
+
+@dataclass(frozen=True, slots=True)
+class RatingPanelSize(Record):
+    """How many panelists a rating trial needs to detect a difference of ``delta``.
+
+    ``n`` is the fewest panelists (per sample for a monadic design) whose F test of
+    samples reaches power ``1 - beta`` at ``alpha`` when two samples differ by
+    ``delta`` scale points and the error standard deviation is ``sd``. The power of the
+    F test grows with n, so the first n that reaches it is also stable.
+    """
+
+    design: str
+    samples: int
+    delta: float
+    sd: float
+    alpha: float
+    beta: float
+    n: int
+    power: float
+    effect_size: float
+    noncentrality: float
+    df_num: int
+    df_den: int
+    sd_source: str
+    method: str
+    note: str
+
+
+def rating_panel_size(delta: float, *, sd: float, samples: int, alpha: float = 0.05,
+                      beta: float = 0.20, design: str = "blocked",
+                      sd_source: str = "given") -> RatingPanelSize:
+    """Fewest panelists for a rating trial to detect the smallest difference that matters.
+
+    Parameters
+    ----------
+    delta : float
+        Smallest difference of two sample means that matters, in scale points.
+    sd : float
+        Error standard deviation of one rating, panelist effects removed (e.g. from
+        :func:`rating_error_sd` of an earlier trial's ANOVA).
+    samples : int
+        Samples in the trial, k >= 2.
+    alpha, beta : float
+        Risks: of a false difference, and of missing a difference of ``delta``.
+    design : {"blocked", "monadic"}
+        Every panelist rates every sample (default), or one sample each.
+    sd_source : str
+        Where ``sd`` came from, echoed in the result.
+
+    Returns
+    -------
+    RatingPanelSize
+
+    Notes
+    -----
+    Cohen's f of the least favourable configuration (:func:`rating_effect_size`), then
+    the smallest n with :func:`anova_power` ``>= 1 - beta`` (noncentral F). For two
+    samples in the blocked design this is the two-sided paired t test with effect size
+    ``delta / (sd sqrt 2)`` (the F with 1 df is t squared). Searches n = 2 .. 10,000.
+
+    References
+    ----------
+    Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, 2nd ed.
+    Erlbaum, ch. 8.
+    """
+    samples = _check_design(samples, design)
+    alpha = _prob(alpha, "alpha")
+    beta = _prob(beta, "beta")
+    f = rating_effect_size(delta, sd, samples=samples)
+    target = 1.0 - beta
+    top = 16
+    while True:
+        ns = np.arange(2, top + 1)
+        d1, d2, total = _anova_df(ns, samples, design)  # type: ignore[arg-type]
+        crit = stats.f.isf(alpha, d1, d2)
+        pw = stats.ncf.sf(crit, d1, d2, f * f * total)
+        ok = pw >= target - 1e-12
+        if ok.any():
+            i = int(np.argmax(ok))
+            break
+        if top >= _N_LIMIT:
+            raise TrialsError(f"a difference of {delta!r} with sd {sd!r} needs more than "
+                              f"{_N_LIMIT} panelists at these risks")
+        top = min(top * 4, _N_LIMIT)
+    res = anova_power(f, int(ns[i]), samples=samples, alpha=alpha, design=design)
+    who = "panelists" if design == "blocked" else "panelists per sample"
+    return RatingPanelSize(
+        design=design, samples=samples, delta=float(delta), sd=float(sd), alpha=alpha,
+        beta=beta, n=res.n, power=res.power, effect_size=f, noncentrality=res.noncentrality,
+        df_num=res.df_num, df_den=res.df_den, sd_source=sd_source, method=res.method,
+        note=(f"n counts {who}; least favourable configuration: two samples delta apart, "
+              "the others half way (any other configuration with that difference has "
+              "at least this power)"),
+    )
+
+
+@dataclass(frozen=True, slots=True)
+class RatingErrorSD(Record):
+    """The error standard deviation of one rating, read from an ANOVA of ratings."""
+
+    sd: float
+    df: float
+    source: str
+
+
+def rating_error_sd(anova) -> RatingErrorSD:
+    """The panel's own error from an earlier trial's blocked ANOVA
+    (:class:`trials.stats.ratings.RatingAnova`), for :func:`rating_panel_size`.
+
+    Notes
+    -----
+    Without replicates, ``sd = sqrt(MS_error)`` of the randomized block ANOVA. With
+    ``r`` replicates the sample effect is tested against the interaction, whose mean
+    square estimates ``sigma_e^2 + r sigma_sp^2``; one rating per panelist and sample
+    then has variance ``sigma_sp^2 + sigma_e^2 = (MS_sp + (r - 1) MS_error) / r``
+    (expected mean squares of the mixed model; Montgomery, Design and Analysis of
+    Experiments, ch. 13). Its df is that of the term (Satterthwaite not applied).
+    """
+    err = anova.term("error")
+    r = anova.replicates
+    try:
+        inter = anova.term("sample:panelist")
+    except KeyError:
+        inter = None
+    if inter is not None and r and r > 1:
+        var = (inter.ms + (r - 1) * err.ms) / r
+        return RatingErrorSD(math.sqrt(max(var, 0.0)), float(inter.df),
+                             f"(MS sample:panelist + {r - 1:g} x MS error) / {r:g} "
+                             "of the earlier trial")
+    return RatingErrorSD(math.sqrt(max(err.ms, 0.0)), float(err.df),
+                         "residual MS of the earlier trial's blocked ANOVA")
