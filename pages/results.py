@@ -38,6 +38,86 @@ def _interval(ci) -> str:
     return f"[{ci[0]:.2f}, {ci[1]:.2f}]"
 
 
+# ------------------------------------------------------------------ descriptive profile
+def _profile_section() -> None:
+    """The multivariate view of a rating trial with three or more intensity attributes."""
+    prof = ui.profile(trial_id)
+    if prof is None:
+        return
+    st.subheader("Descriptive profile")
+    intensity = [a for a in study.attributes if a.name in prof.means.attributes]
+    low = min(a.low for a in intensity) if intensity else 0
+    high = max(a.high for a in intensity) if intensity else 10
+    for note in prof.notes:
+        st.caption(ui.literal(note))
+    mv = prof.manova
+    if mv is not None:
+        c1, c2, c3 = st.columns(3)
+        c1.metric("Samples differ (MANOVA)", "yes" if mv.significant else "no",
+                  help=f"Pillai's trace, alpha = {mv.alpha:g}; error: {mv.error_term}.")
+        c2.metric("Pillai's trace", f"{mv.pillai:.3f}", help=f"p = {p_text(mv.p_value)}")
+        c3.metric("Wilks' lambda", f"{mv.wilks:.4f}")
+    map_tab, radar_tab, table_tab = st.tabs(["Map (PCA biplot)", "Spider chart", "Tables"])
+    pca = prof.pca
+    with map_tab:
+        if pca is None or pca.components < 2:
+            st.info("Too few samples or attributes for a map.")
+        else:
+            ui.biplot_chart(pca, title="Samples and attributes on the first two components")
+            st.caption(
+                f"Components 1 and 2 hold {pca.cumulative[1]:.0%} of the variance of the "
+                f"sample means ({pca.method}). Arrows: each attribute's correlation with the "
+                f"components, scaled to the map. Shaded: {pca.level:.0%} ellipses from "
+                f"{pca.n_boot} virtual panels ({pca.bootstrap}). Samples whose ellipses do "
+                "not overlap are told apart on this map.")
+            if pca.left_out:
+                st.caption("Left out (the same mean for every sample): "
+                           + ui.literal(", ".join(pca.left_out)))
+    with radar_tab:
+        ui.radar_chart(prof.means, low=low, high=high, title="Mean intensity of each sample")
+        st.caption(f"Means over {prof.means.panelists} panelists (each panelist's "
+                   "replicates averaged first).")
+    with table_tab:
+        st.markdown("**Means**")
+        st.dataframe(prof.means.to_frame(), width="stretch",
+                     column_config={a: st.column_config.NumberColumn(format="%.2f")
+                                    for a in prof.means.attributes})
+        if pca is not None:
+            c1, c2 = st.columns(2)
+            c1.markdown("**Variance per component**")
+            c1.dataframe(pca.variance_frame(), hide_index=True, width="stretch")
+            c2.markdown("**Loadings** (correlation with the component)")
+            c2.dataframe(pca.loadings_frame().round(3), width="stretch")
+        if mv is not None:
+            st.markdown("**MANOVA of the samples, panelists as blocks**")
+            st.dataframe(mv.to_frame(), width="stretch")
+            st.caption(mv.method)
+
+
+def _departures_section(attribute: str) -> None:
+    """Sample x panelist interaction of one attribute: who departs, in direction or scale."""
+    try:
+        at, rule = ui.departures(trial_id, attribute)
+    except TrialsError as exc:
+        st.caption(ui.literal(str(exc)))
+        return
+    st.markdown("**Sample x panelist interaction**")
+    if at.p_value is not None:
+        st.caption(f"Interaction F = {at.F:.2f}, p = {p_text(at.p_value)} "
+                   f"({'significant' if at.significant else 'not significant'} at "
+                   f"alpha = {study.alpha:g}).")
+    else:
+        st.caption("No replicates: the interaction cannot be tested; the departures are "
+                   "shown as they are.")
+    ui.departure_chart(at, title=f"{attribute}: direction and scale of each panelist")
+    st.dataframe(pd.DataFrame([{**p.to_dict(), "flags": "; ".join(p.flags)}
+                               for p in at.panelists]).drop(columns=["attribute"]),
+                 hide_index=True, width="stretch",
+                 column_config={c: st.column_config.NumberColumn(format="%.2f")
+                                for c in ("r", "slope", "share")})
+    st.caption(rule)
+
+
 # ------------------------------------------------------------------ forced choice
 if result.choice is not None:
     fc = result.choice
@@ -139,6 +219,8 @@ if result.attributes:
                     } for r in at.relations]), hide_index=True, width="stretch")
                     st.caption(ui.literal(at.relations[0].note))
 
+    _profile_section()
+
     st.subheader("Panel performance")
     c1, c2 = st.columns([2, 1], vertical_alignment="bottom")
     scored = [a.attribute for a in result.attributes if a.anova is not None]
@@ -155,6 +237,7 @@ if result.attributes:
             ui.panel_chart(frame, title=f"{which}: agreement and repeatability")
             st.dataframe(frame, width="stretch")
             st.caption(perf.rule)
+            _departures_section(which)
 
 # ------------------------------------------------------------------ ranking
 if result.ranking is not None:

@@ -4,7 +4,7 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import METHODS, Scoring, get_method
+from trials.methods import METHODS, Family, Scoring, get_method
 from trials.model import Status
 
 ui.require_leader()
@@ -83,6 +83,54 @@ if saved:
         st.toast("Set-up saved.", icon=":material/check:")
         spec = get_method(study.method)
 
+
+
+def _rating_panel_size() -> None:
+    """'You need n panelists' for a rating trial: the noncentral F of the block ANOVA
+    for the smallest difference of means, with the panel's error from an earlier trial
+    or as given."""
+    if not study.delta:
+        st.info("Give the smallest difference of means that matters to get the panel size.")
+        return
+    errors = ui.panel_errors(trial_id)
+    sources = ["earlier", "given"] if errors else ["given"]
+    c1, c2 = st.columns(2)
+    source = c1.radio("The panel's error", sources, horizontal=True, key="power_source",
+                      format_func={"earlier": "from an earlier rating trial",
+                                   "given": "a standard deviation I give"}.get)
+    design = c2.radio("Design", ["blocked", "monadic"], horizontal=True, key="power_design",
+                      format_func={"blocked": "every panelist rates every sample",
+                                   "monadic": "each panelist rates one sample"}.get)
+    if source == "earlier":
+        err = st.selectbox("Earlier trial and attribute", errors, key="power_error",
+                           format_func=lambda e: f"{e.trial} · {e.attribute} · sd {e.sd:.2f} "
+                                                 f"({e.df:g} df)")
+        sd, said = err.sd, f"{err.source}: {ui.literal(err.trial)}, {ui.literal(err.attribute)}"
+    else:
+        sd = st.number_input("Error standard deviation of one rating (scale points)", 0.05,
+                             10.0, 1.5, 0.05, format="%.2f", key="power_sd")
+        said = "given"
+    try:
+        answer = service.rating_panel_size_needed(store, trial_id, sd=sd, design=design)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+        return
+    if answer is None:
+        return
+    who = "panelists" if design == "blocked" else "panelists per sample"
+    st.metric("You need", f"{answer.n} {who}", help=answer.method)
+    st.write(
+        f"With **{answer.n}** {who} the F test of the {answer.samples} samples, at alpha = "
+        f"{answer.alpha:g}, detects a difference of **{answer.delta:g}** scale points between "
+        f"two samples with power {answer.power:.2f} (beta = {answer.beta:g}), for an error "
+        f"sd of {answer.sd:.2f} ({said})."
+    )
+    st.caption(f"{answer.method}. {answer.note}.")
+    with st.expander("Power against the number of panelists", icon=":material/show_chart:"):
+        ui.rating_power_chart(answer.delta, sd=answer.sd, samples=answer.samples,
+                              alpha=answer.alpha, beta=answer.beta, n_needed=answer.n)
+
+
 st.subheader("How many panelists")
 if spec.is_forced_choice:
     answer = service.panel_size_needed(store, trial_id)
@@ -109,11 +157,13 @@ if spec.is_forced_choice:
         st.download_button("Print the table (PDF)", service.critical_values_pdf(study.method),
                            file_name=f"critical-values-{study.method}.pdf",
                            mime="application/pdf", icon=":material/print:")
+elif spec.family == Family.RATING:
+    _rating_panel_size()
 else:
     st.write(
-        "For ratings and rankings the panel size follows from the smallest difference that "
-        "matters and the panel's spread; with no earlier trial on file, 24 to 40 panelists is "
-        "common practice for hedonic ratings."
+        "For rankings the panel size follows from the smallest difference that matters and "
+        "the panel's spread; with no earlier trial on file, 24 to 40 panelists is common "
+        "practice."
     )
 
 st.subheader("Status")

@@ -19,7 +19,7 @@ from typing import Any
 
 from trials import limits
 from trials.errors import TrialsError
-from trials.methods import FORCED_CHOICE, METHODS
+from trials.methods import FORCED_CHOICE, METHODS, RATING
 
 Handler = Callable[[argparse.Namespace], dict[str, Any]]
 
@@ -51,6 +51,7 @@ _MOST = {
     "per_panelist": (limits.MAX_SAMPLES, "--per-panelist"),
     "count": (limits.MAX_CODES, "--count"), "port": (limits.MAX_PORT, "--port"),
     "id": (2**31 - 1, "the trial id"), "trial": (2**31 - 1, "--trial"),
+    "boot": (limits.MAX_BOOT, "--boot"),
 }
 
 
@@ -111,9 +112,36 @@ def _similarity(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def _plan(args: argparse.Namespace) -> dict[str, Any]:
+    if args.method == RATING:
+        return _plan_rating(args)
+    if args.pd is None:
+        raise TrialsError(f"--pd is required for {args.method}")
     from trials.stats.power import panel_size
 
     return panel_size(args.pd, method=args.method, alpha=args.alpha, beta=args.beta).to_dict()
+
+
+def _plan_rating(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.power import rating_error_sd, rating_panel_size
+
+    if args.delta is None or args.samples is None:
+        raise TrialsError("a rating plan needs --delta (scale points) and --samples")
+    sd, source = args.sd, "given"
+    if (sd is None) == (args.trial is None):
+        raise TrialsError("give exactly one of --sd or --trial (with --attribute)")
+    if sd is None:
+        if not args.attribute:
+            raise TrialsError("--trial needs --attribute: whose error to read")
+        from trials import service
+
+        at = service.analyse_trial(_store(args), args.trial).attribute(args.attribute)
+        if at.anova is None:
+            raise TrialsError(f"trial {args.trial}: no analysis of variance for "
+                              f"{args.attribute!r} yet")
+        err = rating_error_sd(at.anova)
+        sd, source = err.sd, f"{err.source}: trial {args.trial}, {args.attribute}"
+    return rating_panel_size(args.delta, sd=sd, samples=args.samples, alpha=args.alpha,
+                             beta=args.beta, design=args.design, sd_source=source).to_dict()
 
 
 def _dprime(args: argparse.Namespace) -> dict[str, Any]:
@@ -135,6 +163,17 @@ def _analyze_ratings(args: argparse.Namespace) -> dict[str, Any]:
         panelist=args.panelist,
         replicate=args.replicate,
         alpha=args.alpha,
+    ).to_dict()
+
+
+def _analyze_profile(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.profile import descriptive_profile
+
+    data = _read_csv(args.file, numbers=(args.score,))
+    return descriptive_profile(
+        data, score=args.score, sample=args.sample, panelist=args.panelist,
+        attribute=args.attribute, replicate=args.replicate, alpha=args.alpha,
+        n_boot=args.boot, rng=args.seed,
     ).to_dict()
 
 
@@ -350,11 +389,23 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--pd", required=True, type=_fraction)
     p.add_argument("--beta", type=_fraction, default=0.05)
 
-    p = _leaf(sub, "plan", _plan, "fewest panelists for alpha, beta and pd")
-    p.add_argument("--method", required=True, choices=FORCED_CHOICE)
-    p.add_argument("--pd", required=True, type=_fraction)
+    p = _leaf(sub, "plan", _plan, "fewest panelists for alpha, beta and pd (forced choice) "
+              "or for the smallest difference of means (rating)", db=True)
+    p.add_argument("--method", required=True, choices=[*FORCED_CHOICE, RATING])
+    p.add_argument("--pd", type=_fraction, default=None,
+                   help="proportion of discriminators that matters (forced choice)")
     p.add_argument("--alpha", type=_fraction, default=0.05)
     p.add_argument("--beta", type=_fraction, default=0.20)
+    p.add_argument("--delta", type=_fraction, default=None,
+                   help="rating: smallest difference of two sample means that matters")
+    p.add_argument("--samples", type=_count, default=None, help="rating: samples compared")
+    p.add_argument("--sd", type=_fraction, default=None,
+                   help="rating: error sd of one rating (or read it with --trial)")
+    p.add_argument("--trial", "--study", dest="trial", type=_count, default=None,
+                   metavar="ID", help="rating: an earlier trial whose error to use")
+    p.add_argument("--attribute", default=None, help="rating: that trial's attribute")
+    p.add_argument("--design", choices=("blocked", "monadic"), default="blocked",
+                   help="rating: every panelist rates every sample (blocked) or one each")
 
     p = _leaf(sub, "dprime", _dprime, "convert proportion correct to Thurstonian d' or back")
     p.add_argument("--method", required=True, choices=FORCED_CHOICE)
@@ -389,6 +440,19 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--replicate", default=None)
     p.add_argument("--alpha", type=_fraction, default=0.05)
+    p = _leaf(asub, "profile", _analyze_profile, (
+        "descriptive profile of many intensity attributes: PCA map with bootstrap "
+        "ellipses, MANOVA with panelist blocks, panelist departures"
+    ))
+    p.add_argument("file")
+    p.add_argument("--score", default="score")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--panelist", default="panelist")
+    p.add_argument("--attribute", default="attribute")
+    p.add_argument("--replicate", default=None)
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p.add_argument("--boot", type=_count, default=500, help="virtual panels for the ellipses")
+    p.add_argument("--seed", type=_count, default=0, help="seed of the panel resampling")
     p = _leaf(asub, "ranks", _analyze_ranks, (
         "rank test with rank-sum comparisons: Friedman (1937) for complete blocks, "
         "Durbin (1951) when each panelist ranked only some samples"

@@ -15,6 +15,13 @@ every time:
    yield, core temperature and oil uptake.
 3. *Chilled tomato soup: roasted vs fresh tomatoes* -- a paired preference, 24
    panelists, 15 to 9 (no clear preference either way).
+4. *Fried chicken: house dredge vs panko crumb* -- an earlier rating trial with the
+   coatings' control, for the history screen.
+5. *Sandwich loaf: four flour blends* -- a descriptive profile by a trained panel: 4
+   loaves x 10 intensity attributes (0..10) x 12 panelists x 2 sessions. Two latent
+   directions separate the loaves (wholegrain/rye against white; sour, chewy and crisp
+   sourdough); saltiness has no sample effect (one salt level). Panelist P05 uses a
+   narrow range of the scale and P09 reverses sourness, for the panel performance view.
 
 ``seed(store)`` adds what is missing and returns the demo trials' ids; running it again
 adds nothing. ``python -m trials.demo FOLDER`` writes the demo's CSV files (see
@@ -41,7 +48,8 @@ BRIOCHE = "Brioche bun: usual proof vs short proof"
 COATINGS = "Fried chicken: four coatings"
 SOUP = "Chilled tomato soup: roasted vs fresh tomatoes"
 CRUMB = "Fried chicken: house dredge vs panko crumb"
-NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB)
+LOAF = "Sandwich loaf: four flour blends"
+NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB, LOAF)
 
 HEDONIC_9 = (
     "Dislike extremely", "Dislike very much", "Dislike moderately", "Dislike slightly",
@@ -299,12 +307,88 @@ def _crumb(store) -> int:
     return study.id
 
 
+LOAF_SAMPLES = (
+    Sample("White tin loaf", is_control=True, allergens=("gluten",),
+           description="House sandwich loaf: strong white flour, straight dough."),
+    Sample("Half wholemeal loaf", allergens=("gluten",),
+           description="Half the white flour replaced by stoneground wholemeal."),
+    Sample("Light rye loaf", allergens=("gluten",),
+           description="A quarter light rye flour, a little malt."),
+    Sample("Sourdough-starter loaf", allergens=("gluten",),
+           description="White flour leavened with the kitchen's own starter, long proof."),
+)
+# Invented true profiles on 0..10 scales: one row per loaf, one column per attribute.
+LOAF_ATTRIBUTES = ("crust colour", "crust crispness", "crumb softness", "crumb moistness",
+                   "chewiness", "yeasty aroma", "sourness", "sweetness", "saltiness",
+                   "wholegrain flavour")
+LOAF_PROFILES = (
+    (4.0, 3.5, 7.5, 6.0, 3.0, 4.5, 1.0, 4.0, 4.6, 1.0),
+    (5.5, 4.5, 6.0, 5.5, 4.5, 4.5, 1.5, 3.5, 4.6, 5.0),
+    (6.5, 5.0, 4.5, 6.5, 5.5, 4.0, 4.0, 3.0, 4.6, 6.5),
+    (6.0, 6.5, 5.0, 5.0, 6.5, 3.0, 6.5, 2.5, 4.6, 2.0),
+)
+LOAF_NARROW, LOAF_REVERSED = "P05", "P09"  # invented departures from the panel
+
+
+def _loaf_scores(entries, session, rng, panel):
+    index = {s.name: i for i, s in enumerate(LOAF_SAMPLES)}
+    grand = np.mean(LOAF_PROFILES, axis=0)
+    rows = []
+    for e in sorted(entries, key=lambda e: (e.panelist_code, e.position)):
+        offset, scale = panel[e.panelist_code]
+        for j, name in enumerate(LOAF_ATTRIBUTES):
+            effect = LOAF_PROFILES[index[e.sample_name]][j] - grand[j]
+            if e.panelist_code == LOAF_REVERSED and name == "sourness":
+                effect = -effect
+            score = grand[j] + offset[j] + scale * effect + rng.normal(0, 0.7)
+            rows.append({"session": session, "panelist": e.panelist_code, "code": e.code,
+                         "attribute": name, "value": str(int(np.clip(np.rint(score), 0, 10)))})
+    return rows
+
+
+def _loaf(store) -> int:
+    attributes = tuple(Attribute(name, AttributeKind.INTENSITY, 0, 10, ("none", "very strong"))
+                       for name in LOAF_ATTRIBUTES)
+    study = service.create_trial(
+        store, name=LOAF, method=methods.RATING, product="sandwich loaf",
+        objective="Profile four flour blends with the trained panel: where do the half "
+                  "wholemeal, light rye and sourdough loaves stand against the house white "
+                  "loaf, attribute by attribute?",
+        alpha=0.05, beta=0.20, delta=1.0, samples=LOAF_SAMPLES, attributes=attributes,
+        created_on=dt.date(2026, 6, 1), by=BY,
+    )
+    for k, (sample, hydration, proof) in enumerate(zip(LOAF_SAMPLES, (62, 68, 66, 70),
+                                                       (60, 55, 50, 720))):
+        service.add_batch(
+            store, study.id, sample.name, "L1", prepared_on=dt.date(2026, 6, 2),
+            prepared_by="Bakery section",
+            settings=[("hydration", hydration, "%"), ("final proof", proof, "min"),
+                      ("oven temperature", 220, "°C")],
+            measures=[("loaf volume", (2450, 2200, 2050, 2300)[k], "mL"),
+                      ("core temperature", 97.0, "°C")],
+            by=BY,
+        )
+        service.sign_off_batch(store, study.id, sample.name, "L1", by="Sous chef (food safety)",
+                               on=dt.date(2026, 6, 2))
+    codes = _eligible(LOAF_SAMPLES, 12)
+    rng = np.random.default_rng(4121)
+    panel = {c: (rng.normal(0, 0.6, size=len(LOAF_ATTRIBUTES)),
+                 0.35 if c == LOAF_NARROW else float(rng.normal(1.0, 0.08))) for c in codes}
+    for session, seed_, day in (("1", 601, 3), ("2", 602, 4)):
+        entries = service.draw_plan(store, study.id, panelist_codes=codes, session=session,
+                                    seed=seed_, by=BY)
+        _import(store, study.id, _loaf_scores(entries, session, rng, panel),
+                dt.datetime(2026, 6, day, 10, 0))
+    service.set_status(store, study.id, Status.ANALYSED, by=BY)
+    return study.id
+
+
 def seed(store) -> list[int]:
     """Add the demo roster and trials that are missing; the demo trials' ids."""
     _roster(store)
     ids = []
     for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup),
-                       (CRUMB, _crumb)):
+                       (CRUMB, _crumb), (LOAF, _loaf)):
         found = _exists(store, name)
         ids.append(found if found is not None else make(store))
     return ids
@@ -357,6 +441,16 @@ def write_sample_data(folder: str | Path, store=None) -> list[Path]:
                 path = folder / f"coatings_{attr.replace(' ', '_')}.csv"
                 tidy.sort_values(["panelist", "sample"]).to_csv(path, index=False)
                 written.append(path)
+            frame = service.answers_frame(store, ids[LOAF])
+            frame["replicate"] = frame["session"].astype(int)
+            tidy = pd.DataFrame({"panelist": frame["panelist"], "sample": frame["sample"],
+                                 "attribute": frame["attribute"],
+                                 "score": frame["score"].astype(int),
+                                 "replicate": frame["replicate"]})
+            path = folder / "loaf_profile.csv"
+            tidy.sort_values(["panelist", "sample", "attribute", "replicate"]).to_csv(
+                path, index=False)
+            written.append(path)
             return written
         finally:
             if own:

@@ -13,3 +13,4 @@ MAX_CODES = 900  # three-digit blinding codes that exist ("100".."999")
 MAX_N = 100_000  # answers in one exact binomial test or critical value
 MIN_ALPHA = 1e-6  # the smallest risk a plan or a test takes
 MAX_PORT = 65_535
+MAX_BOOT = 10_000  # virtual panels in the bootstrap of a descriptive profile

@@ -475,6 +475,41 @@ def panel_performance(trial_id: int, attribute: str):
     return _panel_performance(os.environ.get("TRIALS_DB"), trial_id, attribute, stamp)
 
 
+@st.cache_resource(show_spinner="Drawing the profile...", max_entries=16)
+def _profile(url: str | None, trial_id: int, stamp: tuple):
+    del stamp  # part of the cache key only
+    return service.trial_profile(_open_store(url), trial_id)
+
+
+def profile(trial_id: int):
+    """The trial's descriptive profile (None under three intensity attributes), computed
+    once per state of the trial."""
+    stamp = service.change_stamp(store(), trial_id)
+    return _profile(os.environ.get("TRIALS_DB"), trial_id, stamp)
+
+
+@st.cache_resource(show_spinner="Reading the panelists' departures...", max_entries=32)
+def _departures(url: str | None, trial_id: int, attribute: str, stamp: tuple):
+    del stamp  # part of the cache key only
+    return service.panelist_departures_of(_open_store(url), trial_id, attribute)
+
+
+def departures(trial_id: int, attribute: str):
+    """The sample x panelist interaction of one attribute, once per state of the trial."""
+    stamp = service.change_stamp(store(), trial_id)
+    return _departures(os.environ.get("TRIALS_DB"), trial_id, attribute, stamp)
+
+
+@st.cache_resource(show_spinner="Reading earlier rating trials...", ttl=60, max_entries=8)
+def _panel_errors(url: str | None, exclude: int):
+    return service.panel_errors(_open_store(url), exclude=exclude)
+
+
+def panel_errors(exclude: int):
+    """The error sd of the attributes of earlier rating trials (re-read every minute)."""
+    return _panel_errors(os.environ.get("TRIALS_DB"), exclude)
+
+
 def analysis(trial_id: int):
     """The trial's analysis and decision text, computed once per state of the trial
     (the cache key is :func:`trials.service.change_stamp`: every write moves it)."""
@@ -613,4 +648,109 @@ def count_chart(correct: int, n: int, critical: int | None, *, guess: float, lab
         fig.add_vline(x=critical, line_dash="dash", annotation_text=f"critical = {critical}")
     fig.update_layout(height=200, xaxis_range=[0, n], xaxis_title="answers",
                       margin={"l": 10, "r": 10, "t": 30, "b": 10}, showlegend=False)
+    st.plotly_chart(fig, width="stretch")
+
+
+# ---------------------------------------------------------------- profile charts
+
+PALETTE = ("#1f77b4", "#d62728", "#2ca02c", "#9467bd", "#ff7f0e", "#8c564b", "#e377c2",
+           "#7f7f7f", "#bcbd22", "#17becf")
+
+
+def biplot_chart(pca, *, title: str) -> None:
+    """The profile map: samples with their bootstrap ellipses on components 1-2, and
+    the attributes' loadings as arrows (scaled to the samples' spread)."""
+    import plotly.graph_objects as go
+
+    fig = go.Figure()
+    ellipses = {e.sample: e for e in pca.ellipses}
+    spread = max(max(abs(v) for v in pca.scores[s][:2]) for s in pca.samples)
+    spread = max([spread] + [max(max(map(abs, e.x)), max(map(abs, e.y))) for e in pca.ellipses])
+    reach = max(max(abs(v) for v in pca.loadings[a][:2]) for a in pca.attributes)
+    k = 0.9 * spread / reach if reach > 0 else 1.0
+    for a in pca.attributes:
+        x, y = pca.loadings[a][0] * k, pca.loadings[a][1] * k
+        fig.add_annotation(x=x, y=y, ax=0, ay=0, xref="x", yref="y", axref="x", ayref="y",
+                           showarrow=True, arrowhead=2, arrowwidth=1.2, arrowcolor="#888",
+                           text="")
+        fig.add_trace(go.Scatter(x=[x * 1.08], y=[y * 1.08], mode="text",
+                                 text=[chart_text(a)], textfont={"color": "#555", "size": 11},
+                                 hoverinfo="skip", showlegend=False))
+    for i, s in enumerate(pca.samples):
+        colour = PALETTE[i % len(PALETTE)]
+        if s in ellipses:
+            e = ellipses[s]
+            fig.add_trace(go.Scatter(x=list(e.x), y=list(e.y), mode="lines",
+                                     line={"color": colour, "width": 1}, fill="toself",
+                                     opacity=0.25, hoverinfo="skip", showlegend=False))
+        fig.add_trace(go.Scatter(x=[pca.scores[s][0]], y=[pca.scores[s][1]],
+                                 mode="markers+text", name=chart_text(s),
+                                 text=[chart_text(s)], textposition="top center",
+                                 marker={"size": 12, "color": colour}))
+    share = pca.explained
+    fig.update_layout(
+        title=chart_text(title), height=560, margin={"l": 10, "r": 10, "t": 40, "b": 10},
+        xaxis_title=f"component 1 ({share[0]:.0%} of the variance)",
+        yaxis_title=f"component 2 ({share[1]:.0%})" if len(share) > 1 else "",
+        yaxis={"scaleanchor": "x", "scaleratio": 1, "zeroline": True},
+        xaxis={"zeroline": True}, legend={"orientation": "h"},
+    )
+    st.plotly_chart(fig, width="stretch")
+
+
+def radar_chart(means, *, low: float, high: float, title: str) -> None:
+    """The spider chart: each sample's mean on every attribute, one closed line each."""
+    import plotly.graph_objects as go
+
+    attrs = [chart_text(a) for a in means.attributes]
+    fig = go.Figure()
+    for i, s in enumerate(means.samples):
+        r = [means.means[s][a] for a in means.attributes]
+        fig.add_trace(go.Scatterpolar(r=r + r[:1], theta=attrs + attrs[:1], mode="lines+markers",
+                                      name=chart_text(s),
+                                      line={"color": PALETTE[i % len(PALETTE)]}))
+    fig.update_layout(title=chart_text(title), height=520, legend={"orientation": "h"},
+                      polar={"radialaxis": {"range": [low, high]}},
+                      margin={"l": 40, "r": 40, "t": 50, "b": 10})
+    st.plotly_chart(fig, width="stretch")
+
+
+def departure_chart(at, *, title: str) -> None:
+    """Each panelist's direction (r) against scale (slope) on one attribute; the size
+    of a point is the panelist's share of the interaction, flagged panelists in red."""
+    import plotly.graph_objects as go
+
+    rows = [p for p in at.panelists if p.r is not None and p.slope is not None]
+    fig = go.Figure()
+    for flagged, name, colour in ((False, "in line", "#1f77b4"), (True, "stands apart",
+                                                                   "#d62728")):
+        part = [p for p in rows if bool(p.flags) == flagged]
+        fig.add_trace(go.Scatter(
+            x=[p.r for p in part], y=[p.slope for p in part], mode="markers+text",
+            text=[chart_text(p.panelist) for p in part], textposition="top center",
+            name=name, marker={"color": colour,
+                               "size": [8 + 40 * (p.share or 0) for p in part]}))
+    fig.add_hline(y=1, line_dash="dot", annotation_text="same scale as the panel")
+    fig.add_vline(x=1, line_dash="dot")
+    fig.update_layout(title=chart_text(title), height=380,
+                      xaxis_title="direction: r with the other panelists' means",
+                      yaxis_title="scale: slope on the other panelists' means",
+                      xaxis_range=[-1.1, 1.1], margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    st.plotly_chart(fig, width="stretch")
+
+
+def rating_power_chart(delta: float, *, sd: float, samples: int, alpha: float, beta: float,
+                       n_needed: int) -> None:
+    """Power of the F test of samples against the number of panelists (ratings)."""
+    import plotly.graph_objects as go
+
+    top = max(12, int(n_needed * 1.8))
+    step = max(1, top // 120)
+    curve = service.rating_power_curve(delta, sd=sd, samples=samples, alpha=alpha,
+                                       ns=range(2, top + 1, step))
+    fig = go.Figure(go.Scatter(x=curve["n"], y=curve["power"], mode="lines", name="power"))
+    fig.add_hline(y=1 - beta, line_dash="dot", annotation_text=f"1 - beta = {1 - beta:.2f}")
+    fig.add_vline(x=n_needed, line_dash="dot", annotation_text=f"n = {n_needed}")
+    fig.update_layout(xaxis_title="panelists", yaxis_title="power", yaxis_range=[0, 1],
+                      height=320, margin={"l": 10, "r": 10, "t": 30, "b": 10})
     st.plotly_chart(fig, width="stretch")

@@ -20,6 +20,7 @@ module             holds
 ``answer_files``   response files in and out, the paper-entry grid
 ``archive``        whole-trial archives
 ``results``        analysis and decision from one snapshot, planning, power
+``profiles``       descriptive profiles (map, MANOVA, spider chart); rating power
 ``documents``      ballots, serving sheet, labels, report
 ``history``        the trials on file, searched; the control across trials
 =================  =================================================================
@@ -64,6 +65,15 @@ from trials.service.documents import (
 )
 from trials.service.history import control_names, control_trend, history
 from trials.service.panel import add_panelist, import_panelists, list_panelists
+from trials.service.profiles import (
+    PanelError,
+    panel_errors,
+    panelist_departures_of,
+    profile_attributes,
+    rating_panel_size_needed,
+    rating_power_curve,
+    trial_profile,
+)
 from trials.service.results import (
     analyse_trial,
     critical_values,
@@ -108,8 +118,8 @@ from trials.store.plans import TASTE_PATH
 
 __all__ = [
     "NO_PREFERENCE", "TASTE_PATH",
-    "AuditEntry", "BallotAnswer", "BallotSet", "PanelistBallot", "Store", "TrialOverview",
-    "TrialSummary",
+    "AuditEntry", "BallotAnswer", "BallotSet", "PanelError", "PanelistBallot", "Store",
+    "TrialOverview", "TrialSummary",
     "add_attribute", "add_batch", "add_panelist", "add_sample", "allergen_conflicts",
     "analyse_trial", "answer_progress", "audit_log", "ballot_for_token", "change_stamp",
     "check_paper_sheet", "control_names", "control_trend", "create_trial",
@@ -117,6 +127,8 @@ __all__ = [
     "export_bytes", "export_measures_bytes", "export_answers", "get_trial", "history",
     "import_archive", "import_batches", "import_panelists", "import_answers",
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
+    "panel_errors", "panelist_departures_of", "profile_attributes",
+    "rating_panel_size_needed", "rating_power_curve", "trial_profile",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
     "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
     "print_result", "record_answer", "record_decision", "enter_answer", "report_html",

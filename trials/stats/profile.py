@@ -528,6 +528,21 @@ class ProfileInteraction(Record):
                      if p.flags)
 
 
+def _flag(p: PanelistDeparture, min_agreement: float, lo: float, hi: float,
+          share: float) -> PanelistDeparture:
+    if p.share is None or p.share <= share:
+        return p
+    if p.r is not None and p.r < min_agreement:
+        why = (f"direction: {'reverses' if p.r < 0 else 'departs from'} the panel's order "
+               f"(r = {p.r:.2f})")
+    elif p.slope is not None and not lo <= p.slope <= hi:
+        why = (f"scale: {'narrower' if p.slope < lo else 'wider'} range than the panel "
+               f"(slope {p.slope:.2f})")
+    else:
+        return p
+    return PanelistDeparture(p.attribute, p.panelist, p.samples, p.r, p.slope, p.share, (why,))
+
+
 def panelist_interaction(
     data: pd.DataFrame,
     *,
@@ -539,6 +554,7 @@ def panelist_interaction(
     alpha: float = 0.05,
     min_agreement: float = 0.5,
     scale_range: tuple[float, float] = (0.5, 2.0),
+    min_share: float = 2.0,
 ) -> ProfileInteraction:
     """Sample x panelist interaction per attribute: which panelist disagrees, and how.
 
@@ -558,6 +574,10 @@ def panelist_interaction(
     scale_range : (low, high)
         A slope outside is flagged as a difference in scale (0.5, 2), when the
         direction agrees.
+    min_share : float
+        Only a panelist whose share of the interaction sum of squares exceeds
+        ``min_share / b`` (b panelists; twice the average share by default) is flagged,
+        and only on an attribute whose interaction is significant (or untested).
 
     Returns
     -------
@@ -610,16 +630,9 @@ def panelist_interaction(
                     r = float(np.corrcoef(xv, yv)[0, 1])
                 else:
                     r = 0.0
-            flags = []
-            if r is not None and r < min_agreement:
-                flags.append(f"direction: {'reverses' if r < 0 else 'departs from'} the "
-                             f"panel's order (r = {r:.2f})")
-            elif slope is not None and not lo <= slope <= hi:
-                flags.append(f"scale: {'narrower' if slope < lo else 'wider'} range than the "
-                             f"panel (slope {slope:.2f})")
             rows.append(PanelistDeparture(
                 c.attributes[a], c.panelists[j], int(ok.sum()), r, slope,
-                None if math.isnan(share[j]) else float(share[j]), tuple(flags)))
+                None if math.isnan(share[j]) else float(share[j]), ()))
         f_val = p_val = sig = None
         if replicate is not None:
             part = data[c.a_codes == a]
@@ -632,10 +645,14 @@ def panelist_interaction(
             if row is not None and row.F is not None and row.p is not None:
                 f_val, p_val = float(row.F), float(row.p)
                 sig = bool(p_val < alpha)
+        if sig is not False:  # flag only where the interaction is significant or untested
+            rows = [_flag(p, min_agreement, lo, hi, min_share / b) for p in rows]
         out.append(AttributeInteraction(c.attributes[a], f_val, p_val, sig, tuple(rows)))
-    rule = (f"house rule (no published source): direction when r < {min_agreement:g} with "
-            f"the other panelists' means; scale when r is above that and the slope is "
-            f"outside [{lo:g}, {hi:g}]")
+    rule = (f"house rule (no published source): where the attribute's sample x panelist "
+            f"interaction is significant at {alpha:g} (or untested, without replicates), a "
+            f"panelist carrying more than {min_share:g}/{b} of its sum of squares is flagged: "
+            f"in direction when r < {min_agreement:g} with the other panelists' means, "
+            f"else in scale when the slope is outside [{lo:g}, {hi:g}]")
     return ProfileInteraction(
         alpha=alpha, rule=rule, attributes=tuple(out),
         method=("per-panelist correlation and slope against the panel (assessor model, "
@@ -673,20 +690,23 @@ def descriptive_profile(
     """:func:`profile_means`, :func:`profile_pca`, :func:`profile_manova` and
     :func:`panelist_interaction` of one set of tidy ratings; a part that the data
     cannot support (too few samples or panelists) is None, with a note saying why."""
-    cols = dict(score=score, sample=sample, panelist=panelist, attribute=attribute)
-    means = profile_means(data, **cols)
+    means = profile_means(data, score=score, sample=sample, panelist=panelist,
+                          attribute=attribute)
     notes = []
     pca = manova = inter = None
     try:
-        pca = profile_pca(data, **cols, n_boot=n_boot, rng=rng)
+        pca = profile_pca(data, score=score, sample=sample, panelist=panelist,
+                          attribute=attribute, n_boot=n_boot, rng=rng)
     except TrialsError as exc:
         notes.append(f"no map: {exc}")
     try:
-        manova = profile_manova(data, **cols, alpha=alpha)
+        manova = profile_manova(data, score=score, sample=sample, panelist=panelist,
+                                attribute=attribute, alpha=alpha)
     except TrialsError as exc:
         notes.append(f"no MANOVA: {exc}")
     try:
-        inter = panelist_interaction(data, **cols, replicate=replicate, alpha=alpha)
+        inter = panelist_interaction(data, score=score, sample=sample, panelist=panelist,
+                                     attribute=attribute, replicate=replicate, alpha=alpha)
     except TrialsError as exc:
         notes.append(f"no panelist departures: {exc}")
     return DescriptiveProfile(means, pca, manova, inter, tuple(notes))
