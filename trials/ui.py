@@ -653,65 +653,23 @@ def count_chart(correct: int, n: int, critical: int | None, *, guess: float, lab
 
 # ---------------------------------------------------------------- profile charts
 
-PALETTE = ("#1f77b4", "#d62728", "#2ca02c", "#9467bd", "#ff7f0e", "#8c564b", "#e377c2",
-           "#7f7f7f", "#bcbd22", "#17becf")
-
-
 def biplot_chart(pca, *, title: str) -> None:
     """The profile map: samples with their bootstrap ellipses on components 1-2, and
-    the attributes' loadings as arrows (scaled to the samples' spread)."""
-    import plotly.graph_objects as go
+    the attributes' loadings as arrows (:func:`trials.printing.profile.biplot_figure`,
+    the report's figure)."""
+    from trials.printing.profile import biplot_figure
 
-    fig = go.Figure()
-    ellipses = {e.sample: e for e in pca.ellipses}
-    spread = max(max(abs(v) for v in pca.scores[s][:2]) for s in pca.samples)
-    spread = max([spread] + [max(max(map(abs, e.x)), max(map(abs, e.y))) for e in pca.ellipses])
-    reach = max(max(abs(v) for v in pca.loadings[a][:2]) for a in pca.attributes)
-    k = 0.9 * spread / reach if reach > 0 else 1.0
-    for a in pca.attributes:
-        x, y = pca.loadings[a][0] * k, pca.loadings[a][1] * k
-        fig.add_annotation(x=x, y=y, ax=0, ay=0, xref="x", yref="y", axref="x", ayref="y",
-                           showarrow=True, arrowhead=2, arrowwidth=1.2, arrowcolor="#888",
-                           text="")
-        fig.add_trace(go.Scatter(x=[x * 1.08], y=[y * 1.08], mode="text",
-                                 text=[chart_text(a)], textfont={"color": "#555", "size": 11},
-                                 hoverinfo="skip", showlegend=False))
-    for i, s in enumerate(pca.samples):
-        colour = PALETTE[i % len(PALETTE)]
-        if s in ellipses:
-            e = ellipses[s]
-            fig.add_trace(go.Scatter(x=list(e.x), y=list(e.y), mode="lines",
-                                     line={"color": colour, "width": 1}, fill="toself",
-                                     opacity=0.25, hoverinfo="skip", showlegend=False))
-        fig.add_trace(go.Scatter(x=[pca.scores[s][0]], y=[pca.scores[s][1]],
-                                 mode="markers+text", name=chart_text(s),
-                                 text=[chart_text(s)], textposition="top center",
-                                 marker={"size": 12, "color": colour}))
-    share = pca.explained
-    fig.update_layout(
-        title=chart_text(title), height=560, margin={"l": 10, "r": 10, "t": 40, "b": 10},
-        xaxis_title=f"component 1 ({share[0]:.0%} of the variance)",
-        yaxis_title=f"component 2 ({share[1]:.0%})" if len(share) > 1 else "",
-        yaxis={"scaleanchor": "x", "scaleratio": 1, "zeroline": True},
-        xaxis={"zeroline": True}, legend={"orientation": "h"},
-    )
+    fig = biplot_figure(pca, title=title)
+    fig.update_layout(margin={"l": 10, "r": 10, "t": 40, "b": 10})
     st.plotly_chart(fig, width="stretch")
 
 
 def radar_chart(means, *, low: float, high: float, title: str) -> None:
     """The spider chart: each sample's mean on every attribute, one closed line each."""
-    import plotly.graph_objects as go
+    from trials.printing.profile import radar_figure
 
-    attrs = [chart_text(a) for a in means.attributes]
-    fig = go.Figure()
-    for i, s in enumerate(means.samples):
-        r = [means.means[s][a] for a in means.attributes]
-        fig.add_trace(go.Scatterpolar(r=r + r[:1], theta=attrs + attrs[:1], mode="lines+markers",
-                                      name=chart_text(s),
-                                      line={"color": PALETTE[i % len(PALETTE)]}))
-    fig.update_layout(title=chart_text(title), height=520, legend={"orientation": "h"},
-                      polar={"radialaxis": {"range": [low, high]}},
-                      margin={"l": 40, "r": 40, "t": 50, "b": 10})
+    fig = radar_figure(means, low=low, high=high, title=title)
+    fig.update_layout(margin={"l": 40, "r": 40, "t": 50, "b": 10})
     st.plotly_chart(fig, width="stretch")
 
 

@@ -453,6 +453,12 @@ def _appendix(plan: Sequence[PlanEntry], responses: Sequence[Answer]) -> str:
 
 
 
+def _profile_scale(study: Trial, profile: Any) -> dict[str, float]:
+    scales = [(a.low, a.high) for a in study.attributes if a.name in profile.means.attributes]
+    return {"low": min((x[0] for x in scales), default=0),
+            "high": max((x[1] for x in scales), default=10)}
+
+
 def _prepared(study: Trial, analysis: TrialAnalysis,
               decision_text: Decision | str | None) -> tuple[TrialAnalysis, Decision]:
     """The analysis and the decision a report shows: the decision given, or made from
@@ -468,7 +474,7 @@ def _prepared(study: Trial, analysis: TrialAnalysis,
 def report_html(study: Trial, analysis: TrialAnalysis, *,
                 plan: Sequence[PlanEntry] = (), responses: Sequence[Answer] = (),
                 batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
-                generated_on: dt.date | None = None) -> str:
+                generated_on: dt.date | None = None, profile: Any = None) -> str:
     """The trial's report as one self-contained HTML document.
 
     Parameters
@@ -483,6 +489,9 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
         A plain string is printed as the headline.
     generated_on : date, optional
         Printed in the header (default: today).
+    profile : trials.stats.profile.DescriptiveProfile, optional
+        A rating trial's descriptive profile (three or more intensity attributes),
+        printed after the attributes (:mod:`trials.printing.profile`).
 
     Returns
     -------
@@ -518,6 +527,10 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
         body.append(_forced_choice_results(analysis, charts))
     elif analysis.attributes:
         body.append(_rating_results(analysis, charts))
+        if profile is not None:
+            from trials.printing.profile import profile_html
+
+            body.append(profile_html(profile, charts, **_profile_scale(study, profile)))
     else:
         body.append(_ranking_results(analysis, charts))
     if analysis.problems:
@@ -539,7 +552,7 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
 def report_pdf(study: Trial, analysis: TrialAnalysis, *,
                plan: Sequence[PlanEntry] = (), responses: Sequence[Answer] = (),
                batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
-               page: str = "A4") -> bytes:
+               page: str = "A4", profile: Any = None) -> bytes:
     """A printable summary of the report as PDF bytes (reportlab, embedded fonts).
 
     Objective, method and risks, the decision with its evidence and limits, the result
@@ -594,6 +607,10 @@ def report_pdf(study: Trial, analysis: TrialAnalysis, *,
     flow += [Paragraph(p(x), body) for x in decision.details]
     flow += [Paragraph(p(" ".join(decision.limits)), body)] if decision.limits else []
     flow += _pdf_results(analysis, p, body, h2, grid)
+    if profile is not None and analysis.has_answers:
+        from trials.printing.profile import profile_pdf
+
+        flow += profile_pdf(profile, p, body, h2, grid)
     flow += [Paragraph("Panel", h2),
              kv([("panelists planned", analysis.panelists_planned),
                  ("panelists who answered", analysis.panelists_answered),

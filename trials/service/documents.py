@@ -1,6 +1,7 @@
 """Use cases of documents: the printed ballots, serving sheet and cup labels, and the
 trial's report (HTML) and printable summary (PDF). Each reads the trial in one
-snapshot (:func:`trials.service.results.trial_file`) and analyses it once."""
+snapshot (:func:`trials.service.results.trial_file`) and analyses it once; a rating
+trial with three or more intensity attributes also gets its descriptive profile."""
 
 from __future__ import annotations
 
@@ -60,12 +61,14 @@ def print_document(store: Store, trial_id: int, kind: str, path: Path, *,
 def _report(store: Store, trial_id: int, build):
     """One snapshot, one analysis, one decision, and the document ``build`` makes."""
     from trials.decision import decide
+    from trials.service.profiles import profile_of_file
 
     f = trial_file(store, trial_id)
     analysis = analyse_file(f)
     decision = decide(analysis, study=f.study)
     doc = build(f.study, analysis, plan=list(f.plan), responses=list(f.responses),
-                batches=list(f.batches), decision_text=decision)
+                batches=list(f.batches), decision_text=decision,
+                profile=profile_of_file(f) if analysis.has_answers else None)
     return doc, decision
 
 
