@@ -69,7 +69,9 @@ def _profile_section() -> None:
                 f"sample means ({pca.method}). Arrows: each attribute's correlation with the "
                 f"components, scaled to the map. Shaded: {pca.level:.0%} ellipses from "
                 f"{pca.n_boot} virtual panels ({pca.bootstrap}). Samples whose ellipses do "
-                "not overlap are told apart on this map.")
+                "not overlap are told apart on this map. On the correlation matrix every "
+                "attribute weighs the same, also one on which the samples barely differ: "
+                "read its arrow with its analysis of variance above.")
             if pca.left_out:
                 st.caption("Left out (the same mean for every sample): "
                            + ui.literal(", ".join(pca.left_out)))
