@@ -87,12 +87,20 @@ def _profile_section() -> None:
         if pca is not None:
             c1, c2 = st.columns(2)
             c1.markdown("**Variance per component**")
-            c1.dataframe(pca.variance_frame(), hide_index=True, width="stretch")
+            c1.dataframe(pca.variance_frame(), hide_index=True, width="stretch", column_config={
+                "eigenvalue": st.column_config.NumberColumn(format="%.3f"),
+                "share": st.column_config.NumberColumn(format="percent"),
+                "cumulative": st.column_config.NumberColumn(format="percent")})
             c2.markdown("**Loadings** (correlation with the component)")
             c2.dataframe(pca.loadings_frame().round(3), width="stretch")
         if mv is not None:
             st.markdown("**MANOVA of the samples, panelists as blocks**")
-            st.dataframe(mv.to_frame(), width="stretch")
+            st.dataframe(mv.to_frame(), width="stretch", column_config={
+                "value": st.column_config.NumberColumn(format="%.4f"),
+                "num_df": st.column_config.NumberColumn(format="%g"),
+                "den_df": st.column_config.NumberColumn(format="%.1f"),
+                "F": st.column_config.NumberColumn(format="%.2f"),
+                "p_value": st.column_config.NumberColumn(format="%.2e")})
             st.caption(mv.method)
 
 
