@@ -298,3 +298,13 @@ def test_descriptive_profile_says_why_a_part_is_missing():
     full = descriptive_profile(_profile(), replicate="replicate", n_boot=50)
     assert full.pca is not None and full.manova is not None and not full.notes
     assert set(full.to_dict()) == {"means", "pca", "manova", "interaction", "notes"}
+
+
+def test_no_panelist_is_flagged_where_the_interaction_is_not_significant():
+    # the house rule flags only on an attribute whose interaction test rejects; without
+    # departures in the invented data most attributes do not reject
+    res = panelist_interaction(_profile(panelists=8, seed=9), replicate="replicate")
+    quiet = [at for at in res.attributes if at.significant is False]
+    assert quiet
+    assert all(not p.flags for at in quiet for p in at.panelists)
+    assert all(p.r is not None for at in quiet for p in at.panelists)  # still reported
