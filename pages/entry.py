@@ -1,13 +1,17 @@
-"""Paper entry: type the answers of paper ballots into a grid that checks as you type.
+"""Paper entry: type the answers of paper ballots into a grid, then check and save them
+as one batch.
 
-Tab and Enter move between cells. Every answer is checked against the serving plan
-(codes must be ones served to that panelist) and the scales before anything is saved.
+The grid sits in a form: typing, Tab and Enter stay in the browser (no rerun per cell,
+so no keystroke is lost or lands in another row). "Check and save" sends the grid at
+once; every answer is checked against the serving plan (codes served to that panelist,
+in that set) and the scales, rows are matched by panelist and set or code, and either
+every answer is saved or none, with each bad cell named by panelist and column.
 """
 
 import streamlit as st
 
 from trials import service, ui
-from trials.answers import most_cups
+from trials.answers import most_cups, sheet_changes
 from trials.errors import ImportRowsError, TrialsError
 from trials.methods import Family
 
@@ -15,6 +19,7 @@ ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Paper entry: {ui.literal(study.name)}")
+ui.show_flash()
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
     st.stop()
@@ -25,12 +30,14 @@ if len(sessions) > 1:
     session = c1.selectbox("Session", sessions, index=len(sessions) - 1)
 else:
     c2, session = st.container(), sessions[0]
-base = service.paper_sheet(store, trial_id, session)
+base = service.paper_sheet(store, trial_id, session, as_text=True)
 panelists = sorted(base["panelist"].unique())
 who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}",
-                            help="Type a panelist code to enter one ballot at a time.")
+                            help="Type a panelist code to enter one ballot at a time. "
+                                 "Save first: changing this drops what is not saved.")
 if who_filter:
     base = base[base["panelist"].isin(who_filter)].reset_index(drop=True)
+names = [a.name for a in study.attributes]
 
 config = {
     "panelist": st.column_config.TextColumn("panelist", disabled=True),
@@ -40,56 +47,54 @@ if spec.is_forced_choice:
     st.caption(f"{spec.question} Type the circled code"
                + (f" (the {'two' if spec.choose == 2 else spec.choose} codes of the group, "
                   "separated by a space)." if spec.choose > 1 else "."))
-    extra = max(1, spec.choose - 1)  # one code, or a group of codes, each three digits
     config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
     config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
     config["chosen"] = st.column_config.TextColumn(
-        "chosen code", validate=rf"^\s*\d{{3}}(\s+\d{{3}}){{0,{extra}}}\s*$",
-        max_chars=4 * (extra + 1) - 1,
-        help="The code the panelist circled.")
+        "chosen code", help="The code the panelist circled: one of the cups served.")
     if spec.allows_no_preference:
         config["no_preference"] = st.column_config.CheckboxColumn("no preference")
 elif spec.family == Family.RATING:
-    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
+    config["code"] = st.column_config.TextColumn("code", disabled=True)
     for a in study.attributes:
-        config[a.name] = st.column_config.NumberColumn(
-            a.name, min_value=a.low, max_value=a.high, step=1,
-            help=f"{ui.literal(a.kind)}, whole points {a.low} to {a.high}")
+        config[a.name] = st.column_config.TextColumn(
+            a.name, help=f"{ui.literal(a.kind)}, whole points {a.low} to {a.high}")
 else:
     k = most_cups(base)  # the cups a panelist got: fewer than the samples in incomplete blocks
-    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
-    config["rank"] = st.column_config.NumberColumn("rank", min_value=1, max_value=k, step=1,
-                                                   help="1 = most")
+    config["code"] = st.column_config.TextColumn("code", disabled=True)
+    config["rank"] = st.column_config.TextColumn("rank", help=f"1 = most, up to {k}")
 
-edited = st.data_editor(
-    base, column_config=config, hide_index=True, width="stretch",
-    key=f"paper_{trial_id}_{session}_{'-'.join(who_filter)}_{st.session_state.get('paper_gen', 0)}",
-    num_rows="fixed",
-    height=min(36 * (len(base) + 1) + 3, 560),
-)
+st.caption("Type into the grid (Enter or Tab moves on); nothing is sent until "
+           "**Check and save**. A blank cell leaves what is on file.")
+gen = st.session_state.get("paper_gen", 0)
+with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to_submit=False,
+             border=False):
+    edited = st.data_editor(
+        base, column_config=config, hide_index=True, width="stretch",
+        key=f"paper_{trial_id}_{session}_{'-'.join(who_filter)}_{gen}",
+        num_rows="fixed",
+        height=min(36 * (len(base) + 1) + 3, 560),
+    )
+    submitted = st.form_submit_button("Check and save", type="primary", icon=":material/save:")
 
-problems = service.check_paper_sheet(store, trial_id, session, edited)
-changed_rows = int((edited.astype("string").fillna("") != base.astype("string").fillna(""))
-                   .any(axis=1).sum())
-if problems:
-    st.error(f"{len(problems)} problem(s); nothing is saved until they are fixed:\n\n"
-             + "\n".join(f"- {ui.literal(p)}" for p in problems[:30]))
-elif changed_rows:
-    st.success(f"{changed_rows} row(s) changed; every answer checks out.")
-save = st.button("Save the answers", type="primary", disabled=bool(problems) or not changed_rows,
-                 icon=":material/save:")
-if save:
-    try:
-        n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
-    except ImportRowsError as exc:
-        ui.show_problem(exc)
-    except TrialsError as exc:
-        ui.show_problem(exc)
+if submitted:
+    changed = sheet_changes(spec, base, edited, names)
+    if not changed:
+        st.info("Nothing changed in the grid; nothing to save.")
     else:
-        ui.changed()
-        st.session_state["paper_gen"] = st.session_state.get("paper_gen", 0) + 1
-        st.toast(f"{n} answers on file.", icon=":material/check:")
-        st.rerun()
+        try:
+            n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
+        except ImportRowsError as exc:
+            ui.show_problem(exc)
+            st.caption("The grid keeps what you typed: correct the cells named above and press "
+                       "Check and save again.")
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.changed()
+            st.session_state["paper_gen"] = gen + 1
+            ui.flash(f"Saved {len(changed)} changed row(s) of session {ui.literal(session)}; "
+                     f"every answer checks out ({n} answers in the grid on file).")
+            st.rerun()
 
 progress = service.answer_progress(store, trial_id)
 if not progress.empty:

@@ -451,8 +451,33 @@ def release_key_downloads() -> None:
 
 
 def show_problem(exc: Exception) -> None:
-    """A bad input, said plainly (the message names the value and what was expected)."""
+    """A bad input, said plainly (the message names the value and what was expected).
+    A file or grid with many bad rows says how many and what was done, then lists the
+    first 20 as bullets, each on its own line, and how many more."""
+    from trials.errors import ImportRowsError, problem_lines
+
+    if isinstance(exc, ImportRowsError):
+        items = "\n".join(f"- {literal(p)}" for p in problem_lines(exc.problems))
+        st.error(f"**{literal(exc.head)}:**\n\n{items}")
+        return
     st.error(literal(str(exc), lines=True))
+
+
+FLASH_KEY = "_flash"
+
+
+def flash(text: str) -> None:
+    """Say ``text`` (already made safe with :func:`literal`) at the top of the next run:
+    for a success that is followed by ``st.rerun()``, so the screen shows what was
+    saved and reads the store afresh."""
+    st.session_state[FLASH_KEY] = text
+
+
+def show_flash() -> None:
+    """Show (once) what :func:`flash` left for this run."""
+    text = st.session_state.pop(FLASH_KEY, None)
+    if text:
+        st.success(text, icon=":material/check:")
 
 
 @st.cache_resource(show_spinner="Analysing...", max_entries=16)

@@ -31,6 +31,26 @@ def add_panelist(
         tx, code, allergens=declared, restrictions=restrictions, consent_on=consent, by=by))
 
 
+def update_panelist(
+    store: Store,
+    code: str,
+    *,
+    allergens: Iterable[str] | str = (),
+    restrictions: str = "",
+    consent_on: dt.date | str | None = None,
+    by: str = "leader",
+) -> Panelist:
+    """Change a panelist's declared allergens, other restrictions and date of informed
+    consent (None: no consent on record). Every changed field is audited (old and new
+    value); the allergen checks of the serving plan read the new declaration."""
+    code = _input.name(code, "a panelist code")
+    consent = _input.as_date(consent_on, "consent_on")
+    declared = _input.allergens(allergens)
+    return store.write(lambda tx: panel_rows.update_panelist(
+        tx, code, allergens=declared, restrictions=str(restrictions or "").strip(),
+        consent_on=consent, by=by))
+
+
 def list_panelists(store: Store, trial_id: int | None = None) -> list[Panelist]:
     """The roster, or (with ``trial_id``) the panelists in that trial's plan."""
     with store.read() as tx:

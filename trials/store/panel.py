@@ -60,3 +60,19 @@ def store_roster(s: Session, parsed: Sequence[tuple[str, tuple[str, ...], str, d
                 rows.audit(s, None, by, "panelist", row.id, key, getattr(row, key), value)
                 setattr(row, key, value)
     return len(parsed)
+
+
+def update_panelist(s: Session, code: str, *, allergens: Sequence[str], restrictions: str,
+                    consent_on: dt.date | None, by: str) -> Panelist:
+    """Change a panelist's declared allergens, restrictions and consent date; each field
+    that changes is audited with its old and new value."""
+    row = s.scalars(sa.select(PanelistRow).where(PanelistRow.code == code)).first()
+    if row is None:
+        raise TrialsError(f"no panelist with code {code!r} on the roster")
+    for key, value in (("allergens", rows.join(allergens)), ("restrictions", restrictions or ""),
+                       ("consent_on", consent_on)):
+        if getattr(row, key) != value:
+            rows.audit(s, None, by, "panelist", row.id, key, getattr(row, key), value)
+            setattr(row, key, value)
+    s.flush()
+    return rows.panelist_record(row)
