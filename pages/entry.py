@@ -1,17 +1,19 @@
-"""Paper entry: type the answers of paper ballots into a grid, then check and save them
-as one batch.
+"""Paper entry: type the answers of paper ballots into a grid of plain text boxes, then
+check and save them as one batch.
 
-The grid sits in a form: typing, Tab and Enter stay in the browser (no rerun per cell,
-so no keystroke is lost or lands in another row). "Check and save" sends the grid at
-once; every answer is checked against the serving plan (codes served to that panelist,
-in that set) and the scales, rows are matched by panelist and set or code, and either
-every answer is saved or none, with each bad cell named by panelist and column.
+The grid is a form of ordinary text boxes, one per answer cell, each keyed by panelist
+code and set or cup code (never by its place). Typing and Tab stay in the browser: no
+rerun per cell, so no keystroke is lost or lands in another row. "Check and save" sends
+the page at once; every answer is checked against the serving plan (a code served to
+that panelist, in that set) and the scales, and either every answer is saved or none,
+each bad cell named by panelist and column. A page holds at most 60 rows of whole
+ballots.
 """
 
 import streamlit as st
 
 from trials import service, ui
-from trials.answers import most_cups, sheet_changes
+from trials.answers import most_cups, sheet_changes, sheet_key, sheet_pages
 from trials.errors import ImportRowsError, TrialsError
 from trials.methods import Family
 
@@ -25,67 +27,74 @@ if not overview.plan_size:
     st.stop()
 
 sessions = list(overview.sessions)
-if len(sessions) > 1:
-    c1, c2 = st.columns([1, 3])
-    session = c1.selectbox("Session", sessions, index=len(sessions) - 1)
+c1, c2 = st.columns([1, 3])
+session = (c1.selectbox("Session", sessions, index=len(sessions) - 1) if len(sessions) > 1
+           else sessions[0])
+whole = service.paper_sheet(store, trial_id, session, as_text=True)
+pages = sheet_pages(whole)
+if len(pages) > 1:
+    page_no = c2.selectbox(
+        "Ballots", range(len(pages)), key=f"entry_page_{trial_id}_{session}",
+        format_func=lambda i: f"page {i + 1} of {len(pages)}: panelists {pages[i][0]} to "
+                              f"{pages[i][-1]}",
+        help="Save a page before you turn to the next: what is not saved is dropped.")
+    base = whole[whole["panelist"].isin(pages[page_no])].reset_index(drop=True)
 else:
-    c2, session = st.container(), sessions[0]
-base = service.paper_sheet(store, trial_id, session, as_text=True)
-panelists = sorted(base["panelist"].unique())
-who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}",
-                            help="Type a panelist code to enter one ballot at a time. "
-                                 "Save first: changing this drops what is not saved.")
-if who_filter:
-    base = base[base["panelist"].isin(who_filter)].reset_index(drop=True)
+    base = whole
 names = [a.name for a in study.attributes]
 
-config = {
-    "panelist": st.column_config.TextColumn("panelist", disabled=True),
-    "position": st.column_config.NumberColumn("position", disabled=True, width="small"),
-}
 if spec.is_forced_choice:
     st.caption(f"{spec.question} Type the circled code"
                + (f" (the {'two' if spec.choose == 2 else spec.choose} codes of the group, "
                   "separated by a space)." if spec.choose > 1 else "."))
-    config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
-    config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
-    config["chosen"] = st.column_config.TextColumn(
-        "chosen code", help="The code the panelist circled: one of the cups served.")
+    fixed = [("panelist", "panelist"), ("set", "set"), ("cups", "cups served")]
+    entry = [("chosen", "chosen code")]
     if spec.allows_no_preference:
-        config["no_preference"] = st.column_config.CheckboxColumn("no preference")
+        entry.append(("no_preference", "no preference"))
 elif spec.family == Family.RATING:
-    config["code"] = st.column_config.TextColumn("code", disabled=True)
-    for a in study.attributes:
-        config[a.name] = st.column_config.TextColumn(
-            a.name, help=f"{ui.literal(a.kind)}, whole points {a.low} to {a.high}")
+    fixed = [("panelist", "panelist"), ("position", "position"), ("code", "code")]
+    entry = [(a.name, f"{a.name} ({a.low} to {a.high})") for a in study.attributes]
 else:
-    k = most_cups(base)  # the cups a panelist got: fewer than the samples in incomplete blocks
-    config["code"] = st.column_config.TextColumn("code", disabled=True)
-    config["rank"] = st.column_config.TextColumn("rank", help=f"1 = most, up to {k}")
+    fixed = [("panelist", "panelist"), ("position", "position"), ("code", "code")]
+    entry = [("rank", f"rank (1 = most, up to {most_cups(base)})")]
 
-st.caption("Type into the grid (Enter or Tab moves on); nothing is sent until "
-           "**Check and save**. A blank cell leaves what is on file.")
+st.caption("Type into the boxes; Tab moves to the next one. Nothing is sent until "
+           "**Check and save**; a blank box leaves what is on file.")
 gen = st.session_state.get("paper_gen", 0)
-with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to_submit=False,
-             border=False):
-    edited = st.data_editor(
-        base, column_config=config, hide_index=True, width="stretch",
-        key=f"paper_{trial_id}_{session}_{'-'.join(who_filter)}_{gen}",
-        num_rows="fixed",
-        height=min(36 * (len(base) + 1) + 3, 560),
-    )
+widths = [1.2, 0.8, 2.2] + [1.6] * len(entry)
+edited = base.copy()
+with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to_submit=False):
+    head = st.columns(widths, vertical_alignment="bottom")
+    for col, (_, label) in zip(head, fixed + entry):
+        col.markdown(f"**{ui.literal(label)}**")
+    for i, rec in enumerate(base.to_dict("records")):
+        key = sheet_key(spec, rec)
+        cols = st.columns(widths, vertical_alignment="center")
+        for col, (name, _) in zip(cols, fixed):
+            col.markdown(ui.literal(rec[name]))
+        for col, (name, label) in zip(cols[len(fixed):], entry):
+            widget_key = f"paper_{trial_id}_{session}_{gen}_{key[0]}_{key[1]}_{name}"
+            where = f"{label}, panelist {key[0]}, {'set' if spec.is_forced_choice else 'code'} "
+            where += key[1]
+            if name == "no_preference":
+                edited.at[i, name] = col.checkbox(ui.literal(where), value=bool(rec[name]),
+                                                  key=widget_key, label_visibility="collapsed")
+            else:
+                edited.at[i, name] = col.text_input(ui.literal(where), value=rec[name] or "",
+                                                    key=widget_key,
+                                                    label_visibility="collapsed")
     submitted = st.form_submit_button("Check and save", type="primary", icon=":material/save:")
 
 if submitted:
     changed = sheet_changes(spec, base, edited, names)
     if not changed:
-        st.info("Nothing changed in the grid; nothing to save.")
+        st.info("Nothing changed on this page; nothing to save.")
     else:
         try:
             n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
         except ImportRowsError as exc:
             ui.show_problem(exc)
-            st.caption("The grid keeps what you typed: correct the cells named above and press "
+            st.caption("The boxes keep what you typed: correct the cells named above and press "
                        "Check and save again.")
         except TrialsError as exc:
             ui.show_problem(exc)
@@ -93,7 +102,7 @@ if submitted:
             ui.changed()
             st.session_state["paper_gen"] = gen + 1
             ui.flash(f"Saved {len(changed)} changed row(s) of session {ui.literal(session)}; "
-                     f"every answer checks out ({n} answers in the grid on file).")
+                     f"every answer checks out ({n} answers of this page on file).")
             st.rerun()
 
 progress = service.answer_progress(store, trial_id)

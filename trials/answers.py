@@ -540,3 +540,23 @@ def sheet_changes(spec: MethodSpec, before: pd.DataFrame, after: pd.DataFrame,
 
     old, new = cells(before), cells(after)
     return [k for k, v in new.items() if old.get(k) != v]
+
+
+def sheet_pages(frame: pd.DataFrame, most_rows: int = 60) -> list[tuple[str, ...]]:
+    """The panelists of a paper grid in pages of whole ballots: each page holds the
+    rows of consecutive panelists (in grid order), at most ``most_rows`` rows unless
+    one panelist alone has more. Empty for an empty grid."""
+    pages: list[tuple[str, ...]] = []
+    current: list[str] = []
+    rows = 0
+    if frame.empty:
+        return pages
+    counts = frame.groupby("panelist", sort=False).size()
+    for panelist, n in counts.items():
+        if current and rows + n > most_rows:
+            pages.append(tuple(current))
+            current, rows = [], 0
+        current.append(str(panelist))
+        rows += int(n)
+    pages.append(tuple(current))
+    return pages

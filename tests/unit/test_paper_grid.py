@@ -15,6 +15,7 @@ from trials.answers import (
     sheet_answers,
     sheet_changes,
     sheet_key,
+    sheet_pages,
     sheet_problems,
 )
 from trials.design.plan import serving_plan
@@ -128,3 +129,12 @@ def test_changes_are_found_by_key_and_only_in_answer_cells():
     assert sheet_changes(spec, before, after.iloc[::-1], ["liking"]) == [
         (after.loc[2, "panelist"], after.loc[2, "code"])]
     assert sheet_changes(spec, before, before, ["liking"]) == []
+
+
+def test_pages_hold_whole_ballots_of_at_most_sixty_rows():
+    spec, plan, _ = _rating()
+    grid = paper_sheet(spec, plan, [], ["liking"], as_text=True)  # two panelists, two cups
+    assert sheet_pages(grid, most_rows=3) == [("P01",), ("P02",)]
+    assert sheet_pages(grid) == [("P01", "P02")]
+    assert sheet_pages(grid, most_rows=1) == [("P01",), ("P02",)]  # a ballot is never split
+    assert sheet_pages(grid.iloc[0:0]) == []
