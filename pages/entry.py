@@ -116,10 +116,12 @@ with st.expander("Import answers from a file", icon=":material/upload_file:"):
     up = st.file_uploader("Answer file", type=["csv", "txt", "xlsx"], key="resp_file")
     if up is not None and st.button("Import the answers"):
         try:
-            n = service.import_answers(store, trial_id, up.getvalue(), entered_by=ui.who(),
-                                         name=up.name)
+            done = service.import_answer_file(store, trial_id, up.getvalue(),
+                                              entered_by=ui.who(), name=up.name)
         except TrialsError as exc:
             ui.show_problem(exc)
         else:
             ui.changed()
-            st.success(f"{n} answers imported.")
+            st.session_state["paper_gen"] = gen + 1  # the grid shows the imported answers
+            ui.flash(ui.literal(done.message()))
+            st.rerun()
