@@ -473,6 +473,14 @@ def flash(text: str) -> None:
     st.session_state[FLASH_KEY] = text
 
 
+def clear_fields(*keys: str) -> None:
+    """Forget the typed values of the widgets keyed ``keys`` (call after a successful
+    save, then ``st.rerun()``): a form that keeps its values on an error
+    (``clear_on_submit=False``) starts empty again only when its work is done."""
+    for key in keys:
+        st.session_state.pop(key, None)
+
+
 def show_flash() -> None:
     """Show (once) what :func:`flash` left for this run."""
     text = st.session_state.pop(FLASH_KEY, None)

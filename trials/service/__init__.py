@@ -65,7 +65,13 @@ from trials.service.documents import (
     write_report,
 )
 from trials.service.history import control_names, control_trend, history
-from trials.service.panel import add_panelist, import_panelists, list_panelists, update_panelist
+from trials.service.panel import (
+    add_panelist,
+    import_panelists,
+    list_panelists,
+    roster_audit,
+    update_panelist,
+)
 from trials.service.results import (
     analyse_trial,
     critical_values,
@@ -122,7 +128,8 @@ __all__ = [
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
     "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
-    "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
+    "print_result", "record_answer", "record_decision", "roster_audit", "enter_answer",
+    "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
     "sign_off_batch", "trial_decision", "trial_overview", "update_panelist", "update_trial",
     "write_report",

@@ -8,7 +8,7 @@ from collections.abc import Iterable
 from pathlib import Path
 
 from trials.errors import ImportRowsError, TrialsError
-from trials.model import Panelist
+from trials.model import AuditEntry, Panelist
 from trials.service import _input
 from trials.store import Store
 from trials.store import panel as panel_rows
@@ -49,6 +49,13 @@ def update_panelist(
     return store.write(lambda tx: panel_rows.update_panelist(
         tx, code, allergens=declared, restrictions=str(restrictions or "").strip(),
         consent_on=consent, by=by))
+
+
+def roster_audit(store: Store, code: str | None = None) -> list[AuditEntry]:
+    """Every change to the roster (additions, allergens, restrictions, consent), oldest
+    first; with ``code``, one panelist's."""
+    with store.read() as tx:
+        return panel_rows.roster_audit(tx, code)
 
 
 def list_panelists(store: Store, trial_id: int | None = None) -> list[Panelist]:

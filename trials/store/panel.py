@@ -10,9 +10,9 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.errors import TrialsError
-from trials.model import Panelist
+from trials.model import AuditEntry, Panelist
 from trials.store import rows
-from trials.store.schema import PanelistRow, PlanEntryRow, SessionRow
+from trials.store.schema import AuditRow, PanelistRow, PlanEntryRow, SessionRow
 
 
 def add_panelist(s: Session, code: str, *, allergens: Sequence[str], restrictions: str,
@@ -76,3 +76,14 @@ def update_panelist(s: Session, code: str, *, allergens: Sequence[str], restrict
             setattr(row, key, value)
     s.flush()
     return rows.panelist_record(row)
+
+
+def roster_audit(s: Session, code: str | None = None) -> list[AuditEntry]:
+    """The roster's audit entries (under no trial), oldest first; with ``code``, that
+    panelist's only."""
+    q = sa.select(AuditRow).where(AuditRow.study_id.is_(None), AuditRow.table_name == "panelist")
+    if code is not None:
+        q = q.where(AuditRow.row_id == sa.select(PanelistRow.id)
+                    .where(PanelistRow.code == code).scalar_subquery())
+    return [AuditEntry(r.at, r.who, r.table_name, r.row_id, r.field, r.old_value, r.new_value)
+            for r in s.scalars(q.order_by(AuditRow.id)).all()]
