@@ -69,6 +69,8 @@ def update_panelist(s: Session, code: str, *, allergens: Sequence[str], restrict
     row = s.scalars(sa.select(PanelistRow).where(PanelistRow.code == code)).first()
     if row is None:
         raise TrialsError(f"no panelist with code {code!r} on the roster")
+    if set(rows.split(row.allergens)) == set(allergens):
+        allergens = rows.split(row.allergens)  # the same allergens in another order: no change
     for key, value in (("allergens", rows.join(allergens)), ("restrictions", restrictions or ""),
                        ("consent_on", consent_on)):
         if getattr(row, key) != value:
