@@ -21,7 +21,6 @@ ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Paper entry: {ui.literal(study.name)}")
-ui.show_flash()
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
     st.stop()
@@ -31,7 +30,9 @@ c1, c2 = st.columns([1, 3])
 session = (c1.selectbox("Session", sessions, index=len(sessions) - 1) if len(sessions) > 1
            else sessions[0])
 whole = service.paper_sheet(store, trial_id, session, as_text=True)
-pages = sheet_pages(whole)
+boxes_per_row = len(study.attributes) if spec.family == Family.RATING else 1
+# at most about 120 boxes a page (whole ballots): a page of many more reruns slowly
+pages = sheet_pages(whole, most_rows=min(60, max(4, 120 // max(1, boxes_per_row))))
 if len(pages) > 1:
     page_no = c2.selectbox(
         "Ballots", range(len(pages)), key=f"entry_page_{trial_id}_{session}",
@@ -85,6 +86,7 @@ with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to
                                                     label_visibility="collapsed")
     submitted = st.form_submit_button("Check and save", type="primary", icon=":material/save:")
 
+ui.show_flash("grid")
 if submitted:
     changed = sheet_changes(spec, base, edited, names)
     if not changed:
@@ -102,7 +104,7 @@ if submitted:
             ui.changed()
             st.session_state["paper_gen"] = gen + 1
             ui.flash(f"Saved {len(changed)} changed row(s) of session {ui.literal(session)}; "
-                     f"every answer checks out ({n} answers of this page on file).")
+                     f"every answer checks out ({n} answers of this page on file).", "grid")
             st.rerun()
 
 progress = service.answer_progress(store, trial_id)
@@ -114,6 +116,7 @@ with st.expander("Import answers from a file", icon=":material/upload_file:"):
     st.caption("Tidy CSV or Excel: session, panelist, code, attribute, value (see the "
                "README). Every row is checked; on any bad row nothing is imported.")
     up = st.file_uploader("Answer file", type=["csv", "txt", "xlsx"], key="resp_file")
+    ui.show_flash("import")
     if up is not None and st.button("Import the answers"):
         try:
             done = service.import_answer_file(store, trial_id, up.getvalue(),
@@ -123,5 +126,5 @@ with st.expander("Import answers from a file", icon=":material/upload_file:"):
         else:
             ui.changed()
             st.session_state["paper_gen"] = gen + 1  # the grid shows the imported answers
-            ui.flash(ui.literal(done.message()))
+            ui.flash(ui.literal(done.message()), "import")
             st.rerun()

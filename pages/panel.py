@@ -11,7 +11,6 @@ from trials.errors import TrialsError
 ui.require_leader()
 store = ui.store()
 st.title("Panel")
-ui.show_flash()
 st.caption("Panelists are known by a code; no personal data is needed. The roster is "
            "shared by every trial.")
 
@@ -36,6 +35,7 @@ else:
 ADD_FIELDS = ("new_code", "new_allergens", "new_restrictions", "new_consented", "new_consent_on")
 
 with st.expander("Add a panelist", icon=":material/person_add:", expanded=not roster):
+    ui.show_flash("add")
     # the form keeps what was typed when the code is refused; it empties only on success
     with st.form("add_panelist", clear_on_submit=False):
         code = st.text_input("Code", placeholder="P01", key="new_code")
@@ -55,12 +55,13 @@ with st.expander("Add a panelist", icon=":material/person_add:", expanded=not ro
             else:
                 ui.changed()
                 ui.clear_fields(*ADD_FIELDS)
-                ui.flash(f"Panelist {ui.literal(added.code)} added to the roster.")
+                ui.flash(f"Panelist {ui.literal(added.code)} added to the roster.", "add")
                 st.rerun()
 
 if roster:
     with st.expander("Change a panelist's allergens or consent", icon=":material/edit:"):
         by_code = {p.code: p for p in roster}
+        ui.show_flash("edit")
         pick = st.selectbox("Panelist", list(by_code), index=None, key="edit_pick",
                             placeholder="Choose a panelist code")
         if pick is not None:
@@ -88,7 +89,7 @@ if roster:
                         ui.show_problem(exc)
                     else:
                         ui.changed()
-                        ui.flash(f"Panelist {ui.literal(pick)} updated.")
+                        ui.flash(f"Panelist {ui.literal(pick)} updated.", "edit")
                         st.rerun()
 
 with st.expander("Import a roster file", icon=":material/upload_file:"):
@@ -97,6 +98,7 @@ with st.expander("Import a roster file", icon=":material/upload_file:"):
                "or none.")
     up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"],
                           key=f"roster_file_{st.session_state.get('roster_gen', 0)}")
+    ui.show_flash("import")
     if up is not None and st.button("Import the roster"):
         try:
             n = service.import_panelists(store, ui.upload_path(up), by=ui.who())
@@ -105,7 +107,7 @@ with st.expander("Import a roster file", icon=":material/upload_file:"):
         else:
             ui.changed()
             st.session_state["roster_gen"] = st.session_state.get("roster_gen", 0) + 1
-            ui.flash(f"{n} panelists imported; the roster below is up to date.")
+            ui.flash(f"{n} panelists imported; the roster above is up to date.", "import")
             st.rerun()
 
 ui.food_caution()

@@ -174,6 +174,7 @@ if study.samples:
                    "optional prepared_on, prepared_by. All rows or none.")
         up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"],
                               key=f"batch_file_{st.session_state.get('batch_gen', 0)}")
+        ui.show_flash("import")
         if up is not None and st.button("Import the batch values"):
             try:
                 n = service.import_batches(store, trial_id, ui.upload_path(up), by=ui.who())
@@ -182,5 +183,5 @@ if study.samples:
             else:
                 ui.changed()
                 st.session_state["batch_gen"] = st.session_state.get("batch_gen", 0) + 1
-                ui.flash(f"{n} values imported; the batches above are up to date.")
+                ui.flash(f"{n} values imported; the batches above are up to date.", "import")
                 st.rerun()

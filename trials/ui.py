@@ -466,11 +466,12 @@ def show_problem(exc: Exception) -> None:
 FLASH_KEY = "_flash"
 
 
-def flash(text: str) -> None:
-    """Say ``text`` (already made safe with :func:`literal`) at the top of the next run:
-    for a success that is followed by ``st.rerun()``, so the screen shows what was
-    saved and reads the store afresh."""
-    st.session_state[FLASH_KEY] = text
+def flash(text: str, slot: str = "top") -> None:
+    """Say ``text`` (already made safe with :func:`literal`) in the next run, where the
+    page calls :func:`show_flash` with the same ``slot`` (beside the button pressed, so
+    a leader scrolled down sees it): for a success followed by ``st.rerun()``, so the
+    screen shows what was saved and reads the store afresh."""
+    st.session_state[f"{FLASH_KEY}_{slot}"] = text
 
 
 def clear_fields(*keys: str) -> None:
@@ -481,9 +482,9 @@ def clear_fields(*keys: str) -> None:
         st.session_state.pop(key, None)
 
 
-def show_flash() -> None:
-    """Show (once) what :func:`flash` left for this run."""
-    text = st.session_state.pop(FLASH_KEY, None)
+def show_flash(slot: str = "top") -> None:
+    """Show (once) what :func:`flash` left for this run in ``slot``."""
+    text = st.session_state.pop(f"{FLASH_KEY}_{slot}", None)
     if text:
         st.success(text, icon=":material/check:")
 

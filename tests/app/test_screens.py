@@ -338,12 +338,13 @@ def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials)
 def test_a_roster_file_imported_on_the_panel_screen_adds_its_panelists(app_db):
     at = _run("panel")
     csv = b"code,allergens,consent_on\nK01,sesame;egg,2026-03-01\nK02,,\n"
-    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.file_uploader[0].set_value(("roster.csv", csv, "text/csv"))
     at.run()
     by_label(at.button, "Import the roster").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert [s.value for s in at.success] == ["2 panelists imported."]
+    assert [s.value for s in at.success] == [
+        "2 panelists imported; the roster above is up to date."]
     roster = {p.code: p for p in service.list_panelists(service.open_store(app_db))}
     assert set(roster["K01"].allergens) == {"sesame", "egg"}
     assert roster["K01"].consented and not roster["K02"].consented
@@ -352,7 +353,7 @@ def test_a_roster_file_imported_on_the_panel_screen_adds_its_panelists(app_db):
 def test_a_bad_roster_file_names_the_row_and_imports_nothing(app_db):
     at = _run("panel")
     csv = b"code,consent_on\nK01,2026-03-01\nK02,first of March\n"
-    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.file_uploader[0].set_value(("roster.csv", csv, "text/csv"))
     at.run()
     by_label(at.button, "Import the roster").click()
     at.run()
