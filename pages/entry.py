@@ -1,13 +1,19 @@
-"""Paper entry: type the answers of paper ballots into a grid that checks as you type.
+"""Paper entry: type the answers of paper ballots into a grid of plain text boxes, then
+check and save them as one batch.
 
-Tab and Enter move between cells. Every answer is checked against the serving plan
-(codes must be ones served to that panelist) and the scales before anything is saved.
+The grid is a form of ordinary text boxes, one per answer cell, each keyed by panelist
+code and set or cup code (never by its place). Typing and Tab stay in the browser: no
+rerun per cell, so no keystroke is lost or lands in another row. "Check and save" sends
+the page at once; every answer is checked against the serving plan (a code served to
+that panelist, in that set) and the scales, and either every answer is saved or none,
+each bad cell named by panelist and column. A page holds at most 60 rows of whole
+ballots.
 """
 
 import streamlit as st
 
 from trials import service, ui
-from trials.answers import most_cups
+from trials.answers import most_cups, sheet_changes, sheet_key, sheet_pages
 from trials.errors import ImportRowsError, TrialsError
 from trials.methods import Family
 
@@ -20,76 +26,86 @@ if not overview.plan_size:
     st.stop()
 
 sessions = list(overview.sessions)
-if len(sessions) > 1:
-    c1, c2 = st.columns([1, 3])
-    session = c1.selectbox("Session", sessions, index=len(sessions) - 1)
+c1, c2 = st.columns([1, 3])
+session = (c1.selectbox("Session", sessions, index=len(sessions) - 1) if len(sessions) > 1
+           else sessions[0])
+whole = service.paper_sheet(store, trial_id, session, as_text=True)
+boxes_per_row = len(study.attributes) if spec.family == Family.RATING else 1
+# at most about 120 boxes a page (whole ballots): a page of many more reruns slowly
+pages = sheet_pages(whole, most_rows=min(60, max(4, 120 // max(1, boxes_per_row))))
+if len(pages) > 1:
+    page_no = c2.selectbox(
+        "Ballots", range(len(pages)), key=f"entry_page_{trial_id}_{session}",
+        format_func=lambda i: f"page {i + 1} of {len(pages)}: panelists {pages[i][0]} to "
+                              f"{pages[i][-1]}",
+        help="Save a page before you turn to the next: what is not saved is dropped.")
+    base = whole[whole["panelist"].isin(pages[page_no])].reset_index(drop=True)
 else:
-    c2, session = st.container(), sessions[0]
-base = service.paper_sheet(store, trial_id, session)
-panelists = sorted(base["panelist"].unique())
-who_filter = c2.multiselect("Panelists (empty: all)", panelists, key=f"entry_who_{session}",
-                            help="Type a panelist code to enter one ballot at a time.")
-if who_filter:
-    base = base[base["panelist"].isin(who_filter)].reset_index(drop=True)
+    base = whole
+names = [a.name for a in study.attributes]
 
-config = {
-    "panelist": st.column_config.TextColumn("panelist", disabled=True),
-    "position": st.column_config.NumberColumn("position", disabled=True, width="small"),
-}
 if spec.is_forced_choice:
     st.caption(f"{spec.question} Type the circled code"
                + (f" (the {'two' if spec.choose == 2 else spec.choose} codes of the group, "
                   "separated by a space)." if spec.choose > 1 else "."))
-    extra = max(1, spec.choose - 1)  # one code, or a group of codes, each three digits
-    config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
-    config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
-    config["chosen"] = st.column_config.TextColumn(
-        "chosen code", validate=rf"^\s*\d{{3}}(\s+\d{{3}}){{0,{extra}}}\s*$",
-        max_chars=4 * (extra + 1) - 1,
-        help="The code the panelist circled.")
+    fixed = [("panelist", "panelist"), ("set", "set"), ("cups", "cups served")]
+    entry = [("chosen", "chosen code")]
     if spec.allows_no_preference:
-        config["no_preference"] = st.column_config.CheckboxColumn("no preference")
+        entry.append(("no_preference", "no preference"))
 elif spec.family == Family.RATING:
-    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
-    for a in study.attributes:
-        config[a.name] = st.column_config.NumberColumn(
-            a.name, min_value=a.low, max_value=a.high, step=1,
-            help=f"{ui.literal(a.kind)}, whole points {a.low} to {a.high}")
+    fixed = [("panelist", "panelist"), ("position", "position"), ("code", "code")]
+    entry = [(a.name, f"{a.name} ({a.low} to {a.high})") for a in study.attributes]
 else:
-    k = most_cups(base)  # the cups a panelist got: fewer than the samples in incomplete blocks
-    config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
-    config["rank"] = st.column_config.NumberColumn("rank", min_value=1, max_value=k, step=1,
-                                                   help="1 = most")
+    fixed = [("panelist", "panelist"), ("position", "position"), ("code", "code")]
+    entry = [("rank", f"rank (1 = most, up to {most_cups(base)})")]
 
-edited = st.data_editor(
-    base, column_config=config, hide_index=True, width="stretch",
-    key=f"paper_{trial_id}_{session}_{'-'.join(who_filter)}_{st.session_state.get('paper_gen', 0)}",
-    num_rows="fixed",
-    height=min(36 * (len(base) + 1) + 3, 560),
-)
+st.caption("Type into the boxes; Tab moves to the next one. Nothing is sent until "
+           "**Check and save**; a blank box leaves what is on file.")
+gen = st.session_state.get("paper_gen", 0)
+widths = [1.2, 0.8, 2.2] + [1.6] * len(entry)
+edited = base.copy()
+with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to_submit=False):
+    head = st.columns(widths, vertical_alignment="bottom")
+    for col, (_, label) in zip(head, fixed + entry):
+        col.markdown(f"**{ui.literal(label)}**")
+    for i, rec in enumerate(base.to_dict("records")):
+        key = sheet_key(spec, rec)
+        cols = st.columns(widths, vertical_alignment="center")
+        for col, (name, _) in zip(cols, fixed):
+            col.markdown(ui.literal(rec[name]))
+        for col, (name, label) in zip(cols[len(fixed):], entry):
+            widget_key = f"paper_{trial_id}_{session}_{gen}_{key[0]}_{key[1]}_{name}"
+            where = f"{label}, panelist {key[0]}, {'set' if spec.is_forced_choice else 'code'} "
+            where += key[1]
+            if name == "no_preference":
+                edited.at[i, name] = col.checkbox(ui.literal(where), value=bool(rec[name]),
+                                                  key=widget_key, label_visibility="collapsed")
+            else:
+                edited.at[i, name] = col.text_input(ui.literal(where), value=rec[name] or "",
+                                                    key=widget_key,
+                                                    label_visibility="collapsed")
+    submitted = st.form_submit_button("Check and save", type="primary", icon=":material/save:")
 
-problems = service.check_paper_sheet(store, trial_id, session, edited)
-changed_rows = int((edited.astype("string").fillna("") != base.astype("string").fillna(""))
-                   .any(axis=1).sum())
-if problems:
-    st.error(f"{len(problems)} problem(s); nothing is saved until they are fixed:\n\n"
-             + "\n".join(f"- {ui.literal(p)}" for p in problems[:30]))
-elif changed_rows:
-    st.success(f"{changed_rows} row(s) changed; every answer checks out.")
-save = st.button("Save the answers", type="primary", disabled=bool(problems) or not changed_rows,
-                 icon=":material/save:")
-if save:
-    try:
-        n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
-    except ImportRowsError as exc:
-        ui.show_problem(exc)
-    except TrialsError as exc:
-        ui.show_problem(exc)
+ui.show_flash("grid")
+if submitted:
+    changed = sheet_changes(spec, base, edited, names)
+    if not changed:
+        st.info("Nothing changed on this page; nothing to save.")
     else:
-        ui.changed()
-        st.session_state["paper_gen"] = st.session_state.get("paper_gen", 0) + 1
-        st.toast(f"{n} answers on file.", icon=":material/check:")
-        st.rerun()
+        try:
+            n = service.save_paper_sheet(store, trial_id, session, edited, entered_by=ui.who())
+        except ImportRowsError as exc:
+            ui.show_problem(exc)
+            st.caption("The boxes keep what you typed: correct the cells named above and press "
+                       "Check and save again.")
+        except TrialsError as exc:
+            ui.show_problem(exc)
+        else:
+            ui.changed()
+            st.session_state["paper_gen"] = gen + 1
+            ui.flash(f"Saved {len(changed)} changed row(s) of session {ui.literal(session)}; "
+                     f"every answer checks out ({n} answers of this page on file).", "grid")
+            st.rerun()
 
 progress = service.answer_progress(store, trial_id)
 if not progress.empty:
@@ -100,12 +116,15 @@ with st.expander("Import answers from a file", icon=":material/upload_file:"):
     st.caption("Tidy CSV or Excel: session, panelist, code, attribute, value (see the "
                "README). Every row is checked; on any bad row nothing is imported.")
     up = st.file_uploader("Answer file", type=["csv", "txt", "xlsx"], key="resp_file")
+    ui.show_flash("import")
     if up is not None and st.button("Import the answers"):
         try:
-            n = service.import_answers(store, trial_id, up.getvalue(), entered_by=ui.who(),
-                                         name=up.name)
+            done = service.import_answer_file(store, trial_id, up.getvalue(),
+                                              entered_by=ui.who(), name=up.name)
         except TrialsError as exc:
             ui.show_problem(exc)
         else:
             ui.changed()
-            st.success(f"{n} answers imported.")
+            st.session_state["paper_gen"] = gen + 1  # the grid shows the imported answers
+            ui.flash(ui.literal(done.message()), "import")
+            st.rerun()

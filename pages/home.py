@@ -9,6 +9,7 @@ from trials.model import Sample, Status
 
 ui.require_leader()
 st.title("Trials")
+ui.show_flash()
 
 studies = service.list_trials(ui.store())
 
@@ -60,12 +61,17 @@ else:
 labels = {m.name: m.label for m in METHODS}
 with st.expander("Start a new trial", expanded=not studies, icon=":material/add:"):
     with st.form("new_trial", clear_on_submit=False):
-        name = st.text_input("Name", placeholder="e.g. Sourdough, 20 % rye against 10 %")
-        product = st.text_input("Product", placeholder="what the samples are variants of")
-        method = st.selectbox("Method", list(labels), format_func=labels.get)
-        objective = st.text_area("Objective", placeholder="the question this trial answers")
-        first = st.text_input("First sample (the control)", value="Control")
-        second = st.text_input("Second sample", value="Variant")
+        name = st.text_input("Name", placeholder="e.g. Sourdough, 20 % rye against 10 %",
+                             key="new_trial_name")
+        product = st.text_input("Product", placeholder="what the samples are variants of",
+                                key="new_trial_product")
+        method = st.selectbox("Method", list(labels), format_func=labels.get,
+                              key="new_trial_method")
+        objective = st.text_area("Objective", placeholder="the question this trial answers",
+                                 key="new_trial_objective")
+        first = st.text_input("First sample (the control)", value="Control",
+                              key="new_trial_first")
+        second = st.text_input("Second sample", value="Variant", key="new_trial_second")
         made = st.form_submit_button("Create the trial", type="primary")
     if made:
         try:
@@ -82,6 +88,10 @@ with st.expander("Start a new trial", expanded=not studies, icon=":material/add:
         else:
             ui.changed()
             ui.select_study(study.id)
-            st.success(f"Trial #{study.id} {ui.literal(study.name)} created. Go on with Trial "
-                       "set-up.")
+            ui.clear_fields("new_trial_name", "new_trial_product", "new_trial_method",
+                            "new_trial_objective", "new_trial_first", "new_trial_second")
+            # rerun, so that the list, the counters and the trial picker hold the new trial
+            ui.flash(f"Trial #{study.id} {ui.literal(study.name)} created. Go on with Trial "
+                     "set-up.")
+            st.rerun()
 ui.food_caution()

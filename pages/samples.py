@@ -14,6 +14,7 @@ ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Samples and batches: {ui.literal(study.name)}")
+ui.show_flash()
 ui.food_caution(trial_id)
 
 # ------------------------------------------------------------------ samples
@@ -28,13 +29,14 @@ if study.samples:
 if overview.plan_size:
     st.caption("The plan is drawn: samples are fixed.")
 else:
-    with st.form("add_sample", clear_on_submit=True):
+    # the forms keep what was typed when it is refused; they empty only on success
+    with st.form("add_sample", clear_on_submit=False):
         c1, c2 = st.columns([2, 1])
-        s_name = c1.text_input("Sample name")
-        s_control = c2.checkbox("This is the control")
+        s_name = c1.text_input("Sample name", key="new_sample_name")
+        s_control = c2.checkbox("This is the control", key="new_sample_control")
         s_allergens = st.text_input("Allergens it holds (comma-separated)",
-                                    placeholder="gluten, egg, milk")
-        s_desc = st.text_input("Description")
+                                    placeholder="gluten, egg, milk", key="new_sample_allergens")
+        s_desc = st.text_input("Description", key="new_sample_description")
         if st.form_submit_button("Add the sample"):
             try:
                 service.add_sample(store, trial_id, s_name, is_control=s_control,
@@ -43,6 +45,9 @@ else:
                 ui.show_problem(exc)
             else:
                 ui.changed()
+                ui.clear_fields("new_sample_name", "new_sample_control", "new_sample_allergens",
+                                "new_sample_description")
+                ui.flash(f"Sample {ui.literal(s_name.strip())} added.")
                 st.rerun()
 
 # ------------------------------------------------------------------ attributes
@@ -57,14 +62,15 @@ if spec.family == Family.RATING:
     if overview.responses:
         st.caption("Answers are on file: attributes are fixed.")
     else:
-        with st.form("add_attribute", clear_on_submit=True):
+        with st.form("add_attribute", clear_on_submit=False):
             c1, c2, c3, c4 = st.columns([2, 1, 1, 1])
-            a_name = c1.text_input("Attribute", placeholder="overall liking")
-            a_kind = c2.selectbox("Kind", [k.value for k in AttributeKind])
-            a_low = c3.number_input("Lowest point", 0, 10, 1)
-            a_high = c4.number_input("Highest point", 1, 15, 9)
+            a_name = c1.text_input("Attribute", placeholder="overall liking", key="new_attr_name")
+            a_kind = c2.selectbox("Kind", [k.value for k in AttributeKind], key="new_attr_kind")
+            a_low = c3.number_input("Lowest point", 0, 10, 1, key="new_attr_low")
+            a_high = c4.number_input("Highest point", 1, 15, 9, key="new_attr_high")
             a_anchors = st.text_input("Anchors (the two ends, or every point, separated by ;)",
-                                      placeholder="dislike extremely; like extremely")
+                                      placeholder="dislike extremely; like extremely",
+                                      key="new_attr_anchors")
             if st.form_submit_button("Add the attribute"):
                 anchors = [x.strip() for x in a_anchors.split(";") if x.strip()]
                 try:
@@ -74,6 +80,9 @@ if spec.family == Family.RATING:
                     ui.show_problem(exc)
                 else:
                     ui.changed()
+                    ui.clear_fields("new_attr_name", "new_attr_kind", "new_attr_low",
+                                    "new_attr_high", "new_attr_anchors")
+                    ui.flash(f"Attribute {ui.literal(a_name.strip())} added.")
                     st.rerun()
 
 # ------------------------------------------------------------------ batches
@@ -163,7 +172,9 @@ if study.samples:
     with st.expander("Import batch values from a file", icon=":material/upload_file:"):
         st.caption("Columns: sample, batch, kind (setting or measure), name, value, unit; "
                    "optional prepared_on, prepared_by. All rows or none.")
-        up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"], key="batch_file")
+        up = st.file_uploader("CSV or Excel", type=["csv", "txt", "xlsx"],
+                              key=f"batch_file_{st.session_state.get('batch_gen', 0)}")
+        ui.show_flash("import")
         if up is not None and st.button("Import the batch values"):
             try:
                 n = service.import_batches(store, trial_id, ui.upload_path(up), by=ui.who())
@@ -171,4 +182,6 @@ if study.samples:
                 ui.show_problem(exc)
             else:
                 ui.changed()
-                st.success(f"{n} values imported.")
+                st.session_state["batch_gen"] = st.session_state.get("batch_gen", 0) + 1
+                ui.flash(f"{n} values imported; the batches above are up to date.", "import")
+                st.rerun()

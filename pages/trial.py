@@ -11,6 +11,7 @@ ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
 st.title(f"Trial set-up: {ui.literal(study.name)}")
+ui.show_flash()
 st.caption(f"Trial #{study.id} · {spec.label} · status **{study.status}** · "
            f"{overview.plan_size} cups planned · {overview.responses} answers")
 
@@ -80,8 +81,8 @@ if saved:
         ui.show_problem(exc)
     else:
         ui.changed()
-        st.toast("Set-up saved.", icon=":material/check:")
-        spec = get_method(study.method)
+        ui.flash("Set-up saved.")
+        st.rerun()  # the title, the caption and the sidebar's picker read the saved set-up
 
 
 

@@ -362,7 +362,7 @@ def _score_names(spec: MethodSpec, attributes: Sequence[str]) -> list[str]:
 
 
 def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Answer],
-                attributes: Sequence[str] = ()) -> pd.DataFrame:
+                attributes: Sequence[str] = (), *, as_text: bool = False) -> pd.DataFrame:
     """The paper-entry grid of one session's plan, filled with the answers on file.
 
     Forced choice: one row per panelist and set, columns ``panelist set cups chosen``
@@ -370,6 +370,12 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
     plan order, columns ``panelist position code`` and one per attribute (Float64).
     Ranking: one row per cup, columns ``panelist position code rank``. Codes are the
     blinding codes only. ``responses`` should be the session's answers.
+
+    A row is known by its key (:func:`sheet_key`: the panelist and the set, or the
+    panelist and the cup's code), never by its place in the grid. With ``as_text`` the
+    score columns hold text ("6", or "" for none), so that an entry grid takes any
+    typing and :func:`sheet_problems` can refuse a bad cell by name instead of the
+    grid dropping it.
     """
     got = list(responses)
     columns = list(paper_columns(spec, attributes))
@@ -399,65 +405,114 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
         row = {"panelist": e.panelist_code, "position": e.position, "code": e.code}
         for a in names:
             v = have.get((e.panelist_code, e.code, a))
-            row[a] = float(v) if v not in (None, "") else None
+            if as_text:
+                row[a] = "" if v in (None, "") else str(v)
+            else:
+                row[a] = float(v) if v not in (None, "") else None
         rows.append(row)
     frame = pd.DataFrame(rows, columns=columns)
     for a in names:
-        frame[a] = frame[a].astype("Float64")
+        frame[a] = frame[a].astype("string" if as_text else "Float64")
     return frame
+
+
+def sheet_key(spec: MethodSpec, row: Mapping[str, Any]) -> tuple[str, str]:
+    """The key of a paper-grid row: (panelist code, set number) for a forced choice,
+    (panelist code, cup code) for a rating or a ranking. Rows are matched by key, so a
+    grid sorted or filtered on the screen still lands every value on its own ballot."""
+    panelist = str(row.get("panelist") or "").strip()
+    if spec.is_forced_choice:
+        return panelist, str(row.get("set") or "").strip()
+    return panelist, str(row.get("code") or "").strip()
 
 
 def _blank(v: Any) -> bool:
     return v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)) or not str(v).strip()
 
 
+def _cell(v: Any) -> str:
+    """A score cell as text: a whole float loses its ``.0``, text is stripped."""
+    if isinstance(v, float) and v == int(v):
+        return str(int(v))
+    return str(v).strip()
+
+
 def sheet_answers(spec: MethodSpec, session: str, frame: pd.DataFrame,
                   attributes: Sequence[str] = ()) -> list[tuple[int, dict[str, Any]]]:
     """The answers a paper grid holds, as (0-based grid row, answer fields); blank cells
-    are skipped. The fields are those of :meth:`AnswerChecker.check`."""
+    are skipped. The fields are those of :meth:`AnswerChecker.check` plus ``column``
+    (the grid column the answer came from) and ``key`` (:func:`sheet_key`)."""
     out: list[tuple[int, dict[str, Any]]] = []
     for i, rec in enumerate(frame.to_dict("records")):
         panelist = str(rec.get("panelist") or "").strip()
+        key = sheet_key(spec, rec)
         if spec.is_forced_choice:
-            code = str(rec.get("chosen") or "").strip()
+            code = " ".join(str(rec.get("chosen") or "").split())
             declined = rec.get("no_preference")
             if spec.allows_no_preference and not _blank(declined) and bool(declined):
-                out.append((i, {"session": session, "panelist": panelist, "code": "",
-                                "attribute": CHOICE, "value": NO_PREFERENCE}))
+                out.append((i, {"session": session, "panelist": panelist, "code": code,
+                                "attribute": CHOICE, "value": NO_PREFERENCE,
+                                "column": "no_preference", "key": key}))
             elif code:
                 out.append((i, {"session": session, "panelist": panelist, "code": code,
-                                "attribute": CHOICE, "value": ""}))
+                                "attribute": CHOICE, "value": "", "column": "chosen",
+                                "key": key}))
             continue
         for a in _score_names(spec, attributes):
             v = rec.get(a)
             if _blank(v):
                 continue
-            value = int(v) if isinstance(v, float) and v == int(v) else v
             out.append((i, {"session": session, "panelist": panelist,
-                            "code": str(rec.get("code") or "").strip(), "attribute": a,
-                            "value": str(value)}))
+                            "code": key[1], "attribute": a, "value": _cell(v), "column": a,
+                            "key": key}))
     return out
 
 
+def _where(spec: MethodSpec, key: tuple[str, str]) -> str:
+    """A grid row in words, for a message."""
+    what = "set" if spec.is_forced_choice else "code"
+    shown = key[1] if spec.is_forced_choice else repr(key[1])
+    return f"panelist {key[0]!r}, {what} {shown}"
+
+
 def sheet_problems(checker: AnswerChecker, session: str, frame: pd.DataFrame) -> list[str]:
-    """Problems of a paper grid, one message per bad cell, naming the grid row
-    (1-based), the panelist and what was expected; empty when every answer would be
-    accepted. Also flags a rank given twice by one panelist in one set."""
+    """Problems of a paper grid, one message per bad cell, naming the panelist, the
+    row's set or code, the grid column and what was expected; empty when every answer
+    would be accepted.
+
+    Besides :meth:`AnswerChecker.check` it refuses a row whose key
+    (:func:`sheet_key`) is not in the serving plan or comes twice, a chosen code that
+    is not one of the row's own set (a code typed into the neighbouring row), and a
+    rank given twice by one panelist in one set.
+    """
     spec = checker.spec
     problems: list[str] = []
+    seen: set[tuple[str, str]] = set()
+    for rec in frame.to_dict("records"):
+        key = sheet_key(spec, rec)
+        if key in seen:
+            problems.append(f"{_where(spec, key)}: this row is in the grid twice")
+        seen.add(key)
     ranks: dict[tuple[str, int], dict[str, str]] = defaultdict(dict)
-    for i, a in sheet_answers(spec, str(session), frame, tuple(checker.attributes)):
+    for _, a in sheet_answers(spec, str(session), frame, tuple(checker.attributes)):
+        where = f"{_where(spec, a['key'])}, column {a['column']!r}"
         try:
             ans = checker.check(a["session"], a["panelist"], a["code"], a["attribute"],
                                 a["value"])
         except AnswerError as bad:
-            problems.append(f"row {i + 1} (panelist {a['panelist']!r}), {bad.column}: {bad.text}")
+            problems.append(f"{where}: {bad.text}")
             continue
+        if spec.is_forced_choice and ans.code:
+            row_set = a["key"][1]
+            if str(checker.set_of(ans) + 1) != row_set:
+                problems.append(f"{where}: {a['code']!r} is not a cup of set {row_set} for "
+                                "this panelist (typed into the wrong row?)")
+                continue
         if spec.family is Family.RANKING:
             given = ranks[(ans.panelist, checker.set_of(ans))]
             if ans.value in given:
-                problems.append(f"row {i + 1} (panelist {a['panelist']!r}): rank "
-                                f"{ans.value} is also given to code {given[ans.value]!r}")
+                problems.append(f"{where}: rank {ans.value} is also given to code "
+                                f"{given[ans.value]!r}")
             given[ans.value] = ans.code
     return problems
 
@@ -469,3 +524,39 @@ def most_cups(frame: pd.DataFrame) -> int:
     if frame.empty or "panelist" not in frame:
         return 1
     return int(frame.groupby("panelist").size().max())
+
+
+def sheet_changes(spec: MethodSpec, before: pd.DataFrame, after: pd.DataFrame,
+                  attributes: Sequence[str] = ()) -> list[tuple[str, str]]:
+    """The keys (:func:`sheet_key`) of the rows whose answer cells differ between two
+    grids of one session, in the order of ``after``; rows are matched by key, not by
+    place."""
+    def cells(frame: pd.DataFrame) -> dict[tuple[str, str], tuple[str, ...]]:
+        entry = [c for c in paper_columns(spec, attributes)
+                 if c in ("chosen", "no_preference") or c in _score_names(spec, attributes)]
+        return {sheet_key(spec, r): tuple("" if _blank(r.get(c)) else _cell(r.get(c))
+                                          for c in entry)
+                for r in frame.to_dict("records")}
+
+    old, new = cells(before), cells(after)
+    return [k for k, v in new.items() if old.get(k) != v]
+
+
+def sheet_pages(frame: pd.DataFrame, most_rows: int = 60) -> list[tuple[str, ...]]:
+    """The panelists of a paper grid in pages of whole ballots: each page holds the
+    rows of consecutive panelists (in grid order), at most ``most_rows`` rows unless
+    one panelist alone has more. Empty for an empty grid."""
+    pages: list[tuple[str, ...]] = []
+    current: list[str] = []
+    rows = 0
+    if frame.empty:
+        return pages
+    counts = frame.groupby("panelist", sort=False).size()
+    for panelist, n in counts.items():
+        if current and rows + n > most_rows:
+            pages.append(tuple(current))
+            current, rows = [], 0
+        current.append(str(panelist))
+        rows += int(n)
+    pages.append(tuple(current))
+    return pages

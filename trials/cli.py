@@ -233,8 +233,9 @@ def _study_show(args: argparse.Namespace) -> dict[str, Any]:
 def _import_answers(args: argparse.Namespace) -> dict[str, Any]:
     from trials import service
 
-    rows = service.import_answers(_store(args), args.trial, Path(args.file))
-    return {"imported": rows}
+    done = service.import_answer_file(_store(args), args.trial, Path(args.file))
+    return {"imported": done.added, "already_on_record": done.already,
+            "message": done.message()}
 
 
 def _export_answers(args: argparse.Namespace) -> dict[str, Any]:

@@ -24,13 +24,27 @@ class NotFoundError(TrialsError):
     """A trial, sample, panelist or code that is not in the store."""
 
 
-class ImportRowsError(TrialsError):
-    """An import with bad rows; ``problems`` lists one message per bad row."""
+SHOWN_PROBLEMS = 20  # a message lists this many problems, then says how many more
 
-    def __init__(self, problems: list[str]):
+
+def problem_lines(problems: list[str], shown: int = SHOWN_PROBLEMS) -> list[str]:
+    """The first ``shown`` problems, each its own line, then "and N more" if any."""
+    lines = list(problems[:shown])
+    if len(problems) > shown:
+        lines.append(f"and {len(problems) - shown} more")
+    return lines
+
+
+class ImportRowsError(TrialsError):
+    """An import (or a paper grid) with bad rows; ``problems`` lists one message per bad
+    row, ``head`` says how many and what was done (nothing). The message is the head,
+    then the first 20 problems one to a line and "and N more" (:func:`problem_lines`)."""
+
+    def __init__(self, problems: list[str], *, bad: str = "bad row(s)",
+                 outcome: str = "nothing imported"):
         self.problems = list(problems)
-        head = f"{len(self.problems)} bad row(s); nothing imported"
-        super().__init__(head + ":\n" + "\n".join(self.problems))
+        self.head = f"{len(self.problems)} {bad}; {outcome}"
+        super().__init__(self.head + ":\n" + "\n".join(problem_lines(self.problems)))
 
 
 class AccessDenied(TrialsError):

@@ -16,6 +16,8 @@ import pandas as pd
 from trials.errors import TrialsError
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+DECIMAL_COMMA = r"[+-]?\d+,\d+"  # 7,0 or -0,25: a decimal comma, no thousands mark
+COMMA_NUMBER = r"[+-]?\d+(?:,\d+)?"  # a whole number or one with a decimal comma
 
 
 def _decode(raw: bytes, source: str) -> str:
@@ -40,6 +42,12 @@ def read_table(source: str | Path | bytes, *, name: str = "",
     text is dropped again, so an export imports back to the same values. Columns named
     in ``numbers`` come back as floats when every cell of a CSV holds a number (faster
     for large files); otherwise they are text like the rest.
+
+    Decimal commas: in a file separated by ``;`` (as spreadsheets write CSV where the
+    comma is the decimal mark), a column whose every filled cell is a number and at
+    least one is written with a decimal comma (``7,0``) is read as numbers: its cells
+    become ``7.0`` (or floats, for a column in ``numbers`` with no empty cell). Never in
+    a comma-separated file, where ``"7,0"`` in quotes stays the text it is.
     """
     if isinstance(source, (str, Path)):
         path = Path(source)
@@ -131,8 +139,29 @@ def _read_csv(raw: bytes, label: str, numbers: Sequence[str] = ()) -> pd.DataFra
                               "close") from None
         frame = table.to_pandas(types_mapper=lambda t: text_type if t == pa.string() else None)
         frame.columns = header
-        return frame
+        return _decimal_commas(frame, wanted) if sep == ";" else frame
     raise TrialsError(f"{label}: cannot be read as a table")  # not reached: text always reads
+
+
+def _decimal_commas(frame: pd.DataFrame, numbers: set[str]) -> pd.DataFrame:
+    """Read the decimal commas of a ``;``-separated table's number columns (see
+    :func:`read_table`): a text column whose every filled cell matches
+    :data:`COMMA_NUMBER`, one or more with a comma, gets ``.`` for ``,``."""
+    names = list(frame.columns)
+    for column in names:
+        if names.count(column) > 1 or not pd.api.types.is_string_dtype(frame[column]):
+            continue
+        cells = frame[column].str.strip()
+        filled = cells.fillna("") != ""
+        comma = cells.str.fullmatch(DECIMAL_COMMA).fillna(False).astype(bool)
+        if not comma.any() or not cells[filled].str.fullmatch(COMMA_NUMBER).all():
+            continue
+        dotted = cells.str.replace(",", ".", regex=False)
+        if column in numbers and filled.all():
+            frame[column] = dotted.astype(float)
+        else:
+            frame[column] = frame[column].where(~comma, dotted)
+    return frame
 
 
 def _unguard(frame: pd.DataFrame) -> pd.DataFrame:

@@ -451,8 +451,42 @@ def release_key_downloads() -> None:
 
 
 def show_problem(exc: Exception) -> None:
-    """A bad input, said plainly (the message names the value and what was expected)."""
+    """A bad input, said plainly (the message names the value and what was expected).
+    A file or grid with many bad rows says how many and what was done, then lists the
+    first 20 as bullets, each on its own line, and how many more."""
+    from trials.errors import ImportRowsError, problem_lines
+
+    if isinstance(exc, ImportRowsError):
+        items = "\n".join(f"- {literal(p)}" for p in problem_lines(exc.problems))
+        st.error(f"**{literal(exc.head)}:**\n\n{items}")
+        return
     st.error(literal(str(exc), lines=True))
+
+
+FLASH_KEY = "_flash"
+
+
+def flash(text: str, slot: str = "top") -> None:
+    """Say ``text`` (already made safe with :func:`literal`) in the next run, where the
+    page calls :func:`show_flash` with the same ``slot`` (beside the button pressed, so
+    a leader scrolled down sees it): for a success followed by ``st.rerun()``, so the
+    screen shows what was saved and reads the store afresh."""
+    st.session_state[f"{FLASH_KEY}_{slot}"] = text
+
+
+def clear_fields(*keys: str) -> None:
+    """Forget the typed values of the widgets keyed ``keys`` (call after a successful
+    save, then ``st.rerun()``): a form that keeps its values on an error
+    (``clear_on_submit=False``) starts empty again only when its work is done."""
+    for key in keys:
+        st.session_state.pop(key, None)
+
+
+def show_flash(slot: str = "top") -> None:
+    """Show (once) what :func:`flash` left for this run in ``slot``."""
+    text = st.session_state.pop(f"{FLASH_KEY}_{slot}", None)
+    if text:
+        st.success(text, icon=":material/check:")
 
 
 @st.cache_resource(show_spinner="Analysing...", max_entries=16)

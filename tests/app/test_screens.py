@@ -138,36 +138,41 @@ def test_drawing_a_plan_on_the_plan_screen_stores_it(small_trials):
     assert "Tasting links" in page_text(at)
 
 
+def _cell(at, trial_id: int, panelist: str, key: str, column: str):
+    """The paper-entry box of one panelist's set or cup (widget keys name them)."""
+    return at.text_input(key=f"paper_{trial_id}_1_0_{panelist}_{key}_{column}")
+
+
 def test_a_paper_ballot_entered_in_the_grid_is_stored_as_paper_answers(small_trials):
     store, trial_id = small_trials["store"], small_trials["rating"]
     at = _run("entry", study=trial_id)
-    grid = at.data_editor[0].value
-    first = grid[grid["panelist"] == "T01"].index.tolist()
-    at.session_state[f"paper_{trial_id}_1__0"] = {
-        "edited_rows": {str(first[0]): {"overall liking": 7}, str(first[1]): {"overall liking": 4}},
-        "added_rows": [], "deleted_rows": [],
-    }
-    at.run()
-    assert not at.error, [e.value for e in at.error]
-    by_label(at.button, "Save the answers").click()
+    cups = sorted((e for e in service.plan(store, trial_id) if e.panelist_code == "T01"),
+                  key=lambda e: e.position)
+    _cell(at, trial_id, "T01", cups[0].code, "overall liking").input("7")
+    _cell(at, trial_id, "T01", cups[1].code, "overall liking").input(" 4 ")
+    by_label(at.button, "Check and save").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
+    assert not at.error, [e.value for e in at.error]
     got = sorted((r.panelist_code, r.code, r.value, r.mode.value)
                  for r in service.list_answers(store, trial_id))
-    cups = [e.code for e in service.plan(store, trial_id) if e.panelist_code == "T01"]
-    assert got == sorted([("T01", cups[0], "7", "paper"), ("T01", cups[1], "4", "paper")])
+    assert got == sorted([("T01", cups[0].code, "7", "paper"), ("T01", cups[1].code, "4", "paper")])
+    assert "Saved 2 changed row(s)" in page_text(at)
 
 
-def test_the_paper_grid_refuses_a_score_off_the_scale_and_saves_nothing(small_trials):
+def test_the_paper_grid_refuses_a_score_off_the_scale_saves_nothing_and_keeps_it(small_trials):
     store, trial_id = small_trials["store"], small_trials["rating"]
     at = _run("entry", study=trial_id)
-    at.session_state[f"paper_{trial_id}_1__0"] = {
-        "edited_rows": {"0": {"overall liking": 12}}, "added_rows": [], "deleted_rows": [],
-    }
+    cup = min((e for e in service.plan(store, trial_id) if e.panelist_code == "T02"),
+              key=lambda e: e.position)
+    _cell(at, trial_id, "T02", cup.code, "overall liking").input("12")
+    by_label(at.button, "Check and save").click()
     at.run()
-    assert any("expected a whole number from 1 to 9" in e.value for e in at.error)
-    assert by_label(at.button, "Save the answers").disabled
+    assert (f"panelist 'T02', code '{cup.code}', column 'overall liking': expected a whole "
+            "number from 1 to 9, got '12'") in page_text(at)
+    assert "1 bad cell(s); nothing saved" in page_text(at)
     assert service.list_answers(store, trial_id) == []
+    assert _cell(at, trial_id, "T02", cup.code, "overall liking").value == "12"
 
 
 def test_the_paper_grid_refuses_a_code_not_served_to_that_panelist(small_trials):
@@ -175,11 +180,10 @@ def test_the_paper_grid_refuses_a_code_not_served_to_that_panelist(small_trials)
     served = {e.code for e in service.plan(store, trial_id)}
     foreign = next(f"{n:03d}" for n in range(100, 1000) if f"{n:03d}" not in served)
     at = _run("entry", study=trial_id)
-    at.session_state[f"paper_{trial_id}_1__0"] = {
-        "edited_rows": {"0": {"chosen": foreign}}, "added_rows": [], "deleted_rows": [],
-    }
+    _cell(at, trial_id, "T01", "1", "chosen").input(foreign)
+    by_label(at.button, "Check and save").click()
     at.run()
-    assert any("is not a code served to panelist" in e.value for e in at.error)
+    assert "is not a code served to panelist 'T01'" in page_text(at)
     assert service.list_answers(store, trial_id) == []
 
 
@@ -334,12 +338,13 @@ def test_a_batch_is_recorded_with_its_settings_and_then_signed_off(small_trials)
 def test_a_roster_file_imported_on_the_panel_screen_adds_its_panelists(app_db):
     at = _run("panel")
     csv = b"code,allergens,consent_on\nK01,sesame;egg,2026-03-01\nK02,,\n"
-    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.file_uploader[0].set_value(("roster.csv", csv, "text/csv"))
     at.run()
     by_label(at.button, "Import the roster").click()
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    assert [s.value for s in at.success] == ["2 panelists imported."]
+    assert [s.value for s in at.success] == [
+        "2 panelists imported; the roster above is up to date."]
     roster = {p.code: p for p in service.list_panelists(service.open_store(app_db))}
     assert set(roster["K01"].allergens) == {"sesame", "egg"}
     assert roster["K01"].consented and not roster["K02"].consented
@@ -348,7 +353,7 @@ def test_a_roster_file_imported_on_the_panel_screen_adds_its_panelists(app_db):
 def test_a_bad_roster_file_names_the_row_and_imports_nothing(app_db):
     at = _run("panel")
     csv = b"code,consent_on\nK01,2026-03-01\nK02,first of March\n"
-    at.file_uploader(key="roster_file").set_value(("roster.csv", csv, "text/csv"))
+    at.file_uploader[0].set_value(("roster.csv", csv, "text/csv"))
     at.run()
     by_label(at.button, "Import the roster").click()
     at.run()

@@ -106,7 +106,13 @@ def test_the_cli_seeds_lists_shows_exports_and_imports_a_trial(tmp_path, capsys)
     assert code == 0 and json.loads(out) == {"rows": 144, "path": str(out_file)}
     code, out, _ = _run(capsys, "import", "responses", str(out_file), "--study", str(sid),
                         "--db", url, "--json")
-    assert code == 0 and json.loads(out) == {"imported": 0}
+    assert code == 0 and json.loads(out) == {
+        "imported": 0, "already_on_record": 144,
+        "message": "All 144 answers in this file are already on record; nothing new imported."}
+    code, out, _ = _run(capsys, "import", "responses", str(out_file), "--study", str(sid),
+                        "--db", url)
+    assert code == 0 and ("message: All 144 answers in this file are already on record; "
+                          "nothing new imported.") in out
 
 
 def test_a_bad_import_on_the_cli_exits_2_naming_each_bad_row(tmp_path, capsys):

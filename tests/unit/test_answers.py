@@ -271,10 +271,11 @@ def test_a_rating_grid_holds_scores_as_nullable_numbers():
     assert str(grid["liking"].dtype) == "Float64"
     assert grid["liking"].tolist()[0] == 6.0 and pd.isna(grid["liking"].tolist()[1])
     assert sheet_answers(spec, "1", grid, ["liking"]) == [
-        (0, {"session": "1", "panelist": "P01", "code": code, "attribute": "liking", "value": "6"})]
+        (0, {"session": "1", "panelist": "P01", "code": code, "attribute": "liking", "value": "6",
+             "column": "liking", "key": ("P01", code)})]
 
 
-def test_sheet_problems_name_the_row_and_a_rank_given_twice():
+def test_sheet_problems_name_the_panelist_code_and_column_and_a_rank_given_twice():
     plan = serving_plan("ranking", ["S1", "S2", "S3"], ["P01"], rng=4)
     spec = get_method("ranking")
     grid = paper_sheet(spec, plan, [])
@@ -282,8 +283,10 @@ def test_sheet_problems_name_the_row_and_a_rank_given_twice():
     ck = AnswerChecker.for_trial(trial("ranking", samples=()), plan)
     problems = sheet_problems(ck, "1", grid)
     assert problems == [
-        f"row 2 (panelist 'P01'): rank 1 is also given to code {grid.loc[0, 'code']!r}",
-        "row 3 (panelist 'P01'), value: expected a whole number from 1 to 3, got '5'",
+        f"panelist 'P01', code {grid.loc[1, 'code']!r}, column 'rank': rank 1 is also given "
+        f"to code {grid.loc[0, 'code']!r}",
+        f"panelist 'P01', code {grid.loc[2, 'code']!r}, column 'rank': expected a whole number "
+        "from 1 to 3, got '5'",
     ]
 
 

@@ -39,9 +39,11 @@ from trials.model import (
     TrialSummary,
 )
 from trials.service.answer_files import (
+    AnswerImport,
     check_paper_sheet,
     export_answers,
     export_bytes,
+    import_answer_file,
     import_answers,
     paper_sheet,
     save_paper_sheet,
@@ -64,7 +66,13 @@ from trials.service.documents import (
     write_report,
 )
 from trials.service.history import control_names, control_trend, history
-from trials.service.panel import add_panelist, import_panelists, list_panelists
+from trials.service.panel import (
+    add_panelist,
+    import_panelists,
+    list_panelists,
+    roster_audit,
+    update_panelist,
+)
 from trials.service.profiles import (
     PanelError,
     panel_errors,
@@ -118,20 +126,24 @@ from trials.store.plans import TASTE_PATH
 
 __all__ = [
     "NO_PREFERENCE", "TASTE_PATH",
-    "AuditEntry", "BallotAnswer", "BallotSet", "PanelError", "PanelistBallot", "Store",
+    "AnswerImport", "AuditEntry", "BallotAnswer", "BallotSet", "PanelError", "PanelistBallot",
+    "Store",
     "TrialOverview", "TrialSummary",
     "add_attribute", "add_batch", "add_panelist", "add_sample", "allergen_conflicts",
     "analyse_trial", "answer_progress", "audit_log", "ballot_for_token", "change_stamp",
     "check_paper_sheet", "control_names", "control_trend", "create_trial",
     "critical_values", "critical_values_pdf", "draw_plan", "export_archive",
     "export_bytes", "export_measures_bytes", "export_answers", "get_trial", "history",
-    "import_archive", "import_batches", "import_panelists", "import_answers",
+    "import_archive", "import_batches", "import_panelists", "import_answer_file",
+    "import_answers",
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
     "panel_errors", "panelist_departures_of", "profile_attributes",
     "rating_panel_size_needed", "rating_power_curve", "trial_profile",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
     "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
-    "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
+    "print_result", "record_answer", "record_decision", "roster_audit", "enter_answer",
+    "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
-    "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",
+    "sign_off_batch", "trial_decision", "trial_overview", "update_panelist", "update_trial",
+    "write_report",
 ]

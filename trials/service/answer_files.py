@@ -31,6 +31,7 @@ row 1, the first answer row 2.
 from __future__ import annotations
 
 import datetime as dt
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -40,7 +41,7 @@ from trials import answers
 from trials.answers import CHOICE, CheckedAnswer
 from trials.errors import AnswerError, ImportRowsError, TrialsError
 from trials.methods import get_method
-from trials.model import EntryMode, PlanBook, Trial
+from trials.model import EntryMode, PlanBook, Record, Trial
 from trials.service import _input
 from trials.service.tasting import answers_frame, checker_of, save_checked
 from trials.store import Store, limits
@@ -132,6 +133,60 @@ def checked_import(book: PlanBook, records: list[dict[str, Any]], *, entered_by:
     return new
 
 
+@dataclass(frozen=True, slots=True)
+class AnswerImport(Record):
+    """What an answer file brought: ``rows`` answer rows read, ``added`` new answers
+    stored, ``already`` rows already on record with the same value (recorded once)."""
+
+    rows: int
+    added: int
+    already: int
+
+    def message(self) -> str:
+        """The outcome in the leader's words; a file wholly on record is not "0 imported"."""
+        if not self.rows:
+            return "The file holds no answers; nothing imported."
+        if not self.added:
+            return (f"All {self.rows} answers in this file are already on record; nothing new "
+                    "imported.")
+        if self.already:
+            return (f"{self.added} answers imported; {self.already} were already on record "
+                    "and are kept once.")
+        return f"{self.added} answers imported."
+
+
+def import_answer_file(
+    store: Store,
+    trial_id: int,
+    path: str | Path | bytes,
+    *,
+    entered_by: str = "import",
+    name: str = "",
+) -> AnswerImport:
+    """Import answers from a CSV or Excel file (columns: see the module docstring).
+
+    Every row is checked (panelist, session, code in this panelist's plan, attribute,
+    value on the scale, rank in 1..k, no answer twice in the file, no answer that
+    contradicts one on file). On any bad row :class:`~trials.errors.ImportRowsError`
+    lists every bad row and nothing is imported. Answers already on file with the same
+    value are skipped (recorded once) and counted in :attr:`AnswerImport.already`.
+    """
+    frame = _input.read_rows(path, name)
+    _input.require_columns(frame, RESPONSE_COLUMNS)
+    source = name or (Path(path).name if isinstance(path, (str, Path)) else "upload")
+    records = frame.to_dict("records")
+    at = now()
+
+    def work(tx) -> AnswerImport:
+        book = answer_rows.plan_book(tx, trial_id, with_existing=True)
+        new = checked_import(book, records, entered_by=entered_by, at=at)
+        note = f"{len(new)} answers from {source} ({len(records) - len(new)} already on file)"
+        added = answer_rows.insert_answers(tx, book, new, by=entered_by, note=note)
+        return AnswerImport(rows=len(records), added=added, already=len(records) - len(new))
+
+    return store.write(work)
+
+
 def import_answers(
     store: Store,
     trial_id: int,
@@ -140,27 +195,8 @@ def import_answers(
     entered_by: str = "import",
     name: str = "",
 ) -> int:
-    """Import answers from a CSV or Excel file (columns: see the module docstring).
-
-    Every row is checked (panelist, session, code in this panelist's plan, attribute,
-    value on the scale, rank in 1..k, no answer twice in the file, no answer that
-    contradicts one on file). On any bad row :class:`~trials.errors.ImportRowsError`
-    lists every bad row and nothing is imported. Answers already on file with the same
-    value are skipped (recorded once). Returns the number of answers added.
-    """
-    frame = _input.read_rows(path, name)
-    _input.require_columns(frame, RESPONSE_COLUMNS)
-    source = name or (Path(path).name if isinstance(path, (str, Path)) else "upload")
-    records = frame.to_dict("records")
-    at = now()
-
-    def work(tx) -> int:
-        book = answer_rows.plan_book(tx, trial_id, with_existing=True)
-        new = checked_import(book, records, entered_by=entered_by, at=at)
-        note = f"{len(new)} answers from {source} ({len(records) - len(new)} already on file)"
-        return answer_rows.insert_answers(tx, book, new, by=entered_by, note=note)
-
-    return store.write(work)
+    """:func:`import_answer_file`, returning only the number of answers added."""
+    return import_answer_file(store, trial_id, path, entered_by=entered_by, name=name).added
 
 
 def export_frame(store: Store, trial_id: int) -> pd.DataFrame:
@@ -209,14 +245,17 @@ def _attribute_names(study: Trial) -> list[str]:
     return [a.name for a in study.attributes]
 
 
-def paper_sheet(store: Store, trial_id: int, session: str) -> pd.DataFrame:
+def paper_sheet(store: Store, trial_id: int, session: str, *,
+                as_text: bool = False) -> pd.DataFrame:
     """The paper-entry grid of one session, filled with the answers on file
-    (:func:`trials.answers.paper_sheet`). Codes are the blinding codes only."""
+    (:func:`trials.answers.paper_sheet`; ``as_text``: score cells as text, for an entry
+    grid that checks every cell by name). Codes are the blinding codes only."""
     with store.read() as tx:
         study = trial_rows.get_trial(tx, trial_id)
         entries = plan_rows.plan_entries(tx, trial_id, session)
         got = [r for r in answer_rows.list_answers(tx, trial_id) if r.session == str(session)]
-    return answers.paper_sheet(get_method(study.method), entries, got, _attribute_names(study))
+    return answers.paper_sheet(get_method(study.method), entries, got, _attribute_names(study),
+                              as_text=as_text)
 
 
 def check_paper_sheet(store: Store, trial_id: int, session: str,
@@ -231,15 +270,18 @@ def check_paper_sheet(store: Store, trial_id: int, session: str,
 def save_paper_sheet(store: Store, trial_id: int, session: str, frame: pd.DataFrame, *,
                      entered_by: str = "leader") -> int:
     """Record every answer of a paper grid (mode ``paper``) in one transaction; all or
-    none. An answer already on file with the same value is kept once; a changed one is
-    replaced and audited. Returns the answers in the grid."""
+    none: on any bad cell :class:`~trials.errors.ImportRowsError` lists every one
+    (:func:`trials.answers.sheet_problems`) and nothing is saved. Rows are matched to
+    the plan by panelist and set or code, never by their place in the grid. An answer
+    already on file with the same value is kept once; a changed one is replaced and
+    audited; a blank cell leaves what is on file. Returns the answers in the grid."""
 
     def work(tx) -> int:
         book = answer_rows.plan_book(tx, trial_id)
         checker = checker_of(book)
         problems = answers.sheet_problems(checker, str(session), frame)
         if problems:
-            raise ImportRowsError(problems)
+            raise ImportRowsError(problems, bad="bad cell(s)", outcome="nothing saved")
         items = answers.sheet_answers(checker.spec, str(session), frame,
                                       _attribute_names(book.trial))
         for _, a in items:

@@ -8,7 +8,7 @@ from collections.abc import Iterable
 from pathlib import Path
 
 from trials.errors import ImportRowsError, TrialsError
-from trials.model import Panelist
+from trials.model import AuditEntry, Panelist
 from trials.service import _input
 from trials.store import Store
 from trials.store import panel as panel_rows
@@ -29,6 +29,33 @@ def add_panelist(
     declared = _input.allergens(allergens)
     return store.write(lambda tx: panel_rows.add_panelist(
         tx, code, allergens=declared, restrictions=restrictions, consent_on=consent, by=by))
+
+
+def update_panelist(
+    store: Store,
+    code: str,
+    *,
+    allergens: Iterable[str] | str = (),
+    restrictions: str = "",
+    consent_on: dt.date | str | None = None,
+    by: str = "leader",
+) -> Panelist:
+    """Change a panelist's declared allergens, other restrictions and date of informed
+    consent (None: no consent on record). Every changed field is audited (old and new
+    value); the allergen checks of the serving plan read the new declaration."""
+    code = _input.name(code, "a panelist code")
+    consent = _input.as_date(consent_on, "consent_on")
+    declared = _input.allergens(allergens)
+    return store.write(lambda tx: panel_rows.update_panelist(
+        tx, code, allergens=declared, restrictions=str(restrictions or "").strip(),
+        consent_on=consent, by=by))
+
+
+def roster_audit(store: Store, code: str | None = None) -> list[AuditEntry]:
+    """Every change to the roster (additions, allergens, restrictions, consent), oldest
+    first; with ``code``, one panelist's."""
+    with store.read() as tx:
+        return panel_rows.roster_audit(tx, code)
 
 
 def list_panelists(store: Store, trial_id: int | None = None) -> list[Panelist]:

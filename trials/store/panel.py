@@ -10,9 +10,9 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session
 
 from trials.errors import TrialsError
-from trials.model import Panelist
+from trials.model import AuditEntry, Panelist
 from trials.store import rows
-from trials.store.schema import PanelistRow, PlanEntryRow, SessionRow
+from trials.store.schema import AuditRow, PanelistRow, PlanEntryRow, SessionRow
 
 
 def add_panelist(s: Session, code: str, *, allergens: Sequence[str], restrictions: str,
@@ -60,3 +60,32 @@ def store_roster(s: Session, parsed: Sequence[tuple[str, tuple[str, ...], str, d
                 rows.audit(s, None, by, "panelist", row.id, key, getattr(row, key), value)
                 setattr(row, key, value)
     return len(parsed)
+
+
+def update_panelist(s: Session, code: str, *, allergens: Sequence[str], restrictions: str,
+                    consent_on: dt.date | None, by: str) -> Panelist:
+    """Change a panelist's declared allergens, restrictions and consent date; each field
+    that changes is audited with its old and new value."""
+    row = s.scalars(sa.select(PanelistRow).where(PanelistRow.code == code)).first()
+    if row is None:
+        raise TrialsError(f"no panelist with code {code!r} on the roster")
+    if set(rows.split(row.allergens)) == set(allergens):
+        allergens = rows.split(row.allergens)  # the same allergens in another order: no change
+    for key, value in (("allergens", rows.join(allergens)), ("restrictions", restrictions or ""),
+                       ("consent_on", consent_on)):
+        if getattr(row, key) != value:
+            rows.audit(s, None, by, "panelist", row.id, key, getattr(row, key), value)
+            setattr(row, key, value)
+    s.flush()
+    return rows.panelist_record(row)
+
+
+def roster_audit(s: Session, code: str | None = None) -> list[AuditEntry]:
+    """The roster's audit entries (under no trial), oldest first; with ``code``, that
+    panelist's only."""
+    q = sa.select(AuditRow).where(AuditRow.study_id.is_(None), AuditRow.table_name == "panelist")
+    if code is not None:
+        q = q.where(AuditRow.row_id == sa.select(PanelistRow.id)
+                    .where(PanelistRow.code == code).scalar_subquery())
+    return [AuditEntry(r.at, r.who, r.table_name, r.row_id, r.field, r.old_value, r.new_value)
+            for r in s.scalars(q.order_by(AuditRow.id)).all()]
