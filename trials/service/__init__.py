@@ -22,6 +22,8 @@ module             holds
 ``results``        analysis and decision from one snapshot, planning, power
 ``documents``      ballots, serving sheet, labels, report
 ``history``        the trials on file, searched; the control across trials
+``experiments``    recipe experiments: designed runs as batches of a rating trial
+``experiment_results``  an experiment's effects, surfaces, contours and optimum
 =================  =================================================================
 
 Only :mod:`trials.store` touches the database; the answer checks are pure
@@ -61,6 +63,26 @@ from trials.service.documents import (
     report_html,
     report_pdf,
     write_report,
+)
+from trials.service.experiment_results import (
+    ExperimentAnalysis,
+    ResponseAnalysis,
+    analyse_experiment,
+    contour,
+)
+from trials.service.experiments import (
+    FOOD_CODE_CAUTION,
+    create_experiment,
+    design_experiment,
+    experiment_design_of,
+    experiment_of_trial,
+    get_experiment,
+    list_experiments,
+    plan_experiment_tasting,
+    record_run_measures,
+    run_table,
+    sign_off_runs,
+    unsigned_runs,
 )
 from trials.service.history import control_names, control_trend, history
 from trials.service.panel import add_panelist, import_panelists, list_panelists
@@ -107,7 +129,11 @@ from trials.store import Store, open_store
 from trials.store.plans import TASTE_PATH
 
 __all__ = [
-    "NO_PREFERENCE", "TASTE_PATH",
+    "FOOD_CODE_CAUTION", "NO_PREFERENCE", "TASTE_PATH",
+    "ExperimentAnalysis", "ResponseAnalysis", "analyse_experiment", "contour",
+    "create_experiment", "design_experiment", "experiment_design_of", "experiment_of_trial",
+    "get_experiment", "list_experiments", "plan_experiment_tasting", "record_run_measures",
+    "run_table", "sign_off_runs", "unsigned_runs",
     "AuditEntry", "BallotAnswer", "BallotSet", "PanelistBallot", "Store", "TrialOverview",
     "TrialSummary",
     "add_attribute", "add_batch", "add_panelist", "add_sample", "allergen_conflicts",
