@@ -248,6 +248,18 @@ def sign_off_runs(store: Store, experiment_id: int, *, by: str,
     return len(exp.runs)
 
 
+def run_sheet(store: Store, experiment_id: int):
+    """The experiment's run sheet (:func:`trials.printing.run_sheet_pdf`) with the
+    food-code caution and the sign-offs on file, as a ``PrintResult``."""
+    from trials.printing import run_sheet_pdf
+
+    exp = get_experiment(store, experiment_id)
+    with store.read() as tx:
+        batches = batch_rows.list_batches(tx, exp.trial_id)
+    return run_sheet_pdf(exp, batches=batches, label=design.KIND_LABELS[exp.kind],
+                         caution=FOOD_CODE_CAUTION)
+
+
 def run_table(store: Store, experiment_id: int) -> pd.DataFrame:
     """One row per run in run order: run, block, point, sample, batch, each factor's
     actual setting (column = factor name), its coded value (``coded_<i>``), each
