@@ -65,6 +65,8 @@ from trials.service.documents import (
     write_report,
 )
 from trials.service.experiment_results import (
+    GOALS,
+    MAXIMIZE,
     ExperimentAnalysis,
     ResponseAnalysis,
     analyse_experiment,
@@ -72,6 +74,9 @@ from trials.service.experiment_results import (
 )
 from trials.service.experiments import (
     FOOD_CODE_CAUTION,
+    KIND_LABELS,
+    KINDS,
+    TWO_LEVEL,
     create_experiment,
     design_experiment,
     experiment_design_of,
@@ -80,6 +85,7 @@ from trials.service.experiments import (
     list_experiments,
     plan_experiment_tasting,
     record_run_measures,
+    responses_of,
     run_sheet,
     run_table,
     sign_off_runs,
@@ -130,7 +136,8 @@ from trials.store import Store, open_store
 from trials.store.plans import TASTE_PATH
 
 __all__ = [
-    "FOOD_CODE_CAUTION", "NO_PREFERENCE", "TASTE_PATH",
+    "FOOD_CODE_CAUTION", "GOALS", "KINDS", "KIND_LABELS", "MAXIMIZE", "NO_PREFERENCE",
+    "TASTE_PATH", "TWO_LEVEL", "responses_of",
     "ExperimentAnalysis", "ResponseAnalysis", "analyse_experiment", "contour",
     "create_experiment", "design_experiment", "experiment_design_of", "experiment_of_trial",
     "get_experiment", "list_experiments", "plan_experiment_tasting", "record_run_measures",

@@ -20,6 +20,8 @@ from trials.service.experiments import get_experiment, responses_of, run_table
 from trials.stats import response_surface as rsm
 from trials.store import Store
 
+GOALS, MAXIMIZE = rsm.GOALS, rsm.MAXIMIZE
+
 
 @dataclass(frozen=True, slots=True)
 class ResponseAnalysis(Record):

@@ -29,6 +29,7 @@ from trials.store import batches as batch_rows
 from trials.store import experiments as experiment_rows
 from trials.store import trials as trial_rows
 
+KINDS, KIND_LABELS, TWO_LEVEL = design.KINDS, design.KIND_LABELS, design.TWO_LEVEL
 FOOD_CODE_CAUTION = (
     "Every run is food served to people. Before tasting, each run must meet your local "
     "food code (cooking temperatures, holding times, preservation) whatever its settings; "
