@@ -64,8 +64,15 @@ def _report(store: Store, trial_id: int, build):
     f = trial_file(store, trial_id)
     analysis = analyse_file(f)
     decision = decide(analysis, study=f.study)
+    extra = {}
+    if build.__name__ == "report_html":
+        from trials.service.experiment_results import report_part
+
+        part = report_part(store, trial_id)
+        if part is not None:
+            extra["experiment"] = part
     doc = build(f.study, analysis, plan=list(f.plan), responses=list(f.responses),
-                batches=list(f.batches), decision_text=decision)
+                batches=list(f.batches), decision_text=decision, **extra)
     return doc, decision
 
 

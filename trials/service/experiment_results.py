@@ -232,3 +232,24 @@ def contour(analysis: ExperimentAnalysis, response: str, x_factor: str, y_factor
     xs, ys, z = rsm.contour_grid(fit, i, j, fixed=base, n=n)
     fx, fy = as_factor(exp.factors[i]), as_factor(exp.factors[j])
     return np.array([fx.actual(v) for v in xs]), np.array([fy.actual(v) for v in ys]), z
+
+
+def report_part(store: Store, trial_id: int) -> dict[str, Any] | None:
+    """For the report of an experiment's trial: its analysis, design label, aliases and
+    a contour grid (first two factors, 60 x 60) per fitted response; None for an
+    ordinary trial."""
+    from trials.service.experiments import experiment_design_of, experiment_of_trial
+
+    exp = experiment_of_trial(store, trial_id)
+    if exp is None:
+        return None
+    analysis = analyse_experiment(store, exp.id)
+    names = [f.name for f in exp.factors]
+    contours = {}
+    for r in analysis.responses:
+        if r.fit is not None:
+            xs, ys, z = contour(analysis, r.response, names[0], names[1], n=60)
+            contours[r.response] = (xs, ys, z, names[0], names[1])
+    plan = experiment_design_of(exp)
+    return {"analysis": analysis, "label": plan.label, "aliases": plan.aliases,
+            "contours": contours}
