@@ -16,7 +16,7 @@ from trials.design import experiment as design
 from trials.errors import TrialsError
 from trials.model import Experiment, Record
 from trials.service.experiments import as_design_factor as as_factor
-from trials.service.experiments import get_experiment, responses_of, run_table
+from trials.service.experiments import experiment_file, responses_in, table_of
 from trials.stats import response_surface as rsm
 from trials.store import Store
 
@@ -184,9 +184,11 @@ def analyse_experiment(store: Store, experiment_id: int, *,
     e.g. ``{"response": "overall liking", "kind": "maximize", "low": 7, "high": 9}`` for
     "liking at least 7".
     """
-    exp = get_experiment(store, experiment_id)
-    table = run_table(store, experiment_id)
-    responses = responses_of(store, experiment_id)
+    from trials.service.results import analyse_file
+
+    exp, f = experiment_file(store, experiment_id)
+    table = table_of(exp, f, analyse_file(f))
+    responses = responses_in(exp, f)
     analysed = analyse_frame(exp, table, responses)
     clean = [g if isinstance(g, rsm.Goal) else rsm.Goal(**g) for g in goals]
     bounds = safe_bounds(exp)

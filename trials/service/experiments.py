@@ -261,16 +261,27 @@ def run_sheet(store: Store, experiment_id: int):
                          caution=FOOD_CODE_CAUTION)
 
 
-def run_table(store: Store, experiment_id: int) -> pd.DataFrame:
-    """One row per run in run order: run, block, point, sample, batch, each factor's
-    actual setting (column = factor name), its coded value (``coded_<i>``), each
-    measured variable and each attribute's run mean (adjusted for panelists by the
-    rating model where it ran), and ``signed_off``."""
-    from trials.service.results import analyse_file, trial_file
+def experiment_file(store: Store, experiment_id: int):
+    """The experiment and its trial's :class:`~trials.service.results.TrialFile`, read in
+    one transaction (one snapshot while tablets write)."""
+    from trials.service.results import TrialFile
+    from trials.store import answers as answer_rows
+    from trials.store import panel as panel_rows
+    from trials.store import plans as plan_rows
 
-    exp = get_experiment(store, experiment_id)
-    f = trial_file(store, exp.trial_id)
-    analysis = analyse_file(f)
+    with store.read() as tx:
+        exp = experiment_rows.get_experiment(tx, experiment_id)
+        f = TrialFile(
+            study=trial_rows.get_trial(tx, exp.trial_id),
+            plan=tuple(plan_rows.plan_entries(tx, exp.trial_id)),
+            responses=tuple(answer_rows.list_answers(tx, exp.trial_id)),
+            batches=tuple(batch_rows.list_batches(tx, exp.trial_id)),
+            roster=tuple(panel_rows.list_panelists(tx)), links={})
+    return exp, f
+
+
+def table_of(exp: Experiment, f, analysis) -> pd.DataFrame:
+    """The run table (see :func:`run_table`) of a snapshot and its trial analysis."""
     rows = []
     batches = {(b.sample_name, b.label): b for b in f.batches}
     for r in exp.runs:
@@ -290,18 +301,30 @@ def run_table(store: Store, experiment_id: int) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
-def responses_of(store: Store, experiment_id: int) -> list[tuple[str, str, str]]:
+def responses_in(exp: Experiment, f) -> list[tuple[str, str, str]]:
     """``(name, source, unit)`` of every response: the trial's attributes, then every
-    measured variable recorded on a run."""
-    exp = get_experiment(store, experiment_id)
-    with store.read() as tx:
-        trial = trial_rows.get_trial(tx, exp.trial_id)
-        batches = batch_rows.list_batches(tx, exp.trial_id)
-    out = [(a.name, "attribute", f"{a.low}-{a.high}") for a in trial.attributes]
-    seen = {n for n, _, _ in out} | {f.name for f in exp.factors}
-    for b in batches:
+    numeric measured variable recorded on a run."""
+    out = [(a.name, "attribute", f"{a.low}-{a.high}") for a in f.study.attributes]
+    seen = {n for n, _, _ in out} | {x.name for x in exp.factors}
+    for b in f.batches:
         for m in b.measures:
             if m.name not in seen and isinstance(m.value, float):
                 seen.add(m.name)
                 out.append((m.name, "measure", m.unit))
     return out
+
+
+def run_table(store: Store, experiment_id: int) -> pd.DataFrame:
+    """One row per run in run order: run, block, point, sample, batch, each factor's
+    actual setting (column = factor name), its coded value (``coded_<i>``), each
+    measured variable and each attribute's run mean (adjusted for panelists by the
+    rating model where it ran), and ``signed_off``."""
+    from trials.service.results import analyse_file
+
+    exp, f = experiment_file(store, experiment_id)
+    return table_of(exp, f, analyse_file(f))
+
+
+def responses_of(store: Store, experiment_id: int) -> list[tuple[str, str, str]]:
+    """``(name, source, unit)`` of every response (:func:`responses_in`)."""
+    return responses_in(*experiment_file(store, experiment_id))
