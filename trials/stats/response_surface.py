@@ -684,7 +684,7 @@ def desirability_optimum(
     Notes
     -----
     D is maximised by a grid search followed by bounded Nelder-Mead polishing (scipy)
-    from the best grid points; D is not smooth where a d reaches 0 or 1, so the grid
+    from the three best grid points; D is not smooth where a d reaches 0 or 1, so the grid
     matters. Assumes the fitted models hold inside the bounds (no extrapolation).
     """
     goals = [check_goal(g) for g in goals]
@@ -702,10 +702,16 @@ def desirability_optimum(
     axes = [np.linspace(a, b, per) for a, b in zip(lo, hi)]
     pts = np.array(list(product(*axes)))
     models = [fits[g.response] for g in goals]
+    shared = all(m.terms == models[0].terms for m in models)
+    betas = np.column_stack([np.asarray(m.beta) for m in models]) if shared else None
+
+    def predictions(p: np.ndarray) -> np.ndarray:
+        if betas is not None:  # one model matrix for every response
+            return model_matrix(p, list(models[0].terms)) @ betas
+        return np.column_stack([m.predict(p) for m in models])
 
     def score(p: np.ndarray) -> np.ndarray:
-        pred = np.column_stack([m.predict(p) for m in models])
-        return overall_desirability(goals, pred)
+        return overall_desirability(goals, predictions(p))
 
     def objective(v: np.ndarray) -> float:
         return -float(score(np.clip(v, lo, hi)[None, :])[0])
@@ -713,9 +719,9 @@ def desirability_optimum(
     D = score(pts)
     best = pts[int(np.argmax(D))]
     best_d = float(D.max())
-    for start in pts[np.argsort(-D)[:5]]:
+    for start in pts[np.argsort(-D)[:3]]:
         r = optimize.minimize(objective, start, method="Nelder-Mead", bounds=list(zip(lo, hi)),
-                              options={"xatol": 1e-6, "fatol": 1e-10, "maxiter": 4000})
+                              options={"xatol": 1e-6, "fatol": 1e-10, "maxiter": 400 * k})
         x = np.clip(r.x, lo, hi)
         val = -objective(x)
         if val > best_d:
