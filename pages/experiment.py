@@ -60,11 +60,11 @@ def _design_section() -> None:
                                      disabled=kind != "fractional-factorial")
         seed = c4.number_input("Seed of the run order", 0, 10**9, 1)
         allergens = st.text_input("The product's allergens", placeholder="gluten, milk")
+    res = int(resolution) if kind == "fractional-factorial" else None
     try:
         factors = _factors(frame)
         plan = service.design_experiment(kind, factors, center_points=int(centre),
-                                         blocks=int(blocks), resolution=int(resolution),
-                                         seed=int(seed))
+                                         blocks=int(blocks), resolution=res, seed=int(seed))
     except (TrialsError, ValueError) as exc:
         ui.show_problem(exc)
         return
@@ -85,7 +85,7 @@ def _design_section() -> None:
         try:
             exp = service.create_experiment(
                 store, name=name, kind=kind, factors=factors, center_points=int(centre),
-                blocks=int(blocks), resolution=int(resolution), seed=int(seed),
+                blocks=int(blocks), resolution=res, seed=int(seed),
                 allergens=allergens, by=ui.who())
         except TrialsError as exc:
             ui.show_problem(exc)
@@ -107,7 +107,8 @@ def _runs_section(exp) -> None:
     unsigned = service.unsigned_runs(store, exp.id)
     with st.expander("Food-safety sign-off", expanded=bool(unsigned)):
         if unsigned:
-            st.warning("Not signed off yet (do not serve): " + ", ".join(unsigned))
+            st.warning("Not signed off yet (do not serve): "
+                       + ", ".join(ui.literal(u) for u in unsigned))
         st.caption("Sign off only runs that were made and checked against your local food "
                    "code. Single batches are signed off on the Samples and batches screen.")
         signer = st.text_input("Signed off by", key="signer")

@@ -147,7 +147,19 @@ def test_the_run_sheet_and_the_report_carry_the_runs_and_the_food_code(store):
     text = " ".join(p.extract_text() for p in PdfReader(io.BytesIO(sheet.data)).pages)
     assert "local food code" in text and "safe range" in text
     assert "R01" in text and "sous chef" in text
-    html = service.report_html(store, exp.trial_id)
+    reads = []
+    original = store.read
+
+    def counted():
+        reads.append(1)
+        return original()
+
+    store.read = counted
+    try:
+        html = service.report_html(store, exp.trial_id)
+    finally:
+        store.read = original
+    assert len(reads) == 1  # the report reads one snapshot, experiment and all
     assert "Recipe experiment" in html and "Stationary point" in html
     assert "lack of fit" in html
 

@@ -236,16 +236,17 @@ def contour(analysis: ExperimentAnalysis, response: str, x_factor: str, y_factor
     return np.array([fx.actual(v) for v in xs]), np.array([fy.actual(v) for v in ys]), z
 
 
-def report_part(store: Store, trial_id: int) -> dict[str, Any] | None:
-    """For the report of an experiment's trial: its analysis, design label, aliases and
-    a contour grid (first two factors, 60 x 60) per fitted response; None for an
-    ordinary trial."""
-    from trials.service.experiments import experiment_design_of, experiment_of_trial
+def report_part(exp: Experiment, f, trial_analysis) -> dict[str, Any]:
+    """For the report of an experiment's trial (pure, from the report's snapshot): the
+    experiment's analysis, design label, aliases and a contour grid (first two factors,
+    60 x 60) per fitted response."""
+    from trials.service.experiments import experiment_design_of
 
-    exp = experiment_of_trial(store, trial_id)
-    if exp is None:
-        return None
-    analysis = analyse_experiment(store, exp.id)
+    table = table_of(exp, f, trial_analysis)
+    analysis = ExperimentAnalysis(
+        experiment=exp, table=tuple(table.to_dict("records")),
+        responses=tuple(analyse_frame(exp, table, responses_in(exp, f))), goals=(),
+        optimum=None, confirmation=None, bounds=tuple(safe_bounds(exp)))
     names = [f.name for f in exp.factors]
     contours = {}
     for r in analysis.responses:

@@ -264,20 +264,19 @@ def run_sheet(store: Store, experiment_id: int):
 def experiment_file(store: Store, experiment_id: int):
     """The experiment and its trial's :class:`~trials.service.results.TrialFile`, read in
     one transaction (one snapshot while tablets write)."""
-    from trials.service.results import TrialFile
-    from trials.store import answers as answer_rows
-    from trials.store import panel as panel_rows
-    from trials.store import plans as plan_rows
+    from trials.service.results import file_in
 
     with store.read() as tx:
         exp = experiment_rows.get_experiment(tx, experiment_id)
-        f = TrialFile(
-            study=trial_rows.get_trial(tx, exp.trial_id),
-            plan=tuple(plan_rows.plan_entries(tx, exp.trial_id)),
-            responses=tuple(answer_rows.list_answers(tx, exp.trial_id)),
-            batches=tuple(batch_rows.list_batches(tx, exp.trial_id)),
-            roster=tuple(panel_rows.list_panelists(tx)), links={})
-    return exp, f
+        return exp, file_in(tx, exp.trial_id)
+
+
+def trial_file_and_experiment(store: Store, trial_id: int):
+    """A trial's file and its experiment (None for an ordinary trial), in one snapshot."""
+    from trials.service.results import file_in
+
+    with store.read() as tx:
+        return file_in(tx, trial_id), experiment_rows.experiment_of_trial(tx, trial_id)
 
 
 def table_of(exp: Experiment, f, analysis) -> pd.DataFrame:
