@@ -190,7 +190,15 @@ def analyse_experiment(store: Store, experiment_id: int, *,
     table = table_of(exp, f, analyse_file(f))
     responses = responses_in(exp, f)
     analysed = analyse_frame(exp, table, responses)
-    clean = [g if isinstance(g, rsm.Goal) else rsm.Goal(**g) for g in goals]
+    try:
+        clean = [rsm.check_goal(g if isinstance(g, rsm.Goal) else rsm.Goal(**g)) for g in goals]
+    except TypeError as exc:
+        raise TrialsError(f"a goal names response, kind, low, high (and target): {exc}") from None
+    known = {name for name, _, _ in responses}
+    unknown = [g.response for g in clean if g.response not in known]
+    if unknown:
+        raise TrialsError(f"no response {', '.join(map(repr, unknown))} in this experiment; "
+                          f"its responses: {', '.join(map(repr, sorted(known))) or 'none yet'}")
     bounds = safe_bounds(exp)
     optimum = confirmation = None
     note = ""

@@ -72,6 +72,8 @@ def design_experiment(kind: str, factors: Sequence[Any], *, center_points: int =
                       seed: int | None = None) -> design.ExperimentDesign:
     """The design, not stored (a preview): see :func:`trials.design.experiment.
     experiment_design`. Runs outside a declared safe range are refused."""
+    if seed is not None and not 0 <= int(seed) <= 2**31 - 1:
+        raise TrialsError(f"the seed is a whole number from 0 to {2**31 - 1}, got {seed}")
     return design.experiment_design(
         kind, [_factor(f) for f in factors], center_points=center_points, blocks=blocks,
         resolution=resolution, generators=generators or None, rng=seed)
