@@ -237,16 +237,19 @@ def _two_level(kind: str, k: int, resolution: int | None,
     res = 3 if resolution is None else int(resolution)
     if res < 3:
         raise TrialsError(f"a fractional factorial needs resolution 3 or more, got {res}")
+    # the half fraction whose last factor is the product of the others has resolution k
+    # (BH&H 2005, section 6.2); fracfact_by_res does not offer every fraction
+    half = (np.asarray(pyDOE3.fracfact(" ".join([*_letters(k - 1), _word(
+        tuple(range(k - 1)))]).lower()), dtype=float) if k >= res else None)
     try:
-        return np.asarray(pyDOE3.fracfact_by_res(k, res), dtype=float)
+        found = np.asarray(pyDOE3.fracfact_by_res(k, res), dtype=float)
     except ValueError:
-        pass
-    if k >= res:
-        # the half fraction whose last factor is the product of the others has
-        # resolution k (BH&H 2005, section 6.2); fracfact_by_res does not offer every one
-        return np.asarray(pyDOE3.fracfact(" ".join([*_letters(k - 1), _word(
-            tuple(range(k - 1)))]).lower()), dtype=float)
-    raise TrialsError(f"no two-level fraction of {k} factors has resolution {res}")
+        found = None
+    if found is None and half is None:
+        raise TrialsError(f"no two-level fraction of {k} factors has resolution {res}")
+    if found is None or (half is not None and len(half) <= len(found)):
+        return half  # as few runs, and a higher resolution
+    return found
 
 
 def _block_column(m: np.ndarray, words: list[tuple[str, int]],
@@ -296,8 +299,9 @@ def experiment_design(
         block 1 and the axial points in block 2, with the centre points split.
     resolution : int, optional
         For a fractional factorial, the resolution asked of ``fracfact_by_res`` (3 by
-        default): the smallest fraction of that resolution, or the half fraction
-        ``k - 1`` factors and their product where ``fracfact_by_res`` has none.
+        default): the smallest fraction of that resolution from ``fracfact_by_res``;
+        where the half fraction (the last factor the product of the others, resolution
+        k) has as few runs, or ``fracfact_by_res`` has none, the half fraction.
     generators : str, optional
         For a fractional factorial, the ``fracfact`` generator words instead (e.g.
         ``"a b c abc"``); the resolution is then computed from them.
