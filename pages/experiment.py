@@ -155,9 +155,13 @@ def _runs_section(exp) -> None:
 
 def _effects_chart(effects) -> None:
     pts = effects.half_normal()
+    active = set(effects.lenth.active)
+    # only the effects past Lenth's margin are named, so the labels stay legible
     fig = go.Figure(go.Scatter(x=pts["quantile"], y=pts["abs_effect"], mode="markers+text",
-                               text=[ui.chart_text(t) for t in pts["term"]],
-                               textposition="middle right"))
+                               text=[ui.chart_text(t) if t in active else ""
+                                     for t in pts["term"]],
+                               hovertext=[ui.chart_text(t) for t in pts["term"]],
+                               textposition="middle left"))
     if effects.lenth.pse == effects.lenth.pse:  # not NaN
         fig.add_hline(y=effects.lenth.me, line_dash="dot",
                       annotation_text="Lenth margin of error")
@@ -219,9 +223,13 @@ def _results_section(exp) -> None:
         c1, c2 = st.columns(2)
         with c1:
             st.dataframe(ra.effects.to_frame(), width="stretch")
+            source = ra.effects.se_source
             st.caption(f"Lenth's PSE = {ra.effects.lenth.pse:.3g}, margin of error "
-                       f"{ra.effects.lenth.me:.3g} (Lenth 1989); error from "
-                       f"{ui.literal(ra.effects.se_source)}")
+                       f"{ra.effects.lenth.me:.3g}, simultaneous {ra.effects.lenth.sme:.3g} "
+                       "(Lenth 1989). " + ("No error estimate (unreplicated): judge the "
+                                           "effects by Lenth's margin and the plot."
+                                           if source == "none" else
+                                           f"Standard errors from the {source}."))
         with c2:
             _effects_chart(ra.effects)
     c1, c2 = st.columns(2)
