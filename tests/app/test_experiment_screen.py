@@ -7,9 +7,9 @@ from __future__ import annotations
 import datetime as dt
 
 import pytest
-from conftest import by_label, page_test, page_text
 
-from trials import service
+from tests.app.conftest import by_label, page_test, page_text
+from trials import service, ui
 
 FACTORS = [
     {"name": "proof time", "unit": "min", "low": 40, "high": 60, "safe_low": 30,
@@ -63,3 +63,26 @@ def test_results_show_each_response_and_the_contours(app_db):
     assert "Goals for the joint optimum" in text
     assert "quadratic model" in text and "Stationary point" in text
     assert len(at.get("plotly_chart")) == 1
+
+
+def test_factor_and_measure_names_with_markup_are_shown_as_typed(app_db):
+    from tests.app.test_literal_text import _chart_strings, _check
+    from tests.nasty_names import nasty
+
+    store = service.open_store(app_db)
+    factors = [dict(FACTORS[0], name=nasty("proof")), dict(FACTORS[1], name=nasty("salt"))]
+    exp = service.create_experiment(store, name=nasty("Roll"), kind="ccd-face",
+                                    factors=factors, center_points=3, seed=2)
+    for r in exp.runs:
+        x1, x2 = r.coded
+        service.record_run_measures(store, exp.id, r.run,
+                                    [(nasty("yield"), 92 - x1 - x2 * x2 + 0.1 * (r.run % 2),
+                                      "%")])
+    at = page_test("experiment").run()
+    texts = _check(at)  # no live markup anywhere on the screen
+    assert any(nasty("proof") in t for t in texts)
+    at.segmented_control[0].set_value("Results").run()
+    texts = _check(at)
+    assert any(nasty("salt") in t for t in texts)
+    charts = _chart_strings(at)
+    assert ui.chart_text(nasty("proof")) in charts  # the contour's axis, escaped for plotly

@@ -96,9 +96,10 @@ def test_half_normal_quantiles_follow_daniel():
     assert np.allclose(pts["quantile"], [0.2104, 0.6745, 1.3830], atol=1e-4)
 
 
-# NIST/SEMATECH e-Handbook of Statistical Methods, section 5.6.2, the eddy current probe
-# sensitivity case study: a 2^3 full factorial (number of turns, winding distance, wire
-# gauge), responses in standard order and the effects (from memory).
+# NIST/SEMATECH e-Handbook of Statistical Methods, chapter 5.6 (DOE case studies), the
+# eddy current probe sensitivity case study: a 2^3 full factorial (number of turns,
+# winding distance, wire gauge), responses in standard order, the mean and the effects
+# (all from memory, section number included; every effect is also checked by lstsq).
 EDDY = [1.70, 4.57, 0.55, 3.39, 1.51, 4.59, 0.67, 4.29]
 
 

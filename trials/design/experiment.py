@@ -245,10 +245,10 @@ def _two_level(kind: str, k: int, resolution: int | None,
         found = np.asarray(pyDOE3.fracfact_by_res(k, res), dtype=float)
     except ValueError:
         found = None
-    if found is None and half is None:
-        raise TrialsError(f"no two-level fraction of {k} factors has resolution {res}")
-    if found is None or (half is not None and len(half) <= len(found)):
+    if half is not None and (found is None or len(half) <= len(found)):
         return half  # as few runs, and a higher resolution
+    if found is None:
+        raise TrialsError(f"no two-level fraction of {k} factors has resolution {res}")
     return found
 
 
