@@ -9,22 +9,22 @@ is written to the audit log with who made it.
 The use cases live in cohesive modules, re-exported here so that screens and the
 command line need one import (``from trials import service``):
 
-=================  =================================================================
-module             holds
-=================  =================================================================
-``trials``         a trial, its samples and attributes, status, decision, overview
-``batches``        test batches: settings, measured variables, sign-off, imports
-``panel``          the roster: panelist codes, allergens, consent
-``serving``        the serving plan, allergen conflicts, balance, tasting links
-``tasting``        the ballot behind a link, recording answers, progress, audit
-``answer_files``   response files in and out, the paper-entry grid
-``archive``        whole-trial archives
-``results``        analysis and decision from one snapshot, planning, power
-``documents``      ballots, serving sheet, labels, report
-``history``        the trials on file, searched; the control across trials
-``experiments``    recipe experiments: designed runs as batches of a rating trial
+======================  =================================================================
+module                  holds
+======================  =================================================================
+``trials``              a trial, its samples and attributes, status, decision, overview
+``batches``             test batches: settings, measured variables, sign-off, imports
+``panel``               the roster: panelist codes, allergens, consent
+``serving``             the serving plan, allergen conflicts, balance, tasting links
+``tasting``             the ballot behind a link, recording answers, progress, audit
+``answer_files``        response files in and out, the paper-entry grid
+``archive``             whole-trial archives
+``results``             analysis and decision from one snapshot, planning, power
+``documents``           ballots, serving sheet, labels, report
+``history``             the trials on file, searched; the control across trials
+``experiments``         recipe experiments: designed runs as batches of a rating trial
 ``experiment_results``  an experiment's effects, surfaces, contours and optimum
-=================  =================================================================
+======================  =================================================================
 
 Only :mod:`trials.store` touches the database; the answer checks are pure
 (:mod:`trials.answers`).
