@@ -329,6 +329,72 @@ def _app(args: argparse.Namespace) -> dict[str, Any]:
     return {"exit": 1}  # not reached
 
 
+# ---------------------------------------------------------------- recipe experiments
+
+
+def _factor_arg(text: str) -> dict[str, Any]:
+    """``NAME:UNIT:LOW:HIGH[:SAFE_LOW:SAFE_HIGH]``; LOW may list levels (``40,50,60``,
+    then HIGH is left empty)."""
+    parts = text.split(":")
+    if len(parts) not in (4, 6):
+        raise TrialsError(f"--factor {text!r}: expected NAME:UNIT:LOW:HIGH or "
+                          "NAME:UNIT:LOW:HIGH:SAFE_LOW:SAFE_HIGH")
+    try:
+        nums = [float(p) if p.strip() else None for p in parts[3:]]
+        levels = [float(v) for v in parts[2].split(",")] if "," in parts[2] else []
+        low = None if levels else float(parts[2])
+    except ValueError:
+        raise TrialsError(f"--factor {text!r}: low, high and the safe range are numbers") from None
+    out: dict[str, Any] = {"name": parts[0], "unit": parts[1], "low": low, "high": nums[0],
+                           "levels": levels}
+    if len(nums) == 3:
+        out["safe_low"], out["safe_high"] = nums[1], nums[2]
+    return out
+
+
+def _goal_arg(text: str) -> dict[str, Any]:
+    """``RESPONSE:KIND:LOW:HIGH[:TARGET]``, e.g. ``overall liking:maximize:7:9``."""
+    parts = text.split(":")
+    if len(parts) not in (4, 5):
+        raise TrialsError(f"--goal {text!r}: expected RESPONSE:KIND:LOW:HIGH[:TARGET]")
+    try:
+        nums = [float(p) for p in parts[2:]]
+    except ValueError:
+        raise TrialsError(f"--goal {text!r}: low, high and target are numbers") from None
+    return {"response": parts[0], "kind": parts[1], "low": nums[0], "high": nums[1],
+            "target": nums[2] if len(nums) == 3 else None}
+
+
+def _experiment_design(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    factors = [_factor_arg(f) for f in args.factor]
+    options = dict(center_points=args.center, blocks=args.blocks, resolution=args.resolution,
+                   generators=args.generators, seed=args.seed)
+    plan = service.design_experiment(args.kind, factors, **options)
+    out = plan.to_dict()
+    out["label"] = plan.label
+    out["caution"] = service.FOOD_CODE_CAUTION
+    if args.save:
+        store = _store(args)
+        exp = service.create_experiment(store, name=args.save, kind=args.kind, factors=factors,
+                                        allergens=args.allergens or "", **options)
+        out["experiment"], out["trial"] = exp.id, exp.trial_id
+        out["runs"] = [r.to_dict() for r in exp.runs]
+    return out
+
+
+def _experiment_analyze(args: argparse.Namespace) -> dict[str, Any]:
+    from trials import service
+
+    analysis = service.analyse_experiment(_store(args), args.id,
+                                          goals=[_goal_arg(g) for g in args.goal])
+    out = analysis.to_dict()
+    out.pop("table")
+    out["runs"] = analysis.frame().to_dict("records")
+    return out
+
+
 # ---------------------------------------------------------------- the parser
 
 
@@ -505,6 +571,29 @@ def build_parser() -> argparse.ArgumentParser:
     p = _leaf(sub, "report", _report, "write the trial's report as HTML", db=True)
     _add_trial(p)
     p.add_argument("--out", required=True)
+
+    from trials.design.experiment import KINDS
+
+    expt = sub.add_parser("experiment", help="recipe experiments over process settings")
+    xsub = expt.add_subparsers(dest="experiment_cmd", required=True, metavar="ACTION")
+    p = _leaf(xsub, "design", _experiment_design, "design runs (store them with --save)",
+              db=True)
+    p.add_argument("--kind", required=True, choices=KINDS)
+    p.add_argument("--factor", action="append", required=True,
+                   help="NAME:UNIT:LOW:HIGH[:SAFE_LOW:SAFE_HIGH] (LOW may be levels 40,50,60)")
+    p.add_argument("--center", type=_count, default=0, help="centre points")
+    p.add_argument("--blocks", type=_count, default=1)
+    p.add_argument("--resolution", type=_count, default=None)
+    p.add_argument("--generators", default=None, help="fracfact words, e.g. 'a b c abc'")
+    p.add_argument("--save", default=None, metavar="NAME",
+                   help="store the experiment and its rating trial under this name")
+    p.add_argument("--allergens", default=None, help="the product's allergens, comma-separated")
+    _add_seed(p)
+    p = _leaf(xsub, "analyze", _experiment_analyze, "effects, surfaces and the optimum",
+              db=True)
+    p.add_argument("id", type=_count)
+    p.add_argument("--goal", action="append", default=[],
+                   help="RESPONSE:KIND:LOW:HIGH[:TARGET], KIND maximize, minimize or target")
 
     _leaf(sub, "demo", _demo, "seed the invented demo trials", db=True)
 

@@ -22,6 +22,11 @@ every time:
    directions separate the loaves (wholegrain/rye against white; sour, chewy and crisp
    sourdough); saltiness has no sample effect (one salt level). Panelist P05 uses a
    narrow range of the scale and P09 reverses sourness, for the panel performance view.
+6. *Bread roll: proof time x salt x oven temperature* -- a recipe experiment, a
+   face-centred central composite design with 3 centre points (17 runs), each run a
+   signed-off batch; 16 panelists taste 6 runs each (incomplete blocks). Liking follows
+   an invented second-order surface with its peak inside the region; each run's yield
+   (%) and core temperature (°C) are recorded.
 
 ``seed(store)`` adds what is missing and returns the demo trials' ids; running it again
 adds nothing. ``python -m trials.demo FOLDER`` writes the demo's CSV files (see
@@ -49,7 +54,15 @@ COATINGS = "Fried chicken: four coatings"
 SOUP = "Chilled tomato soup: roasted vs fresh tomatoes"
 CRUMB = "Fried chicken: house dredge vs panko crumb"
 LOAF = "Sandwich loaf: four flour blends"
-NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB, LOAF)
+ROLLS = "Bread roll: proof time x salt x oven temperature"
+NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB, LOAF, ROLLS)
+ROLL_FACTORS = (
+    {"name": "proof time", "unit": "min", "low": 40, "high": 60, "safe_low": 30,
+     "safe_high": 90},
+    {"name": "salt", "unit": "%", "low": 1.4, "high": 2.0, "safe_low": 1.0, "safe_high": 2.4},
+    {"name": "oven temperature", "unit": "°C", "low": 200, "high": 230, "safe_low": 190,
+     "safe_high": 240},
+)
 
 HEDONIC_9 = (
     "Dislike extremely", "Dislike very much", "Dislike moderately", "Dislike slightly",
@@ -381,6 +394,39 @@ def _loaf(store) -> int:
                 dt.datetime(2026, 6, day, 10, 0))
     service.set_status(store, study.id, Status.ANALYSED, by=BY)
     return study.id
+def _rolls(store) -> int:
+    """The recipe experiment: designed runs, signed off, tasted in incomplete blocks."""
+    exp = service.create_experiment(
+        store, name=ROLLS, kind="ccd-face", factors=list(ROLL_FACTORS), center_points=3,
+        seed=310, product="white bread roll", allergens=("gluten",),
+        attributes=[Attribute("overall liking", AttributeKind.HEDONIC, 1, 9, HEDONIC_9)],
+        objective="Which proof time, salt and oven temperature give the best liking "
+                  "without losing yield?", created_on=dt.date(2026, 3, 10), by=BY)
+    rng = np.random.default_rng(310)
+    for r in exp.runs:
+        x1, x2, x3 = r.coded
+        service.record_run_measures(store, exp.id, r.run, [
+            ("yield", round(93.0 - 1.1 * x3 - 0.4 * x1 - 0.5 * x3 ** 2
+                            + rng.normal(0, 0.25), 1), "%"),
+            ("core temperature", round(96.0 + 1.5 * x3 + rng.normal(0, 0.4), 1), "°C"),
+        ], by=BY)
+    service.sign_off_runs(store, exp.id, by="Sous chef (food safety)", on=dt.date(2026, 3, 11))
+    samples = service.get_trial(store, exp.trial_id).samples
+    codes = _eligible(samples, 16)
+    entries = service.plan_experiment_tasting(store, exp.id, panelist_codes=codes,
+                                              per_panelist=6, seed=311, by=BY)
+    coded = {r.sample_name: r.coded for r in exp.runs}
+    panel = {c: rng.normal(0, 0.6) for c in codes}
+    rows = []
+    for e in sorted(entries, key=lambda e: (e.panelist_code, e.position)):
+        x1, x2, x3 = coded[e.sample_name]
+        mu = (6.6 + 0.5 * x1 - 0.2 * x2 + 0.3 * x3 - 0.7 * x1 ** 2 - 0.9 * x2 ** 2
+              - 0.6 * x3 ** 2 + 0.25 * x1 * x3)
+        score = int(np.clip(np.rint(mu + panel[e.panelist_code] + rng.normal(0, 0.7)), 1, 9))
+        rows.append({"session": e.session, "panelist": e.panelist_code, "code": e.code,
+                     "attribute": "overall liking", "value": str(score)})
+    _import(store, exp.trial_id, rows, dt.datetime(2026, 3, 11, 11, 0))
+    return exp.trial_id
 
 
 def seed(store) -> list[int]:
@@ -388,7 +434,7 @@ def seed(store) -> list[int]:
     _roster(store)
     ids = []
     for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup),
-                       (CRUMB, _crumb), (LOAF, _loaf)):
+                       (CRUMB, _crumb), (LOAF, _loaf), (ROLLS, _rolls)):
         found = _exists(store, name)
         ids.append(found if found is not None else make(store))
     return ids

@@ -335,3 +335,55 @@ class PanelChoice(Record):
     conflicted: tuple[str, ...]
     planned: tuple[str, ...]
     suggested: tuple[str, ...]
+
+
+# ---------------------------------------------------------------- recipe experiments
+
+
+@dataclass(frozen=True, slots=True)
+class ExperimentFactor(Record):
+    """A process setting an experiment varies: ``low``/``high`` are coded -1/+1,
+    ``levels`` the only settings the kitchen can make (empty: any), ``safe_low``..
+    ``safe_high`` the range the kitchen declares safe to serve."""
+
+    name: str
+    unit: str
+    low: float
+    high: float
+    safe_low: float
+    safe_high: float
+    levels: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class ExperimentRun(Record):
+    """One run of an experiment, made as the batch ``batch_label`` of the trial's sample
+    ``sample_name``; ``settings`` are the actual settings in the factors' order."""
+
+    run: int
+    std_order: int
+    block: int
+    point: str
+    coded: tuple[float, ...]
+    settings: tuple[float, ...]
+    sample_name: str
+    batch_label: str
+
+
+@dataclass(frozen=True, slots=True)
+class Experiment(Record):
+    """A recipe experiment: a design over factors, tasted as the rating trial
+    ``trial_id`` whose samples are its runs."""
+
+    id: int
+    trial_id: int
+    name: str
+    kind: str
+    seed: int | None
+    center_points: int
+    blocks: int
+    resolution: int | None
+    generators: str
+    factors: tuple[ExperimentFactor, ...]
+    runs: tuple[ExperimentRun, ...]
+    created_on: dt.date | None = None

@@ -34,6 +34,7 @@ LEADER_PAGES: tuple[tuple[str, str, str], ...] = (
     ("printing", "Printing", ":material/print:"),
     ("entry", "Paper entry", ":material/edit_note:"),
     ("results", "Results", ":material/monitoring:"),
+    ("experiment", "Recipe experiments", ":material/experiment:"),
     ("decision", "Decision and report", ":material/gavel:"),
     ("history", "History", ":material/manage_search:"),
 )

@@ -145,7 +145,8 @@ def test_every_leader_screen_shows_entered_names_as_typed(nasty_trial, name):
     at = page_test(name)
     at.query_params["study"] = str(trial_id)
     texts = _check(at.run())
-    if name != "home" and name != "panel" and name != "history":
+    # the experiments screen works on experiments, not on the trial in hand
+    if name not in ("home", "panel", "history", "experiment"):
         assert any(NAME in t for t in texts), "the trial's name is shown, escaped"
 
 

@@ -104,7 +104,8 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         versions = conn.execute(
             sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
-                                            (3, "study.aim"), (4, "study.target_sample")]
+                                            (3, "study.aim"), (4, "study.target_sample"),
+                                            (5, "experiment, experiment_factor, experiment_run")]
     study = service.get_trial(store, 1)
     assert (study.name, study.objective, study.product, study.aim, study.target_sample) == (
         "Old trial", "kept from v1", "", "", "")
@@ -117,7 +118,10 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:
-        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 4
+        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 5
+        # version 5's tables exist on the upgraded file
+        names = set(sa.inspect(conn).get_table_names())
+        assert {"experiment", "experiment_factor", "experiment_run"} <= names
     again.close()
 
 

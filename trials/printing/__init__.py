@@ -8,6 +8,7 @@ it never touches the database and never imports streamlit. Every function return
 from trials.printing.ballots import ballots_pdf
 from trials.printing.labels import A4_3X7, A4_3X8, LETTER_3X10, PRESETS, LabelLayout, labels_pdf
 from trials.printing.layout import PrintResult
+from trials.printing.run_sheet import run_sheet_pdf
 from trials.printing.sheet import serving_sheet_pdf
 from trials.printing.tables import critical_table_pdf
 
@@ -21,5 +22,6 @@ __all__ = [
     "ballots_pdf",
     "critical_table_pdf",
     "labels_pdf",
+    "run_sheet_pdf",
     "serving_sheet_pdf",
 ]

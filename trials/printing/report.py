@@ -474,7 +474,8 @@ def _prepared(study: Trial, analysis: TrialAnalysis,
 def report_html(study: Trial, analysis: TrialAnalysis, *,
                 plan: Sequence[PlanEntry] = (), responses: Sequence[Answer] = (),
                 batches: Sequence[Batch] = (), decision_text: Decision | str | None = None,
-                generated_on: dt.date | None = None, profile: Any = None) -> str:
+                generated_on: dt.date | None = None, profile: Any = None,
+                experiment: Any = None) -> str:
     """The trial's report as one self-contained HTML document.
 
     Parameters
@@ -492,6 +493,10 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
     profile : trials.stats.profile.DescriptiveProfile, optional
         A rating trial's descriptive profile (three or more intensity attributes),
         printed after the attributes (:mod:`trials.printing.profile`).
+    experiment : dict, optional
+        For the trial of a recipe experiment: the keyword arguments of
+        :func:`trials.printing.experiment_report.experiment_html` (its analysis, label,
+        aliases and contour grids), made by the service.
 
     Returns
     -------
@@ -536,6 +541,11 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
     if analysis.problems:
         body.append("<h3>Answers left out</h3><ul class=\"problems\">"
                     + "".join(f"<li>{e(p)}</li>" for p in analysis.problems) + "</ul>")
+    if experiment is not None:
+        from trials.printing.experiment_report import experiment_html
+
+        body.append("<h2>Recipe experiment</h2>"
+                    + experiment_html(**experiment, chart_html=charts.html))
     body.append("<h2>Batches and measured variables</h2>")
     body.append(_measures_section(analysis, batches, charts))
     body.append("<h2>Food safety</h2>" + f'<p class="caution">{e(CAUTION)}</p>')

@@ -9,7 +9,6 @@ is written to the audit log with who made it.
 The use cases live in cohesive modules, re-exported here so that screens and the
 command line need one import (``from trials import service``):
 
-=================  =================================================================
 module             holds
 =================  =================================================================
 ``trials``         a trial, its samples and attributes, status, decision, overview
@@ -24,6 +23,24 @@ module             holds
 ``documents``      ballots, serving sheet, labels, report
 ``history``        the trials on file, searched; the control across trials
 =================  =================================================================
+=======
+======================  =================================================================
+module                  holds
+======================  =================================================================
+``trials``              a trial, its samples and attributes, status, decision, overview
+``batches``             test batches: settings, measured variables, sign-off, imports
+``panel``               the roster: panelist codes, allergens, consent
+``serving``             the serving plan, allergen conflicts, balance, tasting links
+``tasting``             the ballot behind a link, recording answers, progress, audit
+``answer_files``        response files in and out, the paper-entry grid
+``archive``             whole-trial archives
+``results``             analysis and decision from one snapshot, planning, power
+``profiles``            descriptive profiles (map, MANOVA, spider chart); rating power
+``documents``           ballots, serving sheet, labels, report
+``history``             the trials on file, searched; the control across trials
+``experiments``         recipe experiments: designed runs as batches of a rating trial
+``experiment_results``  an experiment's effects, surfaces, contours and optimum
+======================  =================================================================
 
 Only :mod:`trials.store` touches the database; the answer checks are pure
 (:mod:`trials.answers`).
@@ -64,6 +81,33 @@ from trials.service.documents import (
     report_html,
     report_pdf,
     write_report,
+)
+from trials.service.experiment_results import (
+    GOALS,
+    MAXIMIZE,
+    ExperimentAnalysis,
+    ResponseAnalysis,
+    analyse_experiment,
+    contour,
+)
+from trials.service.experiments import (
+    FOOD_CODE_CAUTION,
+    KIND_LABELS,
+    KINDS,
+    TWO_LEVEL,
+    create_experiment,
+    design_experiment,
+    experiment_design_of,
+    experiment_of_trial,
+    get_experiment,
+    list_experiments,
+    plan_experiment_tasting,
+    record_run_measures,
+    responses_of,
+    run_sheet,
+    run_table,
+    sign_off_runs,
+    unsigned_runs,
 )
 from trials.service.history import control_names, control_trend, history
 from trials.service.panel import (
@@ -125,10 +169,14 @@ from trials.store import Store, open_store
 from trials.store.plans import TASTE_PATH
 
 __all__ = [
-    "NO_PREFERENCE", "TASTE_PATH",
+    "FOOD_CODE_CAUTION", "GOALS", "KINDS", "KIND_LABELS", "MAXIMIZE", "NO_PREFERENCE",
+    "TASTE_PATH", "TWO_LEVEL", "responses_of",
+    "ExperimentAnalysis", "ResponseAnalysis", "analyse_experiment", "contour",
+    "create_experiment", "design_experiment", "experiment_design_of", "experiment_of_trial",
+    "get_experiment", "list_experiments", "plan_experiment_tasting", "record_run_measures",
+    "run_sheet", "run_table", "sign_off_runs", "unsigned_runs",
     "AnswerImport", "AuditEntry", "BallotAnswer", "BallotSet", "PanelError", "PanelistBallot",
-    "Store",
-    "TrialOverview", "TrialSummary",
+    "Store", "TrialOverview", "TrialSummary",
     "add_attribute", "add_batch", "add_panelist", "add_sample", "allergen_conflicts",
     "analyse_trial", "answer_progress", "audit_log", "ballot_for_token", "change_stamp",
     "check_paper_sheet", "control_names", "control_trend", "create_trial",

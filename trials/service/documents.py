@@ -61,14 +61,20 @@ def print_document(store: Store, trial_id: int, kind: str, path: Path, *,
 def _report(store: Store, trial_id: int, build):
     """One snapshot, one analysis, one decision, and the document ``build`` makes."""
     from trials.decision import decide
+    from trials.service.experiments import trial_file_and_experiment
     from trials.service.profiles import profile_of_file
 
-    f = trial_file(store, trial_id)
+    f, experiment = trial_file_and_experiment(store, trial_id)
     analysis = analyse_file(f)
     decision = decide(analysis, study=f.study)
+    extra = {}
+    if experiment is not None and build.__name__ == "report_html":
+        from trials.service.experiment_results import report_part
+
+        extra["experiment"] = report_part(experiment, f, analysis)
     doc = build(f.study, analysis, plan=list(f.plan), responses=list(f.responses),
                 batches=list(f.batches), decision_text=decision,
-                profile=profile_of_file(f) if analysis.has_answers else None)
+                profile=profile_of_file(f) if analysis.has_answers else None, **extra)
     return doc, decision
 
 

@@ -34,17 +34,22 @@ class TrialFile:
     links: dict[str, str]
 
 
+def file_in(tx, trial_id: int) -> TrialFile:
+    """The trial's :class:`TrialFile` within an open read transaction."""
+    return TrialFile(
+        study=trial_rows.get_trial(tx, trial_id),
+        plan=tuple(plan_rows.plan_entries(tx, trial_id)),
+        responses=tuple(answer_rows.list_answers(tx, trial_id)),
+        batches=tuple(batch_rows.list_batches(tx, trial_id)),
+        roster=tuple(panel_rows.list_panelists(tx)),
+        links=plan_rows.links(tx, trial_id),
+    )
+
+
 def trial_file(store: Store, trial_id: int) -> TrialFile:
     """The trial's :class:`TrialFile`."""
     with store.read() as tx:
-        return TrialFile(
-            study=trial_rows.get_trial(tx, trial_id),
-            plan=tuple(plan_rows.plan_entries(tx, trial_id)),
-            responses=tuple(answer_rows.list_answers(tx, trial_id)),
-            batches=tuple(batch_rows.list_batches(tx, trial_id)),
-            roster=tuple(panel_rows.list_panelists(tx)),
-            links=plan_rows.links(tx, trial_id),
-        )
+        return file_in(tx, trial_id)
 
 
 def analyse_file(f: TrialFile):

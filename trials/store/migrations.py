@@ -13,7 +13,9 @@ Versions:
    answers (empty: read from the objective's wording, see ``trials.analysis``);
 4. ``study.target_sample``: the sample a target-by-role method (2-AFC, 3-AFC) expects
    to be stronger in the attribute, chosen at set-up (empty for other methods, and for
-   trials set up before version 4: their analysis reads the target from the plan's roles).
+   trials set up before version 4: their analysis reads the target from the plan's roles);
+5. ``experiment``, ``experiment_factor``, ``experiment_run``: recipe experiments, each
+   tasted as one rating trial whose samples and batches are its runs.
 
 To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
 change the mapping in ``schema.py`` to match, and keep the test that upgrades a
@@ -45,13 +47,21 @@ def _v4_study_target_sample(conn: Connection) -> None:
         "ALTER TABLE study ADD COLUMN target_sample VARCHAR(200) NOT NULL DEFAULT ''"))
 
 
+def _v5_experiments(conn: Connection) -> None:
+    # new tables only: created from the mapping, which both dialects accept
+    tables = [Base.metadata.tables[name]
+              for name in ("experiment", "experiment_factor", "experiment_run")]
+    Base.metadata.create_all(conn, tables=tables)
+
+
 # version reached -> (step, note); the step upgrades from version - 1
 STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
     2: (_v2_study_product, "study.product"),
     3: (_v3_study_aim, "study.aim"),
     4: (_v4_study_target_sample, "study.target_sample"),
+    5: (_v5_experiments, "experiment, experiment_factor, experiment_run"),
 }
-LATEST = 4
+LATEST = 5
 
 
 def current_version(conn: Connection) -> int | None:

@@ -238,3 +238,67 @@ class AuditRow(Base):
     field: Mapped[str] = mapped_column(String(200), default="")
     old_value: Mapped[str | None] = mapped_column(Text, nullable=True)
     new_value: Mapped[str | None] = mapped_column(Text, nullable=True)
+
+
+class ExperimentRow(Base):
+    """A recipe experiment: a designed set of runs over process settings, tasted as the
+    rating trial ``study_id`` (one sample and one batch per run). Schema version 5."""
+
+    __tablename__ = "experiment"
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    study_id: Mapped[int] = mapped_column(
+        ForeignKey("study.id", ondelete="CASCADE"), unique=True)
+    name: Mapped[str] = mapped_column(String(200))
+    kind: Mapped[str] = mapped_column(String(40))
+    seed: Mapped[int | None] = mapped_column(Integer, nullable=True)
+    center_points: Mapped[int] = mapped_column(Integer, default=0)
+    blocks: Mapped[int] = mapped_column(Integer, default=1)
+    resolution: Mapped[int | None] = mapped_column(Integer, nullable=True)
+    generators: Mapped[str] = mapped_column(String(100), default="")
+    created_on: Mapped[dt.date | None] = mapped_column(Date, nullable=True)
+
+    factors: Mapped[list[ExperimentFactorRow]] = relationship(
+        cascade="all, delete-orphan", order_by="ExperimentFactorRow.position")
+    runs: Mapped[list[ExperimentRunRow]] = relationship(
+        cascade="all, delete-orphan", order_by="ExperimentRunRow.run_order")
+
+
+class ExperimentFactorRow(Base):
+    """A factor of an experiment: unit, low/high (coded -1/+1), declared levels (JSON,
+    may be empty) and the kitchen's declared safe range."""
+
+    __tablename__ = "experiment_factor"
+    __table_args__ = (UniqueConstraint("experiment_id", "name", name="uq_factor_name"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    experiment_id: Mapped[int] = mapped_column(
+        ForeignKey("experiment.id", ondelete="CASCADE"), index=True)
+    position: Mapped[int] = mapped_column(Integer, default=0)
+    name: Mapped[str] = mapped_column(String(200))
+    unit: Mapped[str] = mapped_column(String(40), default="")
+    low: Mapped[float] = mapped_column(Float)
+    high: Mapped[float] = mapped_column(Float)
+    safe_low: Mapped[float] = mapped_column(Float)
+    safe_high: Mapped[float] = mapped_column(Float)
+    levels: Mapped[str] = mapped_column(Text, default="[]")
+
+
+class ExperimentRunRow(Base):
+    """One run: its place in the random order and the design, its block, its coded
+    settings (JSON) and the sample and batch it was made as."""
+
+    __tablename__ = "experiment_run"
+    __table_args__ = (UniqueConstraint("experiment_id", "run_order", name="uq_run_order"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    experiment_id: Mapped[int] = mapped_column(
+        ForeignKey("experiment.id", ondelete="CASCADE"), index=True)
+    run_order: Mapped[int] = mapped_column(Integer)
+    std_order: Mapped[int] = mapped_column(Integer)
+    block: Mapped[int] = mapped_column(Integer, default=1)
+    point: Mapped[str] = mapped_column(String(20), default="")
+    coded: Mapped[str] = mapped_column(Text, default="[]")
+    sample_id: Mapped[int] = mapped_column(ForeignKey("sample.id", ondelete="CASCADE"))
+    batch_id: Mapped[int | None] = mapped_column(
+        ForeignKey("batch.id", ondelete="SET NULL"), nullable=True)
