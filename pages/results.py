@@ -66,13 +66,17 @@ if result.choice is not None:
             e1.metric("Proportion correct", f"{diff.pc:.2f}")
             e2.metric("pd (discriminators)", f"{diff.pd:.2f}",
                       help=f"{diff.level:.0%} interval {_interval(diff.pd_ci)}")
-            e3.metric("d'", f"{diff.dprime:.2f}",
-                      help=f"{diff.level:.0%} interval {_interval(diff.dprime_ci)}")
-            st.dataframe(pd.DataFrame([
-                {"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0], "high": diff.pd_ci[1]},
-                {"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
-                 "high": diff.dprime_ci[1]},
-            ]), hide_index=True, width="stretch", column_config={
+            rows = [{"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0],
+                     "high": diff.pd_ci[1]}]
+            if diff.dprime is not None and diff.dprime_ci is not None:
+                e3.metric("d'", f"{diff.dprime:.2f}",
+                          help=f"{diff.level:.0%} interval {_interval(diff.dprime_ci)}")
+                rows.append({"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
+                             "high": diff.dprime_ci[1]})
+            else:
+                e3.metric("d'", "none", help="No Thurstonian model for this method: the "
+                          "proportion of discriminators pd is the estimate.")
+            st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch", column_config={
                 c: st.column_config.NumberColumn(c, format="%.2f") for c in ("value", "low", "high")
             })
             st.caption(f"Intervals: {diff.ci_method}, {diff.level:.0%}.")

@@ -74,8 +74,7 @@ def ballot_screen() -> None:
             st.markdown("Taste in this order, left to right: "
                         + " → ".join(f"**{c}**" for c in codes))
         if spec.choose > 1:
-            group = st.pills("The two cups that belong together" if spec.choose == 2
-                             else f"The {spec.choose} cups that belong together", options,
+            group = st.pills(spec.group_label, options,
                              selection_mode="multi",
                              key=f"group_{current.session}_{current.set_index}")
             picked = sorted(group or [], key=options.index)

@@ -299,20 +299,23 @@ def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
     if rule is Scoring.PAIRS_GROUPED:
         return len({e.sample_name for e in chosen}) == 1, ""
     if rule is Scoring.ODD_ONE_OUT:
-        if sorted(samples.values()) != [1, spec.set_size - 1]:
-            many = {2: "two", 3: "three"}.get(spec.set_size - 1, str(spec.set_size - 1))
+        few = spec.choose
+        if sorted(samples.values()) != [few, spec.set_size - few]:
+            words = {1: "one", 2: "two", 3: "three", 4: "four"}
+            many = words.get(spec.set_size - few, str(spec.set_size - few))
             return None, (f"a {spec.name} set must hold {many} cups of one sample "
-                          "and one of the other")
-        return samples[pick.sample_name] == 1, ""
+                          f"and {words.get(few, str(few))} of the other")
+        return all(samples[e.sample_name] == few for e in chosen), ""
     if rule is Scoring.MATCH_REFERENCE:
         ref = _reference(cups)
         if pick.code == ref.code:
             return None, f"the chosen cup {pick.code!r} is the reference"
         return pick.sample_name == ref.sample_name, ""
     if rule is Scoring.TARGET_BY_ROLE:
-        if samples.get(target, 0) != 1:
-            return None, f"the set does not hold exactly one cup of the target {target!r}"
-        return pick.sample_name == target, ""
+        if samples.get(target, 0) != spec.choose:
+            return None, (f"the set does not hold exactly {spec.choose} cup(s) of the "
+                          f"target {target!r}")
+        return all(e.sample_name == target for e in chosen), ""
     if rule is Scoring.PREFERENCE_COUNT:
         return None, ""
     raise TrialsError(f"no scoring rule for method {spec.name!r}")  # pragma: no cover
@@ -348,6 +351,9 @@ def score_choices(study: Trial, plan: Sequence[PlanEntry],
     - 2-AFC (ISO 5495) and 3-AFC: correct when the chosen cup holds the target, the
       sample chosen at set-up (:func:`target_sample`), whatever the listing order;
     - tetrad (unspecified): correct when the two chosen cups hold the same sample;
+    - tetrad (specified): correct when both chosen cups hold the target;
+    - two-out-of-five: correct when the two chosen cups are the two cups of the sample
+      served twice (the same rule as the triangle's odd cup, for a group of two);
     - paired preference: no right answer; choices counted per sample. An answer of
       ``"no preference"`` (allowed by the response format) is counted apart
       (``no_preference``) and left out of ``n`` here; :func:`analyse` then folds them

@@ -115,7 +115,8 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     numbers: dict[str, Any] = {
         "correct": d.correct, "n": d.n, "p_value": d.p_value, "critical": d.critical,
         "alpha": d.alpha, "pc": d.pc, "pd": d.pd, "pd_ci": tuple(d.pd_ci),
-        "dprime": d.dprime, "dprime_ci": tuple(d.dprime_ci), "level": d.level,
+        "dprime": d.dprime, "dprime_ci": None if d.dprime_ci is None else tuple(d.dprime_ci),
+        "level": d.level,
     }
     need = (f"{d.critical} needed at alpha {fmt_risk(d.alpha)}" if d.critical is not None
             else f"no count of {d.n} reaches alpha {fmt_risk(d.alpha)}")
@@ -198,11 +199,16 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     else:
         phrase = (spec.correct_phrase or "answered correctly").format(
             target=c.target or "the target")
+        if d.dprime is not None and d.dprime_ci is not None:
+            model_words = (f"d' {fmt(d.dprime, 1)} (interval {fmt(d.dprime_ci[0], 1)} to "
+                           f"{fmt(d.dprime_ci[1], 1)}, Thurstonian model of the "
+                           f"{spec.label.lower()})")
+        else:
+            model_words = (f"no d': the {spec.label.lower()} has no Thurstonian model here, "
+                           "so the proportion of discriminators is the estimate")
         estimate = (
             f"Estimated proportion of discriminators {fmt(d.pd)} ({_level(d.level)} "
-            f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "
-            f"(interval {fmt(d.dprime_ci[0], 1)} to {fmt(d.dprime_ci[1], 1)}, Thurstonian "
-            f"model of the {spec.label.lower()}).")
+            f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); {model_words}.")
         if significant:
             verdict = Verdict.DIFFERENCE
             head = f"Panelists told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."

@@ -22,9 +22,11 @@ from trials.model import Record
 class Scoring(StrEnum):
     """How one forced-choice answer is scored (see :func:`trials.analysis.score_choices`)."""
 
-    ODD_ONE_OUT = "odd-one-out"  # correct: the chosen cup's sample is once in the set
+    # correct: the chosen cups are every cup of the sample served fewer times (triangle: the
+    # one odd cup; 2-out-of-5: the two cups of the sample served twice)
+    ODD_ONE_OUT = "odd-one-out"
     MATCH_REFERENCE = "match-reference"  # correct: the chosen cup holds the reference's sample
-    TARGET_BY_ROLE = "target-by-role"  # correct: the chosen cup holds the target (target_role)
+    TARGET_BY_ROLE = "target-by-role"  # correct: every chosen cup holds the target (target_role)
     PAIRS_GROUPED = "pairs-grouped"  # correct: the chosen cups hold one sample
     PREFERENCE_COUNT = "preference-count"  # no right answer: choices counted per sample
     NONE = ""  # ratings and rankings: no choice to score
@@ -37,6 +39,8 @@ MODEL_3AFC = "pc-3afc"
 MODEL_DUO_TRIO = "pc-duo-trio"
 MODEL_TRIANGLE = "pc-triangle"
 MODEL_TETRAD = "pc-tetrad"
+MODEL_SPECIFIED_TETRAD = "pc-specified-tetrad"
+NO_MODEL = ""  # a forced-choice method without a Thurstonian model: pd only, no d'
 
 FORCED_CHOICE_COLUMNS = ("panelist", "set", "cups", "chosen")
 PER_CUP_COLUMNS = ("panelist", "position", "code")
@@ -71,6 +75,10 @@ class MethodSpec(Record):
     - ``correct_phrase``: the decision's words for a correct answer ("... of 24 picked
       the odd sample"); ``{target}`` is replaced by the target sample's name;
     - ``model``: the psychometric model key of :mod:`trials.stats.thurstonian`;
+      :data:`NO_MODEL` for a method whose Thurstonian model is not built (the analysis
+      then gives the proportion of discriminators and no d', and says so);
+    - ``group_label``: the tablet's label over the codes when ``choose`` > 1 ("The two
+      cups that belong together");
     - ``tablet_instructions``: the instructions on the tasting screen ("tap", not
       "circle"); ``ballot_note``: a line printed under each set's code boxes;
     - ``asks_attribute``: the question names an attribute, so the ballot has a line to
@@ -104,6 +112,12 @@ class MethodSpec(Record):
     set_design: str = ""
     reference_first: bool = False
     paper_columns: tuple[str, ...] = PER_CUP_COLUMNS
+    group_label: str = ""
+
+    @property
+    def has_dprime(self) -> bool:
+        """Whether a Thurstonian d' is computed for this method (its ``model`` is set)."""
+        return self.is_forced_choice and self.model != NO_MODEL
 
     @property
     def is_forced_choice(self) -> bool:
@@ -117,6 +131,8 @@ DUO_TRIO = "duo-trio"
 TWO_AFC = "2afc"
 THREE_AFC = "3afc"
 TETRAD = "tetrad"
+SPECIFIED_TETRAD = "tetrad-specified"
+TWO_OUT_OF_FIVE = "2-out-of-5"
 PAIRED_PREFERENCE = "paired-preference"
 RATING = "rating"
 RANKING = "ranking"
@@ -260,6 +276,80 @@ METHODS: tuple[MethodSpec, ...] = (
         ballot_note="Circle two codes: the two codes you do not circle form the other group.",
         set_design="Ennis and Jesionka (2011); six orders of two A and two B",
         paper_columns=FORCED_CHOICE_COLUMNS,
+        group_label="The two cups that belong together",
+    ),
+    MethodSpec(
+        name=SPECIFIED_TETRAD,
+        label="Tetrad test (specified)",
+        family=Family.DISCRIMINATION,
+        guess=1 / 6,  # one right pair of the six pairs of four cups
+        set_size=4,
+        sides=1,
+        question="Which two samples have more of the attribute?",
+        instructions=(
+            "These four samples form two pairs: two have more of the named attribute "
+            "than the other two. Taste them in the order given and circle the codes of "
+            "the two with more of the attribute. You must choose two, even if you are "
+            "guessing."
+        ),
+        patterns=("AABB", "ABAB", "ABBA", "BAAB", "BABA", "BBAA"),
+        reference=("Ennis, Ennis, Yip and O'Mahony (1998), Br. J. Math. Stat. Psychol. "
+                   "51:205-215 (specified tetrad)"),
+        choose=2,
+        scoring=Scoring.TARGET_BY_ROLE,
+        target_role="B",
+        correct_phrase="picked both cups of {target} as having more of the attribute",
+        model=MODEL_SPECIFIED_TETRAD,
+        tablet_instructions=(
+            "These four samples form two pairs: two have more of the named attribute "
+            "than the other two. Taste them in the order given and tap the codes of the "
+            "two with more of the attribute. You must choose two, even if you are "
+            "guessing."
+        ),
+        ballot_note="Circle two codes: the two with more of the attribute.",
+        asks_attribute=True,
+        set_design="six orders of two A and two B, as the unspecified tetrad (common practice)",
+        paper_columns=FORCED_CHOICE_COLUMNS,
+        group_label="The two cups with more of the attribute",
+    ),
+    MethodSpec(
+        name=TWO_OUT_OF_FIVE,
+        label="Two-out-of-five test",
+        family=Family.DISCRIMINATION,
+        guess=1 / 10,  # one right pair of the ten pairs of five cups
+        set_size=5,
+        sides=1,
+        question="Which two samples are different from the other three?",
+        instructions=(
+            "Two of these five samples are the same and the other three are the same as "
+            "each other. Taste them in the order given and circle the codes of the two "
+            "that are different from the other three. You must choose two, even if you "
+            "are guessing."
+        ),
+        # every place of the two cups (10) with either sample as the two: 20 orders
+        patterns=tuple(
+            "".join(two if i in pair else three for i in range(5))
+            for two, three in (("A", "B"), ("B", "A"))
+            for pair in ((0, 1), (0, 2), (0, 3), (0, 4), (1, 2), (1, 3), (1, 4),
+                         (2, 3), (2, 4), (3, 4))
+        ),
+        reference=("Amerine, Pangborn and Roessler (1965), Principles of Sensory Evaluation "
+                   "of Food, Academic Press (two-out-of-five test)"),
+        choose=2,
+        scoring=Scoring.ODD_ONE_OUT,
+        correct_phrase="picked the two cups that differ from the other three",
+        model=NO_MODEL,
+        tablet_instructions=(
+            "Two of these five samples are the same and the other three are the same as "
+            "each other. Taste them in the order given and tap the codes of the two that "
+            "are different from the other three. You must choose two, even if you are "
+            "guessing."
+        ),
+        ballot_note="Circle two codes: the two that differ from the other three.",
+        set_design="the 20 orders of two cups of one sample and three of the other, each "
+                   "sample as the pair equally often (common practice)",
+        paper_columns=FORCED_CHOICE_COLUMNS,
+        group_label="The two cups that differ from the other three",
     ),
     MethodSpec(
         name=PAIRED_PREFERENCE,
@@ -374,8 +464,10 @@ def check_method(spec: MethodSpec) -> None:
     if spec.guess is None or not 0 < spec.guess < 1:
         raise TrialsError(f"{where}: a forced-choice method needs a guessing probability "
                           f"between 0 and 1, got {spec.guess!r}")
-    if not spec.model:
-        raise TrialsError(f"{where}: a forced-choice method needs a psychometric model key")
+    if not spec.model and spec.family is not Family.DISCRIMINATION:
+        raise TrialsError(f"{where}: a preference method needs a psychometric model key")
+    if spec.choose > 1 and not spec.group_label:
+        raise TrialsError(f"{where}: choose={spec.choose} needs a group_label for the tablet")
     if tuple(spec.paper_columns[:4]) != FORCED_CHOICE_COLUMNS:
         raise TrialsError(f"{where}: forced-choice paper columns start with "
                           f"{FORCED_CHOICE_COLUMNS!r}, got {spec.paper_columns!r}")

@@ -29,6 +29,8 @@ Answer areas
   ``"R"``, else the set's first cup, as the registry's patterns put the reference
   first), then the two coded cups to circle;
 - tetrad: the four codes to circle two, the other two forming the second group;
+  specified tetrad: the four codes to circle the two with more of the attribute;
+- two-out-of-five: the five codes to circle the two that differ from the other three;
 - rating: for each attribute a grid, one row per code in serving order, one box per
   scale point, with the anchors: the attribute's own (every point, or the two ends), or
   by default the 9-point hedonic scale of Peryam and Pilgrim (1957), the 5-point

@@ -305,6 +305,15 @@ def _decision_section(d: Decision, study: Trial) -> str:
     return "".join(parts)
 
 
+def _dprime_rows(d: Any) -> list[tuple[str, Any]]:
+    """The d' rows of the difference table; one line saying why where the method has no
+    Thurstonian model (two-out-of-five)."""
+    if d.dprime is None or d.dprime_ci is None:
+        return [("d'", "none: no Thurstonian model for this method; pd is the estimate")]
+    return [("d'", _g(d.dprime)),
+            (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}")]
+
+
 def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
     fc = a.choice
     d = fc.difference
@@ -316,8 +325,7 @@ def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
             ("significant at alpha " + fmt_risk(d.alpha), "yes" if d.significant else "no"),
             ("proportion correct pc", _g(d.pc)), ("proportion of discriminators pd", _g(d.pd)),
             (f"pd {d.level * 100:g} % interval", f"{_g(d.pd_ci[0])} to {_g(d.pd_ci[1])}"),
-            ("d'", _g(d.dprime)),
-            (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}"),
+            *_dprime_rows(d),
             ("interval method", d.ci_method)]
     if d.note:
         rows.append(("note", d.note))
@@ -622,6 +630,7 @@ def _pdf_results(analysis: TrialAnalysis, p, body, h2, grid) -> list:
         rows = [["answers", "correct", "critical", "p-value", "pd (interval)", "d' (interval)"],
                 [d.n, d.correct, d.critical if d.critical is not None else "-", fmt_p(d.p_value),
                  f"{fmt(d.pd)} ({fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])})",
+                 "none (no model)" if d.dprime is None or d.dprime_ci is None else
                  f"{fmt(d.dprime)} ({fmt(d.dprime_ci[0])} to {fmt(d.dprime_ci[1])})"]]
         out += [grid(rows, [22, 22, 22, 28, 38, 38]),
                 Paragraph(p(f"Intervals: {d.ci_method}."), body)]
