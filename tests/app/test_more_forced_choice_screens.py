@@ -1,0 +1,72 @@
+"""The two-out-of-five and specified tetrad on the tasting and results screens (issue 17,
+item 3): the tablet labels the group with the registry's wording and saves two codes; the
+results screen of a method without a Thurstonian model shows no d' and says why.
+Invented data."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+
+from tests.app.conftest import page_test, page_text
+from trials import service
+from trials.methods import SPECIFIED_TETRAD, TWO_OUT_OF_FIVE, get_method
+from trials.model import Sample
+
+PANEL = [f"F{i:02d}" for i in range(1, 11)]
+pytestmark = pytest.mark.filterwarnings("ignore::trials.errors.UnbalancedPlanWarning")
+
+
+@pytest.fixture
+def store(app_db):
+    s = service.open_store(app_db)
+    for code in PANEL:
+        service.add_panelist(s, code, consent_on=dt.date(2026, 2, 2))
+    return s
+
+
+@pytest.mark.parametrize("method", [TWO_OUT_OF_FIVE, SPECIFIED_TETRAD])
+def test_the_tablet_asks_for_two_codes_with_the_registry_label(store, method):
+    study = service.create_trial(store, name="Glaze: two honeys", method=method,
+                                 samples=["Clover honey glaze", "Buckwheat honey glaze"],
+                                 target_sample="Buckwheat honey glaze")
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    mine = [e.code for e in sorted(service.plan(store, study.id), key=lambda e: e.position)
+            if e.panelist_code == "F02"]
+    at = page_test("taste")
+    at.query_params["t"] = service.panelist_token(store, study.id, "F02")
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    group = at.button_group[0]
+    assert group.label == get_method(method).group_label
+    assert list(group.options) == mine or [o.content for o in group.options] == mine
+    assert "Clover" not in page_text(at) and "Buckwheat" not in page_text(at)
+    at.button_group[0].set_value([mine[1], mine[3]])
+    at.run()
+    next(b for b in at.button if b.label == "Save my choice").click()
+    at.run()
+    assert [(r.code, r.attribute) for r in service.list_answers(store, study.id)] == [
+        (f"{mine[1]} {mine[3]}", "choice")]
+
+
+def test_the_results_of_a_two_out_of_five_show_pd_and_no_dprime(store):
+    study = service.create_trial(store, name="Glaze: two honeys", method=TWO_OUT_OF_FIVE,
+                                 samples=["Clover honey glaze", "Buckwheat honey glaze"])
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    for i, p in enumerate(PANEL):
+        cups = sorted((e for e in service.plan(store, study.id) if e.panelist_code == p),
+                      key=lambda e: e.position)
+        names = [e.sample_name for e in cups]
+        few = min(set(names), key=names.count)
+        pick = [e.code for e in cups if (e.sample_name == few) == (i < 5)][:2]
+        service.enter_answer(store, study.id, panelist_code=p, code=" ".join(pick),
+                             attribute="choice", value="")
+    at = page_test("results")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    metrics = {m.label: m.value for m in at.metric}
+    assert metrics["Correct"] == "5 of 10" and metrics["d'"] == "none"
+    diff = service.analyse_trial(store, study.id).choice.difference
+    assert metrics["pd (discriminators)"] == f"{diff.pd:.2f}"
