@@ -29,6 +29,9 @@ class Scoring(StrEnum):
     TARGET_BY_ROLE = "target-by-role"  # correct: every chosen cup holds the target (target_role)
     PAIRS_GROUPED = "pairs-grouped"  # correct: the chosen cups hold one sample
     PREFERENCE_COUNT = "preference-count"  # no right answer: choices counted per sample
+    # signal-detection methods: which sets are the signal (the others are noise)
+    SIGNAL_ROLE_B = "signal-role-b"  # A-not-A: the set's cup is the "not A" sample (role B)
+    SIGNAL_MIXED_PAIR = "signal-mixed-pair"  # same-different: the pair holds both samples
     NONE = ""  # ratings and rankings: no choice to score
 
 
@@ -40,10 +43,14 @@ MODEL_DUO_TRIO = "pc-duo-trio"
 MODEL_TRIANGLE = "pc-triangle"
 MODEL_TETRAD = "pc-tetrad"
 MODEL_SPECIFIED_TETRAD = "pc-specified-tetrad"
+MODEL_YES_NO = "yes-no"  # trials.stats.signal: d' = z(H) - z(F)
+MODEL_DIFFERENCING = "differencing"  # trials.stats.signal: the same-different tau model
+SIGNAL_MODELS = (MODEL_YES_NO, MODEL_DIFFERENCING)
 NO_MODEL = ""  # a forced-choice method without a Thurstonian model: pd only, no d'
 
 FORCED_CHOICE_COLUMNS = ("panelist", "set", "cups", "chosen")
 PER_CUP_COLUMNS = ("panelist", "position", "code")
+RESPONSE_COLUMNS = ("panelist", "set", "cups", "response")
 
 
 class Family(StrEnum):
@@ -51,6 +58,7 @@ class Family(StrEnum):
     PREFERENCE = "preference"  # paired preference, two-sided
     RATING = "rating"  # scores on attribute scales
     RANKING = "ranking"  # ranks of all samples
+    SIGNAL = "signal-detection"  # one of two answers per set (A / not A, same / different)
 
 
 @dataclass(frozen=True, slots=True)
@@ -77,6 +85,10 @@ class MethodSpec(Record):
     - ``model``: the psychometric model key of :mod:`trials.stats.thurstonian`;
       :data:`NO_MODEL` for a method whose Thurstonian model is not built (the analysis
       then gives the proportion of discriminators and no d', and says so);
+    - ``responses``: a signal-detection method's two answers, the noise answer first
+      (``("A", "not A")``, ``("same", "different")``); ``scoring`` then says which sets
+      are the signal (:attr:`Scoring.SIGNAL_ROLE_B`, :attr:`Scoring.SIGNAL_MIXED_PAIR`)
+      and ``model`` is one of :data:`SIGNAL_MODELS`;
     - ``group_label``: the tablet's label over the codes when ``choose`` > 1 ("The two
       cups that belong together");
     - ``tablet_instructions``: the instructions on the tasting screen ("tap", not
@@ -113,6 +125,13 @@ class MethodSpec(Record):
     reference_first: bool = False
     paper_columns: tuple[str, ...] = PER_CUP_COLUMNS
     group_label: str = ""
+    responses: tuple[str, ...] = ()
+
+    @property
+    def served_in_sets(self) -> bool:
+        """Whether the method serves two samples in patterned sets (forced choice and
+        signal detection), rather than every sample in a Williams or block order."""
+        return self.is_forced_choice or self.family is Family.SIGNAL
 
     @property
     def has_dprime(self) -> bool:
@@ -133,6 +152,8 @@ THREE_AFC = "3afc"
 TETRAD = "tetrad"
 SPECIFIED_TETRAD = "tetrad-specified"
 TWO_OUT_OF_FIVE = "2-out-of-5"
+A_NOT_A = "a-not-a"
+SAME_DIFFERENT = "same-different"
 PAIRED_PREFERENCE = "paired-preference"
 RATING = "rating"
 RANKING = "ranking"
@@ -352,6 +373,66 @@ METHODS: tuple[MethodSpec, ...] = (
         group_label="The two cups that differ from the other three",
     ),
     MethodSpec(
+        name=A_NOT_A,
+        label="A-not-A test",
+        family=Family.SIGNAL,
+        guess=None,
+        set_size=1,
+        sides=1,
+        question="Is this sample A, or not A?",
+        instructions=(
+            "Before the test the panel leader gave you sample A to learn. Taste the coded "
+            "sample and tick A if it is the same as the sample you learned, or not A if "
+            "it is different. You must answer, even if you are unsure."
+        ),
+        patterns=("A", "B"),  # A: the control (the learned sample); B: the "not A" sample
+        reference=("Bi (2006), Sensory Discrimination Tests and Measurements, Blackwell "
+                   "(A-not-A); Macmillan and Creelman (2005), Detection Theory, 2nd ed."),
+        scoring=Scoring.SIGNAL_ROLE_B,
+        correct_phrase="answered \"not A\" to the not-A sample",
+        model=MODEL_YES_NO,
+        tablet_instructions=(
+            "Before the test the panel leader gave you sample A to learn. Taste the coded "
+            "sample and tap A if it is the same as the sample you learned, or not A if it "
+            "is different. You must answer, even if you are unsure."
+        ),
+        ballot_note="Tick one:   [    ] A        [    ] not A",
+        set_design=("one coded cup per panelist, half the panel served A and half not A "
+                    "(monadic; common practice)"),
+        paper_columns=RESPONSE_COLUMNS,
+        responses=("A", "not A"),
+    ),
+    MethodSpec(
+        name=SAME_DIFFERENT,
+        label="Same-different test",
+        family=Family.SIGNAL,
+        guess=None,
+        set_size=2,
+        sides=1,
+        question="Are these two samples the same or different?",
+        instructions=(
+            "Taste the two samples in the order given. Tick same if you find them the "
+            "same, or different if you find them different. You must answer, even if "
+            "you are unsure."
+        ),
+        patterns=("AA", "BB", "AB", "BA"),  # matched pairs AA, BB; unmatched AB, BA
+        reference=("Macmillan and Creelman (2005), Detection Theory, 2nd ed., ch. 9; "
+                   "O'Mahony and Rousseau (2002), Food Qual. Prefer. 14:157-164"),
+        scoring=Scoring.SIGNAL_MIXED_PAIR,
+        correct_phrase="answered \"different\" to a pair of two samples",
+        model=MODEL_DIFFERENCING,
+        tablet_instructions=(
+            "Taste the two samples in the order given. Tap same if you find them the same, "
+            "or different if you find them different. You must answer, even if you are "
+            "unsure."
+        ),
+        ballot_note="Tick one:   [    ] same        [    ] different",
+        set_design=("one pair per panelist: AA, BB, AB and BA equally often (half matched, "
+                    "half unmatched; common practice)"),
+        paper_columns=RESPONSE_COLUMNS,
+        responses=("same", "different"),
+    ),
+    MethodSpec(
         name=PAIRED_PREFERENCE,
         label="Paired preference",
         family=Family.PREFERENCE,
@@ -447,6 +528,9 @@ def check_method(spec: MethodSpec) -> None:
     where = f"method {spec.name!r}"
     if not spec.name or spec.name != spec.name.strip():
         raise TrialsError(f"a method needs a name without surrounding spaces, got {spec.name!r}")
+    if spec.family is Family.SIGNAL:
+        _check_signal(spec, where)
+        return
     if not spec.is_forced_choice:
         return
     if not spec.patterns or not spec.set_size:
@@ -473,6 +557,24 @@ def check_method(spec: MethodSpec) -> None:
                           f"{FORCED_CHOICE_COLUMNS!r}, got {spec.paper_columns!r}")
 
 
+def _check_signal(spec: MethodSpec, where: str) -> None:
+    if not spec.patterns or not spec.set_size:
+        raise TrialsError(f"{where}: a signal-detection method needs set patterns and a set size")
+    bad = [x for x in spec.patterns if len(x) != spec.set_size or not set(x) <= {"A", "B"}]
+    if bad:
+        raise TrialsError(f"{where}: patterns {bad!r} are not {spec.set_size} letters A and B")
+    if len(spec.responses) != 2 or len({r.lower() for r in spec.responses}) != 2:
+        raise TrialsError(f"{where}: responses must be two different answers, got "
+                          f"{spec.responses!r}")
+    if spec.scoring not in (Scoring.SIGNAL_ROLE_B, Scoring.SIGNAL_MIXED_PAIR):
+        raise TrialsError(f"{where}: a signal-detection method needs a signal scoring rule, "
+                          f"got {spec.scoring!r}")
+    if spec.model not in SIGNAL_MODELS:
+        raise TrialsError(f"{where}: model must be one of {SIGNAL_MODELS!r}, got {spec.model!r}")
+    if tuple(spec.paper_columns) != RESPONSE_COLUMNS:
+        raise TrialsError(f"{where}: paper columns must be {RESPONSE_COLUMNS!r}")
+
+
 def register_method(spec: MethodSpec) -> MethodSpec:
     """Add a method to the registry, after :func:`check_method`; returns it.
 
@@ -497,3 +599,4 @@ def unregister_method(name: str) -> None:
 
 FORCED_CHOICE = method_names(Family.DISCRIMINATION, Family.PREFERENCE)
 DISCRIMINATION = method_names(Family.DISCRIMINATION)
+SIGNAL_DETECTION = method_names(Family.SIGNAL)
