@@ -14,6 +14,17 @@ from trials.methods import Family
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
+
+def _response_columns(config: dict) -> None:
+    """Signal detection (A-not-A, same-different): one row per set, the response picked
+    from the registry's two (``spec.responses``)."""
+    st.caption(f"{spec.question} Pick the box the panelist ticked.")
+    config["set"] = st.column_config.NumberColumn("set", disabled=True, width="small")
+    config["cups"] = st.column_config.TextColumn("cups served", disabled=True)
+    config["response"] = st.column_config.SelectboxColumn(
+        "response", options=list(spec.responses), help="The box the panelist ticked.")
+
+
 st.title(f"Paper entry: {ui.literal(study.name)}")
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
@@ -49,6 +60,8 @@ if spec.is_forced_choice:
         help="The code the panelist circled.")
     if spec.allows_no_preference:
         config["no_preference"] = st.column_config.CheckboxColumn("no preference")
+elif spec.family == Family.SIGNAL:
+    _response_columns(config)
 elif spec.family == Family.RATING:
     config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
     for a in study.attributes:

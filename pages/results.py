@@ -179,6 +179,38 @@ if result.ranking is not None:
         st.caption(fr.method)
         st.caption(fr.comparisons)
 
+# ------------------------------------------------------------------ signal detection
+
+
+def _signal_section(sg) -> None:
+    """A-not-A and same-different: the response table, Fisher's test and d'."""
+    st.subheader("Response table")
+    st.dataframe(pd.DataFrame([
+        {"sets served": sg.signal_sets, f"answered {sg.responses[1]}": sg.hits,
+         f"answered {sg.responses[0]}": sg.n_signal - sg.hits, "sets": sg.n_signal},
+        {"sets served": sg.noise_sets, f"answered {sg.responses[1]}": sg.false_alarms,
+         f"answered {sg.responses[0]}": sg.n_noise - sg.false_alarms, "sets": sg.n_noise},
+    ]), hide_index=True, width="stretch")
+    if sg.note:
+        st.caption(ui.literal(sg.note))
+    r = sg.result
+    if r is None:
+        return
+    dp = r.dprime
+    c1, c2, c3, c4 = st.columns(4)
+    c1.metric("p-value", p_text(r.p_value), help="Fisher's exact test, one-sided")
+    c2.metric("Significant", "yes" if r.significant else "no")
+    c3.metric("d'", f"{dp.dprime:.2f}", help=f"{dp.model} model; standard error "
+              + ("-" if dp.dprime_se is None else f"{dp.dprime_se:.2f}"))
+    c4.metric("Hit / false-alarm rate", f"{dp.hit_rate:.2f} / {dp.false_alarm_rate:.2f}")
+    if r.test.chi2 is not None:
+        st.caption(f"Pearson chi-square {r.test.chi2:.2f} on 1 df, two-sided p "
+                   f"{p_text(r.test.chi2_p)}." + (f" {r.note}." if r.note else ""))
+
+
+if result.signal is not None:
+    _signal_section(result.signal)
+
 # ------------------------------------------------------------------ batches and problems
 if result.measures.summaries:
     with st.expander("Batch measures by sample", icon=":material/science:"):

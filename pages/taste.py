@@ -28,6 +28,21 @@ def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
         st.session_state.pop("taste_problem", None)
 
 
+def _respond(current, spec, question: str) -> None:
+    """A signal-detection set (A-not-A, same-different): the codes in serving order and
+    one large button per response of the registry (``spec.responses``)."""
+    st.markdown(spec.tablet_instructions)
+    st.markdown(f"### {question}")
+    st.markdown("Taste in this order, left to right: "
+                + " → ".join(f"**{c}**" for c in current.codes))
+    cols = st.columns(len(spec.responses))
+    for col, word in zip(cols, spec.responses):
+        col.button(word, key=f"respond_{current.session}_{current.set_index}_{word}",
+                   type="primary", width="stretch", on_click=_save,
+                   args=(current.codes[0], answers.RESPONSE, word),
+                   kwargs={"session": current.session})
+
+
 @st.fragment
 def ballot_screen() -> None:
     """The current step. A tap reruns this fragment only (not the whole app), with the
@@ -93,6 +108,9 @@ def ballot_screen() -> None:
                           key=f"nopref_{current.session}_{current.set_index}", on_click=_save,
                           args=("", answers.CHOICE, NO_PREFERENCE),
                           kwargs={"session": current.session})
+
+    elif kind == "respond":
+        _respond(current, spec, ballot.question)
 
     elif kind == "rate":
         st.markdown(f'<p class="kt-code">{html.escape(code)}</p>', unsafe_allow_html=True)

@@ -5,24 +5,22 @@ responses and its batches, all as plain records, and returns a frozen
 :class:`TrialAnalysis`. It decodes each answer through the plan itself (blinding code
 -> sample and role) and dispatches on the method's family (:mod:`trials.methods`):
 
-- discrimination (triangle, duo-trio, 2-AFC, 3-AFC, tetrad): each panelist's set is
-  scored correct or not by the method's rule (see :func:`score_choices`), then
-  :func:`trials.stats.discrimination.difference_test`; and
-  :func:`~trials.stats.discrimination.similarity_test` when the trial was planned as a
-  similarity test (see :func:`planned_similarity`);
+- discrimination: each set scored by the method's rule (:func:`score_choices`), then
+  :func:`trials.stats.discrimination.difference_test`, and its ``similarity_test`` when
+  the trial was planned as a similarity test (see :func:`planned_similarity`);
 - paired preference: choices counted per sample, then the two-sided test on the count
   of the more-chosen sample;
-- rating: :func:`trials.stats.ratings.rating_anova` per attribute, the penalty
-  analysis of each just-about-right attribute against the hedonic attribute where the
-  trial has one, and the relation of each sample's mean to its batches' numeric
-  measures and settings (:mod:`trials.stats.measures`);
+- rating: :func:`trials.stats.ratings.rating_anova` per attribute, the penalty analysis
+  of each just-about-right attribute against the hedonic one, and the relation of each
+  sample's mean to its batches' measures and settings (:mod:`trials.stats.measures`);
 - ranking: :func:`trials.stats.ranks.rank_test` (Friedman's test for complete blocks,
-  Durbin's for incomplete ones).
+  Durbin's for incomplete ones);
+- signal detection (A-not-A, same-different): the response table, in
+  :mod:`trials.response_tables`.
 
-A trial without answers gives an analysis that says "no answers yet" instead of
-failing; an analysis the data cannot support yet (one panelist, one sample) carries a
-note saying why. Pure: no store, no files. The history helpers at the end
-(:func:`search_trials`, :func:`control_trend`) work on plain records too.
+A trial without answers says "no answers yet" instead of failing; one the data cannot
+support yet (one panelist, one sample) carries a note saying why. Pure: no store, no
+files. The history helpers at the end work on plain records too.
 """
 
 from __future__ import annotations
@@ -40,6 +38,7 @@ from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
 from trials.replication import replicated_tests
+from trials.response_tables import SignalAnalysis, analyse_signal
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -140,7 +139,7 @@ class TrialAnalysis(Record):
     """Everything :func:`analyse` found for one trial.
 
     ``has_answers`` is False (and ``message`` is ``"no answers yet"``) when no answer
-    could be decoded. Exactly one of ``choice``, ``attributes``, ``ranking`` is filled,
+    could be decoded. One of ``choice``, ``attributes``, ``ranking``, ``signal`` is filled,
     by the method's family. ``problems`` names every answer left out and why.
     """
 
@@ -161,6 +160,7 @@ class TrialAnalysis(Record):
     ranking: RankingAnalysis | None
     measures: MeasuresSummary
     problems: tuple[str, ...]
+    signal: SignalAnalysis | None = None  # A-not-A, same-different
 
     def attribute(self, name: str) -> AttributeAnalysis:
         for a in self.attributes:
@@ -351,9 +351,8 @@ def score_choices(study: Trial, plan: Sequence[PlanEntry],
     - 2-AFC (ISO 5495) and 3-AFC: correct when the chosen cup holds the target, the
       sample chosen at set-up (:func:`target_sample`), whatever the listing order;
     - tetrad (unspecified): correct when the two chosen cups hold the same sample;
-    - tetrad (specified): correct when both chosen cups hold the target;
-    - two-out-of-five: correct when the two chosen cups are the two cups of the sample
-      served twice (the same rule as the triangle's odd cup, for a group of two);
+    - specified tetrad: both chosen cups hold the target; two-out-of-five: the two chosen
+      cups are the sample served twice (the triangle's rule for a group of two);
     - paired preference: no right answer; choices counted per sample. An answer of
       ``"no preference"`` (allowed by the response format) is counted apart
       (``no_preference``) and left out of ``n`` here; :func:`analyse` then folds them
@@ -660,7 +659,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     spec = get_method(study.method)
     measures = summarise_measures(list(batches))
     planned = len({e.panelist_code for e in plan})
-    choice = ranking = None
+    choice = ranking = signal = None
     attributes: tuple[AttributeAnalysis, ...] = ()
     problems: list[str] = []
     if spec.is_forced_choice:
@@ -668,6 +667,9 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
         problems += choice.counts.problems
         answered = {s.panelist_code for s in choice.counts.sets}
         answers = choice.counts.n + choice.counts.no_preference
+    elif spec.family == Family.SIGNAL:
+        signal = analyse_signal(study, plan, responses)
+        problems, answers, answered = list(signal.problems), signal.answers, set(signal.panelists)
     elif spec.family == Family.RATING:
         attributes, problems = _ratings(study, plan, responses, measures)
         names = {a.name for a in study.attributes}
@@ -683,7 +685,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     return TrialAnalysis(study.name, spec.name, str(spec.family), study.objective,
                          study.alpha, study.beta, study.pd, has, message, planned,
                          len(answered), max(answers, 0), choice, attributes, ranking,
-                         measures, tuple(problems))
+                         measures, tuple(problems), signal)
 
 
 # --------------------------------------------------------------------------- history

@@ -19,7 +19,7 @@ from typing import Any
 
 from trials import limits
 from trials.errors import TrialsError
-from trials.methods import FORCED_CHOICE, METHODS
+from trials.methods import FORCED_CHOICE, METHODS, SIGNAL_DETECTION, get_method
 
 Handler = Callable[[argparse.Namespace], dict[str, Any]]
 
@@ -51,6 +51,8 @@ _MOST = {
     "per_panelist": (limits.MAX_SAMPLES, "--per-panelist"),
     "count": (limits.MAX_CODES, "--count"), "port": (limits.MAX_PORT, "--port"),
     "id": (2**31 - 1, "the trial id"), "trial": (2**31 - 1, "--trial"),
+    "hits": (limits.MAX_N, "--hits"), "signal": (limits.MAX_N, "--signal"),
+    "false_alarms": (limits.MAX_N, "--false-alarms"), "noise": (limits.MAX_N, "--noise"),
 }
 
 
@@ -145,6 +147,15 @@ def _analyze_ranks(args: argparse.Namespace) -> dict[str, Any]:
     return rank_test(
         data, rank=args.rank, sample=args.sample, panelist=args.panelist, alpha=args.alpha
     ).to_dict()
+
+
+def _analyze_table(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.signal import signal_test
+
+    model = get_method(args.method).model
+    return signal_test(args.hits, args.signal, args.false_alarms, args.noise,
+                       method=args.method, model=model, alpha=args.alpha,
+                       level=args.level).to_dict()
 
 
 # ---------------------------------------------------------------- handlers: designs
@@ -380,7 +391,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelists", type=_count, default=None)
     _add_seed(p)
 
-    analyze = sub.add_parser("analyze", help="analyse ratings or ranks from a tidy CSV")
+    analyze = sub.add_parser("analyze", help="analyse ratings or ranks from a tidy CSV, or a "
+                                             "signal-detection response table")
     asub = analyze.add_subparsers(dest="analysis", required=True, metavar="KIND")
     p = _leaf(asub, "ratings", _analyze_ratings, "ANOVA of ratings with panelist blocks")
     p.add_argument("file")
@@ -398,6 +410,20 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--sample", default="sample")
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--alpha", type=_fraction, default=0.05)
+
+    p = _leaf(asub, "table", _analyze_table, (
+        "A-not-A or same-different response table: Fisher's exact one-sided test, "
+        "Pearson's chi-square, d' and its standard error"
+    ))
+    p.add_argument("--method", required=True, choices=SIGNAL_DETECTION)
+    p.add_argument("--hits", required=True, type=_count,
+                   help="signal answers ('not A', 'different') to the signal sets")
+    p.add_argument("--signal", required=True, type=_count, help="signal sets answered")
+    p.add_argument("--false-alarms", required=True, type=_count,
+                   help="signal answers to the noise sets")
+    p.add_argument("--noise", required=True, type=_count, help="noise sets answered")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p.add_argument("--level", type=_fraction, default=0.95, help="confidence level")
 
     trial = sub.add_parser("trial", aliases=["study"], help="trials on file ('study' also works)")
     tsub = trial.add_subparsers(dest="trial_cmd", required=True, metavar="ACTION")

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, TrialAnalysis
-from trials.methods import Scoring, get_method
+from trials.methods import MODEL_YES_NO, Scoring, get_method
 from trials.model import Record, Trial
 
 
@@ -450,6 +450,50 @@ def _ranking(a: TrialAnalysis) -> Decision:
     return Decision(verdict, head, details, limits, a.method, ref, numbers)
 
 
+def _signal(a: TrialAnalysis) -> Decision:
+    """A-not-A and same-different: Fisher's exact one-sided test of the response table
+    decides; d' by the method's model (trials.stats.signal)."""
+    spec = get_method(a.method)
+    sg = a.signal
+    ref = f"{spec.reference}; Fisher's exact test (Fisher 1935)"
+    if sg is None or sg.result is None:
+        why = (sg.note if sg is not None and sg.note else NO_ANSWERS)
+        return _no_answers(a) if why == NO_ANSWERS else Decision(
+            Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref)
+    r, dp = sg.result, sg.result.dprime
+    signal_word = spec.responses[1]
+    rates = (f"{sg.hits} of {sg.n_signal} answered \"{signal_word}\" to {sg.signal_sets} "
+             f"and {sg.false_alarms} of {sg.n_noise} to {sg.noise_sets}")
+    evidence = (f"({fmt_p(r.p_value)}, Fisher's exact one-sided test of the response table at "
+                f"alpha {fmt_risk(r.alpha)}; {spec.reference})")
+    if r.significant:
+        verdict = Verdict.DIFFERENCE
+        head = f"Panelists told the samples apart: {rates} {evidence}."
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No difference was shown: {rates} {evidence}."
+    model_words = ("d' = z(H) - z(F), the yes/no model" if spec.model == MODEL_YES_NO else
+                   "the differencing (tau-criterion) model of same-different")
+    se = (f", standard error {fmt(dp.dprime_se)}, {_level(dp.level)} interval "
+          f"{fmt(dp.dprime_ci[0], 1)} to {fmt(dp.dprime_ci[1], 1)}"
+          if dp.dprime_se is not None and dp.dprime_ci is not None else "")
+    details = [f"Hit rate {fmt(dp.hit_rate)}, false-alarm rate {fmt(dp.false_alarm_rate)}; "
+               f"d' {fmt(dp.dprime)}{se} ({model_words}; Macmillan and Creelman 2005)."]
+    if r.test.chi2 is not None:
+        details.append(f"Pearson's chi-square of the table: {fmt(r.test.chi2)} on 1 df "
+                       f"(two-sided {fmt_p(r.test.chi2_p)}).")
+    if r.note:
+        details.append(f"Note: {r.note}.")
+    if sg.note:
+        details.append(f"Note: {sg.note}.")
+    limits = ("Not significant is not the same as the same: no similarity test was planned.",
+              "The test assumes independent answers and a normal model with equal variances.")
+    numbers = {"hits": sg.hits, "n_signal": sg.n_signal, "false_alarms": sg.false_alarms,
+               "n_noise": sg.n_noise, "p_value": r.p_value, "alpha": r.alpha,
+               "dprime": dp.dprime, "dprime_se": dp.dprime_se, "chi2": r.test.chi2}
+    return Decision(verdict, head, tuple(details), limits, a.method, ref, numbers)
+
+
 # --------------------------------------------------------------------------- entry point
 
 
@@ -494,6 +538,8 @@ def decide(analysis: TrialAnalysis, *, study: Trial | None = None) -> Decision:
         return _no_answers(analysis)
     if analysis.choice is not None:
         return _forced_choice(analysis, analysis.choice, study)
+    if analysis.signal is not None:
+        return _signal(analysis)
     if analysis.attributes:
         return _ratings(analysis, study)
     return _ranking(analysis)

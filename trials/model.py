@@ -195,7 +195,9 @@ class Answer(Record):
     - forced choice (discrimination, preference): ``attribute`` is ``"choice"``,
       ``code`` the chosen cup's code (tetrad: the two codes of the chosen group,
       separated by a space), ``value`` empty; for paired preference ``value`` may be
-      ``"no preference"`` with ``code`` empty.
+      ``"no preference"`` with ``code`` empty;
+    - signal detection (A-not-A, same-different): ``attribute`` is ``"response"``,
+      ``code`` the set's first code, ``value`` one of the method's two responses.
     """
 
     session: str

@@ -35,7 +35,8 @@ def test_guessing_probability_is_the_published_one(name, guess):
 def test_the_contract_names_every_method_once():
     names = [m.name for m in METHODS]
     assert names == ["triangle", "duo-trio", "2afc", "3afc", "tetrad", "tetrad-specified",
-                     "2-out-of-5", "paired-preference", "rating", "ranking"]
+                     "2-out-of-5", "a-not-a", "same-different", "paired-preference", "rating",
+                     "ranking"]
 
 
 def test_only_paired_preference_is_two_sided_among_forced_choice():
@@ -47,7 +48,11 @@ def test_only_paired_preference_is_two_sided_among_forced_choice():
 def test_every_pattern_fills_one_set(spec):
     for pattern in spec.patterns:
         assert len(pattern) == spec.set_size, pattern
-        assert set(pattern) == {"A", "B"}, pattern
+        # a forced-choice set holds both samples; a signal-detection set may hold one
+        # (A-not-A: one cup; same-different: matched pairs AA, BB)
+        want = {"A", "B"} if spec.is_forced_choice else set(pattern)
+        assert set(pattern) == want and set(pattern) <= {"A", "B"}, pattern
+    assert set("".join(spec.patterns)) == {"A", "B"}
 
 
 def test_an_unknown_method_names_the_known_ones():

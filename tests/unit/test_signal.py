@@ -133,3 +133,19 @@ def test_the_whole_test_decides_by_fishers_exact_p():
 def test_bad_tables_are_refused(args, quoted):
     with pytest.raises(TrialsError, match=quoted):
         table_test(*args)
+
+
+def test_the_command_line_analyses_a_response_table(capsys):
+    import json
+
+    from trials.cli import main
+
+    code = main(["analyze", "table", "--method", "a-not-a", "--hits", "10", "--signal", "12",
+                 "--false-alarms", "3", "--noise", "12", "--json"])
+    data = json.loads(capsys.readouterr().out)
+    assert code == 0 and data["dprime"]["model"] == YES_NO
+    assert data["p_value"] == pytest.approx(
+        stats.fisher_exact([[10, 2], [3, 9]], alternative="greater").pvalue, rel=1e-9)
+    assert main(["analyze", "table", "--method", "a-not-a", "--hits", "200000", "--signal",
+                 "200000", "--false-alarms", "3", "--noise", "12"]) == 2
+    assert "--hits may be at most" in capsys.readouterr().err

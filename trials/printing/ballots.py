@@ -146,7 +146,7 @@ def session_allergens(study: Trial, entries: Iterable[PlanEntry]) -> tuple[str, 
 
 
 def _check_sets(method: MethodSpec, group: PanelistSession) -> None:
-    if not method.is_forced_choice or method.set_size is None:
+    if not method.served_in_sets or method.set_size is None:
         return
     for cups in group.sets:
         if len(cups) != method.set_size:
@@ -723,7 +723,7 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
     if method.asks_attribute:
         b.attribute_line()
     b.text(method.instructions, SANS, 9.5, gap=10)
-    if method.is_forced_choice:
+    if method.served_in_sets:
         sets = b.group.sets
         for k, cups in enumerate(sets):
             if len(sets) > 1:

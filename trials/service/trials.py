@@ -7,7 +7,7 @@ import datetime as dt
 from collections.abc import Iterable, Sequence
 from typing import Any
 
-from trials.answers import CHOICE, RANK
+from trials.answers import CHOICE, RANK, RESPONSE
 from trials.errors import TrialsError
 from trials.methods import get_method
 from trials.model import (
@@ -26,7 +26,7 @@ from trials.store import trials as trial_rows
 
 EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method",
             "target_sample")
-RESERVED_ATTRIBUTES = (CHOICE, RANK)  # the attribute names of forced choices and ranks
+RESERVED_ATTRIBUTES = (CHOICE, RANK, RESPONSE)  # attribute names of choices, ranks, responses
 
 
 def list_trials(store: Store) -> list[TrialSummary]:
@@ -48,7 +48,7 @@ def check_attribute(attr: Attribute) -> Attribute:
     one per point; names ``choice`` and ``rank`` are reserved."""
     attr_name = _input.name(attr.name, "an attribute's name")
     if attr_name in RESERVED_ATTRIBUTES:
-        raise TrialsError(f"{attr_name!r} is reserved for forced choices and ranks")
+        raise TrialsError(f"{attr_name!r} is reserved for forced choices, ranks and responses")
     try:
         kind = AttributeKind(attr.kind)
     except ValueError:

@@ -1,7 +1,8 @@
-"""The two-out-of-five and specified tetrad on the tasting and results screens (issue 17,
-item 3): the tablet labels the group with the registry's wording and saves two codes; the
-results screen of a method without a Thurstonian model shows no d' and says why.
-Invented data."""
+"""The two-out-of-five, specified tetrad, A-not-A and same-different on the tasting and
+results screens (issue 17, item 3): the tablet labels a group with the registry's wording
+and saves two codes, or offers the method's two responses; the results screen of a method
+without a Thurstonian model shows no d' and says why, and a signal-detection trial shows
+its response table. Invented data."""
 
 from __future__ import annotations
 
@@ -11,7 +12,7 @@ import pytest
 
 from tests.app.conftest import page_test, page_text
 from trials import service
-from trials.methods import SPECIFIED_TETRAD, TWO_OUT_OF_FIVE, get_method
+from trials.methods import A_NOT_A, SAME_DIFFERENT, SPECIFIED_TETRAD, TWO_OUT_OF_FIVE, get_method
 from trials.model import Sample
 
 PANEL = [f"F{i:02d}" for i in range(1, 11)]
@@ -70,3 +71,46 @@ def test_the_results_of_a_two_out_of_five_show_pd_and_no_dprime(store):
     assert metrics["Correct"] == "5 of 10" and metrics["d'"] == "none"
     diff = service.analyse_trial(store, study.id).choice.difference
     assert metrics["pd (discriminators)"] == f"{diff.pd:.2f}"
+
+
+@pytest.mark.parametrize("method", [A_NOT_A, SAME_DIFFERENT])
+def test_the_tablet_offers_the_two_responses_and_saves_one(store, method):
+    study = service.create_trial(store, name="Glaze: two honeys", method=method,
+                                 samples=["Clover honey glaze", "Buckwheat honey glaze"])
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    mine = [e.code for e in sorted(service.plan(store, study.id), key=lambda e: e.position)
+            if e.panelist_code == "F03"]
+    at = page_test("taste")
+    at.query_params["t"] = service.panelist_token(store, study.id, "F03")
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    spec = get_method(method)
+    assert [b.label for b in at.button] == list(spec.responses)
+    text = page_text(at)
+    assert all(c in text for c in mine)
+    assert "Clover" not in text and "Buckwheat" not in text
+    next(b for b in at.button if b.label == spec.responses[1]).click()
+    at.run()
+    assert [(r.code, r.attribute, r.value) for r in service.list_answers(store, study.id)] == [
+        (mine[0], "response", spec.responses[1])]
+    assert any("Thank you, you are done." in s.value for s in at.success)
+
+
+def test_the_results_of_an_a_not_a_show_the_response_table(store):
+    study = service.create_trial(store, name="Glaze: two honeys", method=A_NOT_A,
+                                 samples=[Sample("Clover honey glaze", is_control=True),
+                                          Sample("Buckwheat honey glaze")])
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    for e in service.plan(store, study.id):  # everyone right: "not A" only to the new glaze
+        word = "not A" if e.sample_name.startswith("Buckwheat") else "A"
+        service.enter_answer(store, study.id, panelist_code=e.panelist_code, code=e.code,
+                             attribute="response", value=word)
+    at = page_test("results")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    sg = service.analyse_trial(store, study.id).signal
+    metrics = {m.label: m.value for m in at.metric}
+    assert metrics["d'"] == f"{sg.result.dprime.dprime:.2f}"
+    table = next(df.value for df in at.dataframe if "sets served" in df.value.columns)
+    assert list(table["sets"]) == [sg.n_signal, sg.n_noise] == [5, 5]
