@@ -33,8 +33,11 @@ def _respond(current, spec, question: str) -> None:
     one large button per response of the registry (``spec.responses``)."""
     st.markdown(spec.tablet_instructions)
     st.markdown(f"### {question}")
-    st.markdown("Taste in this order, left to right: "
-                + " → ".join(f"**{c}**" for c in current.codes))
+    if len(current.codes) == 1:
+        st.markdown(f"Taste the cup marked **{current.codes[0]}**.")
+    else:
+        st.markdown("Taste in this order, left to right: "
+                    + " → ".join(f"**{c}**" for c in current.codes))
     cols = st.columns(len(spec.responses))
     for col, word in zip(cols, spec.responses):
         col.button(word, key=f"respond_{current.session}_{current.set_index}_{word}",

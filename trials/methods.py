@@ -396,7 +396,7 @@ METHODS: tuple[MethodSpec, ...] = (
             "sample and tap A if it is the same as the sample you learned, or not A if it "
             "is different. You must answer, even if you are unsure."
         ),
-        ballot_note="Tick one:   [    ] A        [    ] not A",
+        ballot_note="Tick one box only.",
         set_design=("one coded cup per panelist, half the panel served A and half not A "
                     "(monadic; common practice)"),
         paper_columns=RESPONSE_COLUMNS,
@@ -426,7 +426,7 @@ METHODS: tuple[MethodSpec, ...] = (
             "or different if you find them different. You must answer, even if you are "
             "unsure."
         ),
-        ballot_note="Tick one:   [    ] same        [    ] different",
+        ballot_note="Tick one box only.",
         set_design=("one pair per panelist: AA, BB, AB and BA equally often (half matched, "
                     "half unmatched; common practice)"),
         paper_columns=RESPONSE_COLUMNS,

@@ -343,6 +343,20 @@ class _Ballot:
             x += box_w + gap
         self.y = top - box_h - 14
 
+    def response_boxes(self, responses: Sequence[str]) -> None:
+        """A signal-detection answer: one tick box per response of the registry, in a row."""
+        c = self.c
+        side, gap = 18.0, 60.0
+        self.need(side + 16)
+        top = self.y - 4
+        x = self.left
+        c.setFont(BOLD, 12)
+        for word in responses:
+            c.rect(x, top - side, side, side, stroke=1, fill=0)
+            c.drawString(x + side + 8, top - side + 5, printable(word))
+            x += side + 8 + pdfmetrics.stringWidth(printable(word), BOLD, 12) + gap
+        self.y = top - side - 12
+
     def attribute_line(self) -> None:
         attrs = self.study.attributes
         if attrs:
@@ -733,6 +747,8 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
                 reference = next((e for e in cups if e.role == "R"), cups[0])
                 cups = (reference,) + tuple(e for e in cups if e is not reference)
             b.code_boxes(cups, reference=reference)
+            if method.responses:
+                b.response_boxes(method.responses)
             if method.ballot_note:
                 b.text(method.ballot_note, ITALIC, 9, gap=8)
     elif method.family is Family.RATING:
