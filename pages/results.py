@@ -211,6 +211,36 @@ def _signal_section(sg) -> None:
 if result.signal is not None:
     _signal_section(result.signal)
 
+# ------------------------------------------------------------------ R-index
+
+
+def _r_index_section(attributes: list[str]) -> None:
+    """The R-index of each sample against the control (ratings: per attribute; ranking:
+    on the ranks), from service.r_index_of."""
+    if not attributes:
+        return
+    with st.expander("R-index against the control", icon=":material/compare_arrows:"):
+        which = (st.selectbox("Attribute", attributes, key="rindex_attribute")
+                 if len(attributes) > 1 else attributes[0])
+        try:
+            table = service.r_index_of(store, trial_id, which)
+        except TrialsError as exc:
+            st.caption(ui.literal(str(exc)))
+            return
+        st.dataframe(table.to_frame(), hide_index=True, width="stretch", column_config={
+            c: st.column_config.NumberColumn(c, format="%.3f")
+            for c in ("r_index", "p_value", "p_greater", "dprime")})
+        st.caption(f"R = P(sample {'ranked before' if table.kind == 'ranks' else 'scored above'}"
+                   f" the control {ui.literal(table.control)}) + half the ties (O'Mahony "
+                   "1992); two-sided Mann-Whitney test; d' = sqrt 2 z(R)."
+                   + (f" {ui.literal(table.note)}." if table.note else ""))
+
+
+if result.attributes:
+    _r_index_section([a.attribute for a in result.attributes if a.scores])
+elif result.ranking is not None and result.ranking.ranks:
+    _r_index_section(["rank"])
+
 # ------------------------------------------------------------------ batches and problems
 if result.measures.summaries:
     with st.expander("Batch measures by sample", icon=":material/science:"):

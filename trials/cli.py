@@ -149,6 +149,14 @@ def _analyze_ranks(args: argparse.Namespace) -> dict[str, Any]:
     ).to_dict()
 
 
+def _analyze_rindex(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.rindex import r_index_table
+
+    data = _read_csv(args.file, numbers=(args.score,))
+    return r_index_table(data, score=args.score, sample=args.sample, control=args.control,
+                         kind=args.kind, alpha=args.alpha).to_dict()
+
+
 def _analyze_table(args: argparse.Namespace) -> dict[str, Any]:
     from trials.stats.signal import signal_test
 
@@ -411,6 +419,16 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--alpha", type=_fraction, default=0.05)
 
+    p = _leaf(asub, "rindex", _analyze_rindex, (
+        "R-index of each sample against the control from scores or ranks (O'Mahony 1992), "
+        "with its Mann-Whitney test"
+    ))
+    p.add_argument("file")
+    p.add_argument("--control", required=True)
+    p.add_argument("--score", default="score")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--kind", choices=("scores", "ranks"), default="scores")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
     p = _leaf(asub, "table", _analyze_table, (
         "A-not-A or same-different response table: Fisher's exact one-sided test, "
         "Pearson's chi-square, d' and its standard error"

@@ -114,3 +114,25 @@ def test_the_results_of_an_a_not_a_show_the_response_table(store):
     assert metrics["d'"] == f"{sg.result.dprime.dprime:.2f}"
     table = next(df.value for df in at.dataframe if "sets served" in df.value.columns)
     assert list(table["sets"]) == [sg.n_signal, sg.n_noise] == [5, 5]
+
+
+def test_the_results_of_a_rating_show_the_r_index_against_the_control(store):
+    from trials.model import Attribute
+
+    study = service.create_trial(
+        store, name="Glaze: two honeys", method="rating",
+        samples=[Sample("Clover honey glaze", is_control=True), Sample("Buckwheat honey glaze")],
+        attributes=[Attribute("overall liking", low=1, high=9)])
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    for i, e in enumerate(service.plan(store, study.id)):
+        value = 7 + i % 2 if e.sample_name.startswith("Buckwheat") else 5 + i % 2
+        service.enter_answer(store, study.id, panelist_code=e.panelist_code, code=e.code,
+                             attribute="overall liking", value=value)
+    at = page_test("results")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    table = next(df.value for df in at.dataframe if "r_index" in df.value.columns)
+    want = service.r_index_of(store, study.id, "overall liking").rows[0]
+    assert list(table["sample"]) == ["Buckwheat honey glaze"]
+    assert table["r_index"].iloc[0] == pytest.approx(want.r_index) and want.r_index == 1.0

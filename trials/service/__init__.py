@@ -71,6 +71,7 @@ from trials.service.results import (
     panel_performance_of,
     panel_size_needed,
     power_curve,
+    r_index_of,
     trial_decision,
 )
 from trials.service.serving import (
@@ -122,4 +123,5 @@ __all__ = [
     "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
     "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",
+    "r_index_of",
 ]
