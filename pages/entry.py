@@ -62,7 +62,7 @@ if spec.is_forced_choice:
         config["no_preference"] = st.column_config.CheckboxColumn("no preference")
 elif spec.family == Family.SIGNAL:
     _response_columns(config)
-elif spec.family == Family.RATING:
+elif spec.scores_each_cup:  # ratings; CATA words are 0/1 attributes
     config["code"] = st.column_config.TextColumn("code", validate=r"^\d{3}$", max_chars=3)
     for a in study.attributes:
         config[a.name] = st.column_config.NumberColumn(

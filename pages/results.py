@@ -211,6 +211,42 @@ def _signal_section(sg) -> None:
 if result.signal is not None:
     _signal_section(result.signal)
 
+# ------------------------------------------------------------------ CATA
+
+
+def _cata_section(ca) -> None:
+    """Check-all-that-apply: ticks and Cochran's Q per word, the pairwise McNemar tests,
+    the correspondence map and penalty-lift."""
+    st.subheader("Words ticked")
+    if ca.note:
+        st.caption(ui.literal(ca.note))
+    tests = {t.word: t for t in ca.tests}
+    st.dataframe(pd.DataFrame([
+        {"word": w, **{s: ca.counts[s][w] for s in ca.samples},
+         "Cochran Q": tests[w].q if w in tests else None,
+         "p": tests[w].p_value if w in tests else None}
+        for w in ca.words]), hide_index=True, width="stretch",
+        column_config={"Cochran Q": st.column_config.NumberColumn(format="%.2f"),
+                       "p": st.column_config.NumberColumn(format="%.4f")})
+    if ca.tests:
+        with st.expander("Pairs of samples per word (exact McNemar)", icon=":material/rule:"):
+            st.dataframe(pd.DataFrame([{"word": t.word, **x.to_dict()} for t in ca.tests
+                                       for x in t.pairs]), hide_index=True, width="stretch")
+            st.caption("b, c: panelists who ticked the word for the first sample only, or the "
+                       "second only; p exact two-sided, p_adjusted Bonferroni over the pairs.")
+    if ca.correspondence is not None:
+        ui.ca_biplot(ca.correspondence, title="Correspondence map of samples and words")
+    if ca.lifts:
+        st.markdown(f"**Penalty-lift on {ui.literal(ca.liking)}**")
+        st.dataframe(pd.DataFrame([x.to_dict() for x in ca.lifts]), hide_index=True,
+                     width="stretch")
+        st.caption("Mean liking with the word ticked minus without it (descriptive); p from "
+                   "Welch's t-test.")
+
+
+if result.cata is not None:
+    _cata_section(result.cata)
+
 # ------------------------------------------------------------------ R-index
 
 

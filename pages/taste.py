@@ -12,6 +12,7 @@ import streamlit as st
 from trials import answers, service, ui
 from trials.answers import NO_PREFERENCE
 from trials.methods import get_method
+from trials.model import AttributeKind
 
 ui.require_panelist()
 ui.tablet_look()
@@ -44,6 +45,27 @@ def _respond(current, spec, question: str) -> None:
                    type="primary", width="stretch", on_click=_save,
                    args=(current.codes[0], answers.RESPONSE, word),
                    kwargs={"session": current.session})
+
+
+def _save_words(code: str, words: list[str], key: str, *, session: str) -> None:
+    picked = set(st.session_state.get(key) or [])
+    for w in words:  # every word answered: 1 ticked, 0 not
+        _save(code, w, "1" if w in picked else "0", session=session)
+
+
+def _check_words(current, code: str, attributes, given) -> None:
+    """CATA words (attributes of kind "check") of one cup: tap those that apply, then save;
+    each word is saved as 1 (ticked) or 0 (not)."""
+    words = [a.name for a in attributes if a.kind == AttributeKind.CHECK]
+    if not words:
+        return
+    done = [w for w in words if given.get((current.session, code, w)) == "1"]
+    key = f"words_{current.session}_{code}"
+    st.pills("Tap every word that applies", words, selection_mode="multi", key=key,
+             default=done, format_func=ui.literal)
+    st.button("Save the words", type="primary", width="stretch", key=f"save_{key}",
+              on_click=_save_words, args=(code, words, key),
+              kwargs={"session": current.session})
 
 
 @st.fragment
@@ -121,7 +143,10 @@ def ballot_screen() -> None:
                     "then tap one box on each scale.")
         if pos == 0:
             st.caption(spec.tablet_instructions)
+        _check_words(current, code, ballot.attributes, given)
         for i, attr in enumerate(ballot.attributes):
+            if attr.kind == AttributeKind.CHECK:
+                continue
             have = given.get((current.session, code, attr.name))
             st.markdown(f"#### {ui.literal(attr.name)}"
                         + (f" · you gave **{ui.literal(have)}**" if have else ""))

@@ -15,8 +15,8 @@ responses and its batches, all as plain records, and returns a frozen
   sample's mean to its batches' measures and settings (:mod:`trials.stats.measures`);
 - ranking: :func:`trials.stats.ranks.rank_test` (Friedman's test for complete blocks,
   Durbin's for incomplete ones);
-- signal detection (A-not-A, same-different): the response table, in
-  :mod:`trials.response_tables`.
+- signal detection (A-not-A, same-different): the response table
+  (:mod:`trials.response_tables`); CATA: :mod:`trials.cata_analysis`.
 
 A trial without answers says "no answers yet" instead of failing; one the data cannot
 support yet (one panelist, one sample) carries a note saying why. Pure: no store, no
@@ -34,6 +34,7 @@ from typing import Any
 import pandas as pd
 
 from trials.answers import CHOICE, NO_PREFERENCE, RANK
+from trials.cata_analysis import CataAnalysis, analyse_cata
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
@@ -161,6 +162,7 @@ class TrialAnalysis(Record):
     measures: MeasuresSummary
     problems: tuple[str, ...]
     signal: SignalAnalysis | None = None  # A-not-A, same-different
+    cata: CataAnalysis | None = None  # check-all-that-apply
 
     def attribute(self, name: str) -> AttributeAnalysis:
         for a in self.attributes:
@@ -659,7 +661,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     spec = get_method(study.method)
     measures = summarise_measures(list(batches))
     planned = len({e.panelist_code for e in plan})
-    choice = ranking = signal = None
+    choice = ranking = signal = cata = None
     attributes: tuple[AttributeAnalysis, ...] = ()
     problems: list[str] = []
     if spec.is_forced_choice:
@@ -667,9 +669,11 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
         problems += choice.counts.problems
         answered = {s.panelist_code for s in choice.counts.sets}
         answers = choice.counts.n + choice.counts.no_preference
-    elif spec.family == Family.SIGNAL:
-        signal = analyse_signal(study, plan, responses)
-        problems, answers, answered = list(signal.problems), signal.answers, set(signal.panelists)
+    elif spec.family in (Family.SIGNAL, Family.CATA):  # modules of their own
+        extra = (analyse_signal if spec.family == Family.SIGNAL else analyse_cata)(
+            study, plan, responses)
+        signal, cata = (extra, None) if spec.family == Family.SIGNAL else (None, extra)
+        problems, answers, answered = list(extra.problems), extra.answers, set(extra.panelists)
     elif spec.family == Family.RATING:
         attributes, problems = _ratings(study, plan, responses, measures)
         names = {a.name for a in study.attributes}
@@ -685,7 +689,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     return TrialAnalysis(study.name, spec.name, str(spec.family), study.objective,
                          study.alpha, study.beta, study.pd, has, message, planned,
                          len(answered), max(answers, 0), choice, attributes, ranking,
-                         measures, tuple(problems), signal)
+                         measures, tuple(problems), signal, cata)
 
 
 # --------------------------------------------------------------------------- history
@@ -699,7 +703,8 @@ def _field(record: Any, name: str, default: Any = "") -> Any:
 
 def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | None = None,
                   decision: str | None = None) -> list[Any]:
-    """The trials on file that match a free text, a method and a decision.
+    """The trials on file (in the given order) that match a free text, a method and a
+    decision.
 
     Parameters
     ----------
@@ -714,11 +719,6 @@ def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | Non
         Keep only this method (a registry name).
     decision : str or None
         Keep only trials whose decision text contains this (case-insensitive).
-
-    Returns
-    -------
-    list
-        The matching summaries, in the given order.
     """
     words = [w.lower() for w in text.split()]
     out = []

@@ -288,7 +288,7 @@ def expected_answers(spec: MethodSpec, cups_per_set: Iterable[int], *, attribute
     per cup.
     """
     sizes = list(cups_per_set)
-    if spec.family is Family.RATING:
+    if spec.scores_each_cup:
         return sum(sizes) * attributes
     if spec.family is Family.RANKING:
         return sum(sizes)
@@ -346,7 +346,7 @@ def tasting_steps(spec: MethodSpec, sets: Sequence[Any], answers: Sequence[Any],
     """
     given = {(a.session, a.code, a.attribute) for a in answers}
     steps: list[Step] = []
-    if spec.family is Family.RATING:
+    if spec.scores_each_cup:
         for s in sets:
             for pos, code in enumerate(s.codes):
                 done = all((s.session, code, a) in given for a in attributes)
@@ -396,12 +396,12 @@ def choice_options(spec: MethodSpec, codes: Sequence[str]) -> tuple[str, tuple[s
 
 def paper_columns(spec: MethodSpec, attributes: Sequence[str] = ()) -> tuple[str, ...]:
     """The paper-entry grid's columns: the registry's, then (ratings) one per attribute."""
-    extra = tuple(attributes) if spec.family is Family.RATING else ()
+    extra = tuple(attributes) if spec.scores_each_cup else ()
     return tuple(spec.paper_columns) + extra
 
 
 def _score_names(spec: MethodSpec, attributes: Sequence[str]) -> list[str]:
-    return list(attributes) if spec.family is Family.RATING else [RANK]
+    return list(attributes) if spec.scores_each_cup else [RANK]
 
 
 def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Answer],

@@ -157,6 +157,25 @@ def _analyze_rindex(args: argparse.Namespace) -> dict[str, Any]:
                          kind=args.kind, alpha=args.alpha).to_dict()
 
 
+def _analyze_cata(args: argparse.Namespace) -> dict[str, Any]:
+    import pandas as pd
+
+    from trials.stats.cata import correspondence_analysis, penalty_lift, word_tests
+
+    data = _read_csv(args.file, numbers=(args.tick,) + ((args.liking,) if args.liking else ()))
+    frame = data.rename(columns={args.panelist: "panelist", args.sample: "sample",
+                                 args.word: "word", args.tick: "tick"})
+    tests = word_tests(frame, alpha=args.alpha)
+    table = pd.pivot_table(frame, index="sample", columns="word", values="tick",
+                           aggfunc="sum", sort=False)
+    out: dict[str, Any] = {"words": [t.to_dict() for t in tests],
+                           "correspondence": correspondence_analysis(table).to_dict()}
+    if args.liking:
+        lifts = penalty_lift(frame.rename(columns={args.liking: "liking"}))
+        out["penalty_lift"] = [x.to_dict() for x in lifts]
+    return out
+
+
 def _analyze_table(args: argparse.Namespace) -> dict[str, Any]:
     from trials.stats.signal import signal_test
 
@@ -428,6 +447,17 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--score", default="score")
     p.add_argument("--sample", default="sample")
     p.add_argument("--kind", choices=("scores", "ranks"), default="scores")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p = _leaf(asub, "cata", _analyze_cata, (
+        "check-all-that-apply ticks: Cochran's Q per word, pairwise McNemar tests, "
+        "correspondence analysis and (with --liking) penalty-lift"
+    ))
+    p.add_argument("file")
+    p.add_argument("--panelist", default="panelist")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--word", default="word")
+    p.add_argument("--tick", default="tick")
+    p.add_argument("--liking", default=None, help="column of the liking score, if any")
     p.add_argument("--alpha", type=_fraction, default=0.05)
     p = _leaf(asub, "table", _analyze_table, (
         "A-not-A or same-different response table: Fisher's exact one-sided test, "

@@ -494,6 +494,53 @@ def _signal(a: TrialAnalysis) -> Decision:
     return Decision(verdict, head, tuple(details), limits, a.method, ref, numbers)
 
 
+def _cata(a: TrialAnalysis) -> Decision:
+    """CATA: per word, Cochran's Q at the trial's alpha decides whether the samples differ
+    in how often it is ticked; the pairwise McNemar tests say which (trials.stats.cata)."""
+    spec = get_method(a.method)
+    ca = a.cata
+    ref = f"{spec.reference}; Cochran (1950) Q, McNemar (1947) pairs"
+    if ca is None or not ca.tests:
+        why = (ca.note if ca is not None and ca.note else NO_ANSWERS)
+        return (_no_answers(a) if why.startswith("no ticks") or why == NO_ANSWERS else
+                Decision(Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref))
+    differ = [t for t in ca.tests if t.significant]
+    words = ", ".join(t.word for t in differ)
+    test = f"Cochran's Q per word at alpha {fmt_risk(a.alpha)}; {spec.reference}"
+    if differ:
+        verdict = Verdict.DIFFERENCE
+        head = (f"The samples differ on {len(differ)} of {len(ca.tests)} words ({test}): "
+                f"{words}.")
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No word was ticked more often for one sample than another ({test})."
+    details = []
+    for t in differ:
+        ticks = ", ".join(f"{s} {n} of {t.panelists}" for s, n in t.ticks.items())
+        pairs = [f"{x.first} vs {x.second}" for x in t.pairs if x.p_adjusted <= a.alpha]
+        details.append(f"{t.word}: Q = {fmt(t.q)} on {t.df} df, {fmt_p(t.p_value)}; ticked "
+                       f"{ticks}" + (f"; pairs that differ (exact McNemar, Bonferroni): "
+                                     f"{', '.join(pairs)}" if pairs else "") + ".")
+    if ca.correspondence is not None:
+        shares = ", ".join(f"{100 * x:.0f} %" for x in ca.correspondence.shares[:2])
+        details.append(f"Correspondence analysis of the sample x word table: the first "
+                       f"dimensions hold {shares} of the inertia (Greenacre 2017).")
+    drops = sorted((x for x in ca.lifts if x.lift is not None), key=lambda x: x.lift or 0.0)
+    if drops:
+        worst, best = drops[0], drops[-1]
+        details.append(f"Penalty-lift on {ca.liking}: liking is {fmt(worst.lift)} points "
+                       f"when {worst.word!r} is ticked against not ticked, and "
+                       f"{fmt(best.lift)} for {best.word!r} (mean differences, descriptive).")
+    if ca.note:
+        details.append(f"Note: {ca.note}.")
+    limits = ("Not significant is not the same as alike: a word may differ by less than "
+              "this panel can show.",
+              "Each word is tested on its own at alpha, with no adjustment over the words.")
+    numbers = {"words_differ": [t.word for t in differ],
+               "q": {t.word: t.q for t in ca.tests}, "p": {t.word: t.p_value for t in ca.tests}}
+    return Decision(verdict, head, tuple(details), limits, a.method, ref, numbers)
+
+
 # --------------------------------------------------------------------------- entry point
 
 
@@ -540,6 +587,8 @@ def decide(analysis: TrialAnalysis, *, study: Trial | None = None) -> Decision:
         return _forced_choice(analysis, analysis.choice, study)
     if analysis.signal is not None:
         return _signal(analysis)
+    if analysis.cata is not None:
+        return _cata(analysis)
     if analysis.attributes:
         return _ratings(analysis, study)
     return _ranking(analysis)

@@ -59,6 +59,7 @@ class Family(StrEnum):
     RATING = "rating"  # scores on attribute scales
     RANKING = "ranking"  # ranks of all samples
     SIGNAL = "signal-detection"  # one of two answers per set (A / not A, same / different)
+    CATA = "check-all-that-apply"  # per cup: the words that apply ticked (0/1 per word)
 
 
 @dataclass(frozen=True, slots=True)
@@ -128,6 +129,12 @@ class MethodSpec(Record):
     responses: tuple[str, ...] = ()
 
     @property
+    def scores_each_cup(self) -> bool:
+        """Whether every cup gets one answer per attribute (ratings; CATA, whose words are
+        attributes of kind ``check`` scored 0 or 1, beside any liking scale)."""
+        return self.family in (Family.RATING, Family.CATA)
+
+    @property
     def served_in_sets(self) -> bool:
         """Whether the method serves two samples in patterned sets (forced choice and
         signal detection), rather than every sample in a Williams or block order."""
@@ -153,6 +160,7 @@ TETRAD = "tetrad"
 SPECIFIED_TETRAD = "tetrad-specified"
 TWO_OUT_OF_FIVE = "2-out-of-5"
 A_NOT_A = "a-not-a"
+CATA = "cata"
 SAME_DIFFERENT = "same-different"
 PAIRED_PREFERENCE = "paired-preference"
 RATING = "rating"
@@ -474,6 +482,30 @@ METHODS: tuple[MethodSpec, ...] = (
             "Taste the samples in the order given, one at a time. Rinse your mouth "
             "between samples. Tap one box on each scale."
         ),
+    ),
+    MethodSpec(
+        name=CATA,
+        label="Check-all-that-apply (CATA)",
+        family=Family.CATA,
+        guess=None,
+        set_size=None,
+        sides=2,
+        question="Tick every word that applies to this sample.",
+        instructions=(
+            "Taste the samples in the order given, one at a time. Rinse your mouth between "
+            "samples. For each sample, tick every word that describes it; leave the others "
+            "blank. Then mark one box on any scale below the words."
+        ),
+        patterns=(),
+        reference=("Adams, Williams, Lancaster and Foley (2007), 7th Pangborn Sensory "
+                   "Science Symposium (CATA); Meyners, Castura and Carr (2013), Food Qual. "
+                   "Prefer. 30:309-319"),
+        tablet_instructions=(
+            "Taste the samples in the order given, one at a time. Rinse your mouth between "
+            "samples. For each sample, tap every word that describes it, then save; tap one "
+            "box on any scale below the words."
+        ),
+        set_design="Williams design of the serving order, as for ratings (common practice)",
     ),
     MethodSpec(
         name=RANKING,

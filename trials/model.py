@@ -68,6 +68,7 @@ class AttributeKind(StrEnum):
     HEDONIC = "hedonic"  # liking, e.g. the 9-point hedonic scale (Peryam and Pilgrim 1957)
     INTENSITY = "intensity"  # how much of a property, low to high
     JAR = "jar"  # just-about-right: too little .. just right .. too much
+    CHECK = "check"  # a word of a check-all-that-apply list: 1 ticked, 0 not (scale 0..1)
 
 
 @dataclass(frozen=True, slots=True)

@@ -357,6 +357,27 @@ class _Ballot:
             x += side + 8 + pdfmetrics.stringWidth(printable(word), BOLD, 12) + gap
         self.y = top - side - 12
 
+    def word_lists(self, words: Sequence[Attribute]) -> None:
+        """CATA: for each cup in serving order, its code and a tick box per word."""
+        c = self.c
+        side, gap = 10.0, 16.0
+        for e in self.group.entries:
+            self.text(f"Cup {e.code}: tick every word that applies", BOLD, 10.5, gap=2)
+            x, y = self.left, self.y - 4
+            self.need(side + 8)
+            c.setFont(SANS, 10)
+            for w in words:
+                label = printable(w.name)
+                width = side + 5 + pdfmetrics.stringWidth(label, SANS, 10)
+                if x + width > self.left + self.inner:
+                    x, y = self.left, y - side - 8
+                    self.y = y + 4
+                    self.need(side + 8)
+                c.rect(x, y - side, side, side, stroke=1, fill=0)
+                c.drawString(x + side + 5, y - side + 1.5, label)
+                x += width + gap
+            self.y = y - side - 12
+
     def attribute_line(self) -> None:
         attrs = self.study.attributes
         if attrs:
@@ -751,6 +772,11 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
                 b.response_boxes(method.responses)
             if method.ballot_note:
                 b.text(method.ballot_note, ITALIC, 9, gap=8)
+    elif method.family is Family.CATA:
+        b.serving_order()
+        b.word_lists([a for a in attrs if a.kind == AttributeKind.CHECK])
+        for attr in (a for a in attrs if a.kind != AttributeKind.CHECK):
+            b.rating_grid(attr, _rating_layout(b, [attr])[1])
     elif method.family is Family.RATING:
         b.serving_order()
         scales = attrs or (OVERALL_LIKING,)

@@ -29,6 +29,12 @@ from trials.analysis import TrialAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
 from trials.model import Answer, Batch, PlanEntry, Trial
+from trials.printing.report_methods import (
+    cata_results_html,
+    cata_rows,
+    signal_results_html,
+    signal_rows,
+)
 
 CAUTION = (
     "Samples are food served to people. Before any tasting: declare every sample's "
@@ -314,39 +320,6 @@ def _dprime_rows(d: Any) -> list[tuple[str, Any]]:
             (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}")]
 
 
-def _signal_rows(a: TrialAnalysis) -> tuple[list[str], list[list[Any]]]:
-    """The response table of an A-not-A or same-different trial: one row per kind of set."""
-    sg = a.signal
-    assert sg is not None
-    head = ["sets served", f"answered {sg.responses[1]!r}", f"answered {sg.responses[0]!r}",
-            "sets"]
-    return head, [[sg.signal_sets, sg.hits, sg.n_signal - sg.hits, sg.n_signal],
-                  [sg.noise_sets, sg.false_alarms, sg.n_noise - sg.false_alarms, sg.n_noise]]
-
-
-def _signal_results(a: TrialAnalysis) -> str:
-    sg = a.signal
-    assert sg is not None
-    head, rows = _signal_rows(a)
-    out = ["<h3>Response table</h3>", _table(head, rows, numeric=(1, 2, 3))]
-    r = sg.result
-    if r is None:
-        return "".join(out) + f"<p>{e(sg.note or 'No result.')}</p>"
-    dp = r.dprime
-    kv = [("Fisher's exact test, one-sided p", _g(r.p_value)),
-          ("significant at alpha " + fmt_risk(r.alpha), "yes" if r.significant else "no"),
-          ("Pearson chi-square (1 df)", _g(r.test.chi2)), ("chi-square p (two-sided)",
-                                                           _g(r.test.chi2_p)),
-          ("hit rate H", _g(dp.hit_rate)), ("false-alarm rate F", _g(dp.false_alarm_rate)),
-          ("d' (" + dp.model + " model)", _g(dp.dprime)), ("d' standard error", _g(dp.dprime_se)),
-          (f"d' {dp.level * 100:g} % interval (Wald)", "-" if dp.dprime_ci is None else
-           f"{_g(dp.dprime_ci[0])} to {_g(dp.dprime_ci[1])}"),
-          ("criterion", _g(dp.criterion))]
-    if r.note or sg.note:
-        kv.append(("note", "; ".join(x for x in (r.note, sg.note) if x)))
-    return "".join(out) + "<h3>Signal-detection test</h3>" + _kv(kv)
-
-
 def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
     fc = a.choice
     d = fc.difference
@@ -558,7 +531,9 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
     elif analysis.choice is not None:
         body.append(_forced_choice_results(analysis, charts))
     elif analysis.signal is not None:
-        body.append(_signal_results(analysis))
+        body.append(signal_results_html(analysis))
+    elif analysis.cata is not None:
+        body.append(cata_results_html(analysis))
     elif analysis.attributes:
         body.append(_rating_results(analysis, charts))
     else:
@@ -695,12 +670,16 @@ def _pdf_results(analysis: TrialAnalysis, p, body, h2, grid) -> list:
         out.append(Paragraph(p(f"{a.method}. Tukey HSD {fmt(a.hsd)}; samples sharing a "
                                "letter do not differ."), body))
     if analysis.signal is not None and analysis.signal.result is not None:
-        head, rows = _signal_rows(analysis)
+        head, rows = signal_rows(analysis)
         res_s = analysis.signal.result
         out += [grid([head, *rows], [60, 30, 30, 20]), Paragraph(p(
             f"Fisher's exact one-sided {fmt_p(res_s.p_value)}; d' {fmt(res_s.dprime.dprime)} "
             f"(standard error {fmt(res_s.dprime.dprime_se)}, {res_s.dprime.model} model)."),
             body)]
+    if analysis.cata is not None and analysis.cata.tests:
+        head, rows = cata_rows(analysis)
+        out += [grid([head, *rows], [40] + [24] * (len(head) - 1)), Paragraph(p(
+            "Ticks per word and sample; Cochran's Q per word (Cochran 1950)."), body)]
     r = analysis.ranking
     if r is not None and r.result is not None:
         res = r.result

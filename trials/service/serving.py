@@ -12,7 +12,7 @@ from collections.abc import Iterable, Sequence
 import pandas as pd
 
 from trials.errors import NotFoundError, TrialsError
-from trials.methods import Family, MethodSpec, Scoring, get_method
+from trials.methods import MethodSpec, Scoring, get_method
 from trials.model import AllergenConflict, PanelChoice, Panelist, PlanEntry, Sample
 from trials.service import _input
 from trials.store import Store
@@ -70,7 +70,7 @@ def _check_samples(spec: MethodSpec, trial_id: int, samples: Sequence[Sample],
         )
     if not spec.served_in_sets and len(samples) < 2:
         raise TrialsError(f"a {spec.name} trial needs 2 or more samples; it has {len(samples)}")
-    if spec.family == Family.RATING and not n_attributes:
+    if spec.scores_each_cup and not n_attributes:
         raise TrialsError(
             f"a rating trial needs at least one attribute; trial {trial_id} has none")
 

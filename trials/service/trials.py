@@ -55,6 +55,9 @@ def check_attribute(attr: Attribute) -> Attribute:
         known = ", ".join(k.value for k in AttributeKind)
         raise TrialsError(f"unknown attribute kind {attr.kind!r}; expected: {known}") from None
     low, high = attr.low, attr.high
+    if kind is AttributeKind.CHECK and (low, high) != (0, 1):
+        raise TrialsError(f"attribute {attr_name!r}: a check-all-that-apply word is scored 0 "
+                          f"(not ticked) or 1 (ticked); give low=0, high=1, got {low!r}..{high!r}")
     if not (isinstance(low, int) and isinstance(high, int)) or low >= high:
         raise TrialsError(
             f"a scale runs over whole numbers from low to high, low < high; got {low!r}..{high!r}"
