@@ -136,3 +136,58 @@ def test_the_results_of_a_rating_show_the_r_index_against_the_control(store):
     want = service.r_index_of(store, study.id, "overall liking").rows[0]
     assert list(table["sample"]) == ["Buckwheat honey glaze"]
     assert table["r_index"].iloc[0] == pytest.approx(want.r_index) and want.r_index == 1.0
+
+
+def _cata_trial(store):
+    from trials.model import Attribute, AttributeKind
+
+    study = service.create_trial(
+        store, name="Glaze: two honeys", method="cata",
+        samples=[Sample("Clover honey glaze", is_control=True), Sample("Buckwheat honey glaze")],
+        attributes=[Attribute("sticky", AttributeKind.CHECK, 0, 1),
+                    Attribute("bitter", AttributeKind.CHECK, 0, 1),
+                    Attribute("floral", AttributeKind.CHECK, 0, 1),
+                    Attribute("overall liking", low=1, high=9)])
+    service.draw_plan(store, study.id, panelist_codes=PANEL, seed=5)
+    return study
+
+
+def test_the_tablet_ticks_cata_words_and_saves_each_as_one_or_zero(store):
+    study = _cata_trial(store)
+    first = min((e for e in service.plan(store, study.id) if e.panelist_code == "F04"),
+                key=lambda e: e.position)
+    at = page_test("taste")
+    at.query_params["t"] = service.panelist_token(store, study.id, "F04")
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    words = at.button_group[0]
+    assert words.label == "Tap every word that applies"
+    at.button_group[0].set_value(["bitter"])
+    at.run()
+    next(b for b in at.button if b.label == "Save the words").click()
+    at.run()
+    got = {r.attribute: r.value for r in service.list_answers(store, study.id)}
+    assert got == {"sticky": "0", "bitter": "1", "floral": "0"}
+    assert all(r.code == first.code for r in service.list_answers(store, study.id))
+
+
+def test_the_results_of_a_cata_trial_show_the_words_and_the_map(store):
+    study = _cata_trial(store)
+    for e in service.plan(store, study.id):
+        dark = e.sample_name.startswith("Buckwheat")
+        for w, v in (("sticky", 1), ("bitter", int(dark)), ("floral", int(not dark))):
+            service.enter_answer(store, study.id, panelist_code=e.panelist_code, code=e.code,
+                                 attribute=w, value=v)
+        service.enter_answer(store, study.id, panelist_code=e.panelist_code, code=e.code,
+                             attribute="overall liking", value=5 if dark else 7)
+    at = page_test("results")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    table = next(df.value for df in at.dataframe if "Cochran Q" in df.value.columns)
+    assert list(table["word"]) == ["sticky", "bitter", "floral"]
+    assert list(table["Buckwheat honey glaze"]) == [10, 10, 0]
+    # every panelist ticked bitter for one glaze only: Q = 10 on 1 df (Cochran 1950, by hand:
+    # (k - 1)[k sum C^2 - T^2] / [k T - sum R^2] = 1 * (2 * 100 - 100) / (2 * 10 - 10))
+    assert table.loc[table["word"] == "bitter", "Cochran Q"].iloc[0] == pytest.approx(10.0)
+    assert at.get("plotly_chart")  # the correspondence map

@@ -119,3 +119,23 @@ def test_penalty_lift_is_the_mean_difference_with_welchs_test():
     assert got["sweet"].p_value == pytest.approx(
         stats.ttest_ind(a, b, equal_var=False).pvalue, rel=1e-9)
     assert got["sweet"].lift > 0 and got["salty"].lift < got["sweet"].lift
+
+
+def test_the_command_line_analyses_a_tidy_tick_file(tmp_path, capsys):
+    import json
+
+    from trials.cli import main
+
+    frame = seeded_ticks()
+    frame["liking"] = [6 + (s == "Fruit scone") for s in frame["sample"]]
+    path = tmp_path / "ticks.csv"
+    frame.to_csv(path, index=False)
+    code = main(["analyze", "cata", str(path), "--liking", "liking", "--json"])
+    data = json.loads(capsys.readouterr().out)
+    assert code == 0 and [w["word"] for w in data["words"]] == WORDS
+    wide = frame[frame.word == "sweet"].pivot(index="panelist", columns="sample",
+                                              values="tick")[SAMPLES].to_numpy()
+    sweet = next(w for w in data["words"] if w["word"] == "sweet")
+    assert sweet["q"] == pytest.approx(sm_cochrans_q(wide).statistic)
+    assert len(data["penalty_lift"]) == len(WORDS)
+    assert data["correspondence"]["samples"] == SAMPLES
