@@ -19,7 +19,7 @@ from typing import Any
 
 from trials import limits
 from trials.errors import TrialsError
-from trials.methods import FORCED_CHOICE, METHODS, SIGNAL_DETECTION, get_method
+from trials.methods import CATA, FORCED_CHOICE, METHODS, SIGNAL_DETECTION, get_method
 
 Handler = Callable[[argparse.Namespace], dict[str, Any]]
 
@@ -448,7 +448,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--sample", default="sample")
     p.add_argument("--kind", choices=("scores", "ranks"), default="scores")
     p.add_argument("--alpha", type=_fraction, default=0.05)
-    p = _leaf(asub, "cata", _analyze_cata, (
+    p = _leaf(asub, CATA, _analyze_cata, (
         "check-all-that-apply ticks: Cochran's Q per word, pairwise McNemar tests, "
         "correspondence analysis and (with --liking) penalty-lift"
     ))

@@ -36,7 +36,7 @@ def test_the_contract_names_every_method_once():
     names = [m.name for m in METHODS]
     assert names == ["triangle", "duo-trio", "2afc", "3afc", "tetrad", "tetrad-specified",
                      "2-out-of-5", "a-not-a", "same-different", "paired-preference", "rating",
-                     "ranking"]
+                     "cata", "ranking"]
 
 
 def test_only_paired_preference_is_two_sided_among_forced_choice():
