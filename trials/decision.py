@@ -506,7 +506,7 @@ def _cata(a: TrialAnalysis) -> Decision:
                 Decision(Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref))
     differ = [t for t in ca.tests if t.significant]
     words = ", ".join(t.word for t in differ)
-    test = f"Cochran's Q per word at alpha {fmt_risk(a.alpha)}; {spec.reference}"
+    test = f"Cochran's Q per word at alpha {fmt_risk(a.alpha)}"
     if differ:
         verdict = Verdict.DIFFERENCE
         head = (f"The samples differ on {len(differ)} of {len(ca.tests)} words ({test}): "
