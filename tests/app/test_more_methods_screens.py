@@ -191,3 +191,21 @@ def test_the_results_of_a_cata_trial_show_the_words_and_the_map(store):
     # (k - 1)[k sum C^2 - T^2] / [k T - sum R^2] = 1 * (2 * 100 - 100) / (2 * 10 - 10))
     assert table.loc[table["word"] == "bitter", "Cochran Q"].iloc[0] == pytest.approx(10.0)
     assert at.get("plotly_chart")  # the correspondence map
+
+
+def test_a_cata_word_is_added_on_the_samples_screen_with_its_zero_one_scale(store):
+    from tests.app.conftest import by_label
+
+    study = service.create_trial(store, name="Glaze: two honeys", method="cata",
+                                 samples=["Clover honey glaze", "Buckwheat honey glaze"])
+    at = page_test("samples")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    by_label(at.text_input, "Attribute").input("sticky")
+    by_label(at.selectbox, "Kind").select("check")
+    next(b for b in at.button if b.label == "Add the attribute").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    (word,) = service.get_trial(store, study.id).attributes
+    assert (word.name, str(word.kind), word.low, word.high) == ("sticky", "check", 0, 1)
