@@ -90,6 +90,8 @@ class MethodSpec(Record):
       (``("A", "not A")``, ``("same", "different")``); ``scoring`` then says which sets
       are the signal (:attr:`Scoring.SIGNAL_ROLE_B`, :attr:`Scoring.SIGNAL_MIXED_PAIR`)
       and ``model`` is one of :data:`SIGNAL_MODELS`;
+    - ``kitchen_note``: a line for the serving sheet (kitchen only), e.g. the A-not-A
+      familiarisation cup of sample A;
     - ``group_label``: the tablet's label over the codes when ``choose`` > 1 ("The two
       cups that belong together");
     - ``tablet_instructions``: the instructions on the tasting screen ("tap", not
@@ -127,6 +129,7 @@ class MethodSpec(Record):
     paper_columns: tuple[str, ...] = PER_CUP_COLUMNS
     group_label: str = ""
     responses: tuple[str, ...] = ()
+    kitchen_note: str = ""
 
     @property
     def scores_each_cup(self) -> bool:
@@ -409,6 +412,9 @@ METHODS: tuple[MethodSpec, ...] = (
                     "(monadic; common practice)"),
         paper_columns=RESPONSE_COLUMNS,
         responses=("A", "not A"),
+        kitchen_note=("Before the coded cup, give every panelist an uncoded cup of sample A "
+                      "(role A, the control), said to be \"A\", to learn; then serve the "
+                      "coded cup (common practice)."),
     ),
     MethodSpec(
         name=SAME_DIFFERENT,

@@ -48,6 +48,9 @@ def test_an_a_not_a_trial_from_tablet_paper_and_file_to_its_decision(store):
     text = page.extract_text()
     assert spec.question in text and "not A" in text and _cups(plan, codes[0])[0].code in text
     assert USUAL not in text and NEW not in text
+    # the kitchen's serving sheet asks for the uncoded familiarisation cup of sample A
+    sheet = PdfReader(io.BytesIO(service.print_bytes(store, study.id, "sheet"))).pages[0]
+    assert "uncoded cup of sample A" in " ".join(sheet.extract_text().split())
 
     # 10 of the 12 served the new biscuit say "not A"; 3 of the 12 served the usual one do
     def said(c):
