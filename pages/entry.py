@@ -20,6 +20,7 @@ from trials.methods import Family
 ui.require_leader()
 store, trial_id, study, spec, overview = ui.open_trial()
 
+
 st.title(f"Paper entry: {ui.literal(study.name)}")
 if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
@@ -52,7 +53,11 @@ if spec.is_forced_choice:
     entry = [("chosen", "chosen code")]
     if spec.allows_no_preference:
         entry.append(("no_preference", "no preference"))
-elif spec.family == Family.RATING:
+elif spec.family == Family.SIGNAL:
+    st.caption(f"{spec.question} Pick the box the panelist ticked.")
+    fixed = [("panelist", "panelist"), ("set", "set"), ("cups", "cups served")]
+    entry = [("response", "response")]
+elif spec.scores_each_cup:  # ratings; CATA words are 0/1 attributes
     fixed = [("panelist", "panelist"), ("position", "position"), ("code", "code")]
     entry = [(a.name, f"{a.name} ({a.low} to {a.high})") for a in study.attributes]
 else:
@@ -80,6 +85,12 @@ with st.form(f"paper_form_{trial_id}_{session}", clear_on_submit=False, enter_to
             if name == "no_preference":
                 edited.at[i, name] = col.checkbox(ui.literal(where), value=bool(rec[name]),
                                                   key=widget_key, label_visibility="collapsed")
+            elif name == "response":
+                options = ["", *spec.responses]
+                now = rec[name] if rec[name] in options else ""
+                edited.at[i, name] = col.selectbox(ui.literal(where), options,
+                                                   index=options.index(now), key=widget_key,
+                                                   label_visibility="collapsed")
             else:
                 edited.at[i, name] = col.text_input(ui.literal(where), value=rec[name] or "",
                                                     key=widget_key,

@@ -156,13 +156,17 @@ if result.choice is not None:
             e1.metric("Proportion correct", f"{diff.pc:.2f}")
             e2.metric("pd (discriminators)", f"{diff.pd:.2f}",
                       help=f"{diff.level:.0%} interval {_interval(diff.pd_ci)}")
-            e3.metric("d'", f"{diff.dprime:.2f}",
-                      help=f"{diff.level:.0%} interval {_interval(diff.dprime_ci)}")
-            st.dataframe(pd.DataFrame([
-                {"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0], "high": diff.pd_ci[1]},
-                {"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
-                 "high": diff.dprime_ci[1]},
-            ]), hide_index=True, width="stretch", column_config={
+            rows = [{"estimate": "pd", "value": diff.pd, "low": diff.pd_ci[0],
+                     "high": diff.pd_ci[1]}]
+            if diff.dprime is not None and diff.dprime_ci is not None:
+                e3.metric("d'", f"{diff.dprime:.2f}",
+                          help=f"{diff.level:.0%} interval {_interval(diff.dprime_ci)}")
+                rows.append({"estimate": "d'", "value": diff.dprime, "low": diff.dprime_ci[0],
+                             "high": diff.dprime_ci[1]})
+            else:
+                e3.metric("d'", "none", help="No Thurstonian model for this method: the "
+                          "proportion of discriminators pd is the estimate.")
+            st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch", column_config={
                 c: st.column_config.NumberColumn(c, format="%.2f") for c in ("value", "low", "high")
             })
             st.caption(f"Intervals: {diff.ci_method}, {diff.level:.0%}.")
@@ -267,6 +271,104 @@ if result.ranking is not None:
         } for s in fr.rank_sums]).sort_values("rank sum"), hide_index=True, width="stretch")
         st.caption(fr.method)
         st.caption(fr.comparisons)
+
+# ------------------------------------------------------------------ signal detection
+
+
+def _signal_section(sg) -> None:
+    """A-not-A and same-different: the response table, Fisher's test and d'."""
+    st.subheader("Response table")
+    st.dataframe(pd.DataFrame([
+        {"sets served": sg.signal_sets, f"answered {sg.responses[1]}": sg.hits,
+         f"answered {sg.responses[0]}": sg.n_signal - sg.hits, "sets": sg.n_signal},
+        {"sets served": sg.noise_sets, f"answered {sg.responses[1]}": sg.false_alarms,
+         f"answered {sg.responses[0]}": sg.n_noise - sg.false_alarms, "sets": sg.n_noise},
+    ]), hide_index=True, width="stretch")
+    if sg.note:
+        st.caption(ui.literal(sg.note))
+    r = sg.result
+    if r is None:
+        return
+    dp = r.dprime
+    c1, c2, c3, c4 = st.columns(4)
+    c1.metric("p-value", p_text(r.p_value), help="Fisher's exact test, one-sided")
+    c2.metric("Significant", "yes" if r.significant else "no")
+    c3.metric("d'", f"{dp.dprime:.2f}", help=f"{dp.model} model; standard error "
+              + ("-" if dp.dprime_se is None else f"{dp.dprime_se:.2f}"))
+    c4.metric("Hit / false-alarm rate", f"{dp.hit_rate:.2f} / {dp.false_alarm_rate:.2f}")
+    if r.test.chi2 is not None:
+        st.caption(f"Pearson chi-square {r.test.chi2:.2f} on 1 df, two-sided p "
+                   f"{p_text(r.test.chi2_p)}." + (f" {r.note}." if r.note else ""))
+
+
+if result.signal is not None:
+    _signal_section(result.signal)
+
+# ------------------------------------------------------------------ CATA
+
+
+def _cata_section(ca) -> None:
+    """Check-all-that-apply: ticks and Cochran's Q per word, the pairwise McNemar tests,
+    the correspondence map and penalty-lift."""
+    st.subheader("Words ticked")
+    if ca.note:
+        st.caption(ui.literal(ca.note))
+    tests = {t.word: t for t in ca.tests}
+    st.dataframe(pd.DataFrame([
+        {"word": w, **{s: ca.counts[s][w] for s in ca.samples},
+         "Cochran Q": tests[w].q if w in tests else None,
+         "p": tests[w].p_value if w in tests else None}
+        for w in ca.words]), hide_index=True, width="stretch",
+        column_config={"Cochran Q": st.column_config.NumberColumn(format="%.2f"),
+                       "p": st.column_config.NumberColumn(format="%.4f")})
+    if ca.tests:
+        with st.expander("Pairs of samples per word (exact McNemar)", icon=":material/rule:"):
+            st.dataframe(pd.DataFrame([{"word": t.word, **x.to_dict()} for t in ca.tests
+                                       for x in t.pairs]), hide_index=True, width="stretch")
+            st.caption("b, c: panelists who ticked the word for the first sample only, or the "
+                       "second only; p exact two-sided, p_adjusted Bonferroni over the pairs.")
+    if ca.correspondence is not None:
+        ui.ca_biplot(ca.correspondence, title="Correspondence map of samples and words")
+    if ca.lifts:
+        st.markdown(f"**Penalty-lift on {ui.literal(ca.liking)}**")
+        st.dataframe(pd.DataFrame([x.to_dict() for x in ca.lifts]), hide_index=True,
+                     width="stretch")
+        st.caption("Mean liking with the word ticked minus without it (descriptive); p from "
+                   "Welch's t-test.")
+
+
+if result.cata is not None:
+    _cata_section(result.cata)
+
+# ------------------------------------------------------------------ R-index
+
+
+def _r_index_section(attributes: list[str]) -> None:
+    """The R-index of each sample against the control (ratings: per attribute; ranking:
+    on the ranks), from service.r_index_of."""
+    if not attributes:
+        return
+    with st.expander("R-index against the control", icon=":material/compare_arrows:"):
+        which = (st.selectbox("Attribute", attributes, key="rindex_attribute")
+                 if len(attributes) > 1 else attributes[0])
+        try:
+            table = service.r_index_of(store, trial_id, which)
+        except TrialsError as exc:
+            st.caption(ui.literal(str(exc)))
+            return
+        st.dataframe(table.to_frame(), hide_index=True, width="stretch", column_config={
+            c: st.column_config.NumberColumn(c, format="%.3f")
+            for c in ("r_index", "p_value", "p_greater", "dprime")})
+        st.caption(f"R = P(sample {'ranked before' if table.kind == 'ranks' else 'scored above'}"
+                   f" the control {ui.literal(table.control)}) + half the ties (O'Mahony "
+                   "1992); two-sided Mann-Whitney test; d' = sqrt 2 z(R)."
+                   + (f" {ui.literal(table.note)}." if table.note else ""))
+
+
+if result.attributes:
+    _r_index_section([a.attribute for a in result.attributes if a.scores])
+elif result.ranking is not None and result.ranking.ranks:
+    _r_index_section(["rank"])
 
 # ------------------------------------------------------------------ batches and problems
 if result.measures.summaries:

@@ -7,7 +7,6 @@ import streamlit as st
 
 from trials import service, ui
 from trials.errors import TrialsError
-from trials.methods import Family
 from trials.model import AttributeKind
 
 ui.require_leader()
@@ -51,7 +50,7 @@ else:
                 st.rerun()
 
 # ------------------------------------------------------------------ attributes
-if spec.family == Family.RATING:
+if spec.scores_each_cup:  # ratings, and CATA (its words: attributes of kind "check")
     st.subheader("Rated attributes")
     if study.attributes:
         st.dataframe(
@@ -74,8 +73,11 @@ if spec.family == Family.RATING:
             if st.form_submit_button("Add the attribute"):
                 anchors = [x.strip() for x in a_anchors.split(";") if x.strip()]
                 try:
-                    service.add_attribute(store, trial_id, a_name, kind=a_kind, low=int(a_low),
-                                          high=int(a_high), anchors=anchors, by=ui.who())
+                    word = a_kind == AttributeKind.CHECK  # a CATA word: ticked 1, not 0
+                    service.add_attribute(store, trial_id, a_name, kind=a_kind,
+                                          low=0 if word else int(a_low),
+                                          high=1 if word else int(a_high), anchors=anchors,
+                                          by=ui.who())
                 except TrialsError as exc:
                     ui.show_problem(exc)
                 else:

@@ -12,6 +12,7 @@ import streamlit as st
 from trials import answers, service, ui
 from trials.answers import NO_PREFERENCE
 from trials.methods import get_method
+from trials.model import AttributeKind
 
 ui.require_panelist()
 ui.tablet_look()
@@ -26,6 +27,45 @@ def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
         st.session_state["taste_problem"] = str(exc)
     else:
         st.session_state.pop("taste_problem", None)
+
+
+def _respond(current, spec, question: str) -> None:
+    """A signal-detection set (A-not-A, same-different): the codes in serving order and
+    one large button per response of the registry (``spec.responses``)."""
+    st.markdown(spec.tablet_instructions)
+    st.markdown(f"### {question}")
+    if len(current.codes) == 1:
+        st.markdown(f"Taste the cup marked **{current.codes[0]}**.")
+    else:
+        st.markdown("Taste in this order, left to right: "
+                    + " → ".join(f"**{c}**" for c in current.codes))
+    cols = st.columns(len(spec.responses))
+    for col, word in zip(cols, spec.responses):
+        col.button(word, key=f"respond_{current.session}_{current.set_index}_{word}",
+                   type="primary", width="stretch", on_click=_save,
+                   args=(current.codes[0], answers.RESPONSE, word),
+                   kwargs={"session": current.session})
+
+
+def _save_words(code: str, words: list[str], key: str, *, session: str) -> None:
+    picked = set(st.session_state.get(key) or [])
+    for w in words:  # every word answered: 1 ticked, 0 not
+        _save(code, w, "1" if w in picked else "0", session=session)
+
+
+def _check_words(current, code: str, attributes, given) -> None:
+    """CATA words (attributes of kind "check") of one cup: tap those that apply, then save;
+    each word is saved as 1 (ticked) or 0 (not)."""
+    words = [a.name for a in attributes if a.kind == AttributeKind.CHECK]
+    if not words:
+        return
+    done = [w for w in words if given.get((current.session, code, w)) == "1"]
+    key = f"words_{current.session}_{code}"
+    st.pills("Tap every word that applies", words, selection_mode="multi", key=key,
+             default=done, format_func=ui.literal)
+    st.button("Save the words", type="primary", width="stretch", key=f"save_{key}",
+              on_click=_save_words, args=(code, words, key),
+              kwargs={"session": current.session})
 
 
 @st.fragment
@@ -74,8 +114,7 @@ def ballot_screen() -> None:
             st.markdown("Taste in this order, left to right: "
                         + " → ".join(f"**{c}**" for c in codes))
         if spec.choose > 1:
-            group = st.pills("The two cups that belong together" if spec.choose == 2
-                             else f"The {spec.choose} cups that belong together", options,
+            group = st.pills(spec.group_label, options,
                              selection_mode="multi",
                              key=f"group_{current.session}_{current.set_index}")
             picked = sorted(group or [], key=options.index)
@@ -95,13 +134,19 @@ def ballot_screen() -> None:
                           args=("", answers.CHOICE, NO_PREFERENCE),
                           kwargs={"session": current.session})
 
+    elif kind == "respond":
+        _respond(current, spec, ballot.question)
+
     elif kind == "rate":
         st.markdown(f'<p class="kt-code">{html.escape(code)}</p>', unsafe_allow_html=True)
         st.markdown(f"Cup {pos + 1} of {len(current.codes)}. Taste the cup marked **{code}**, "
                     "then tap one box on each scale.")
         if pos == 0:
             st.caption(spec.tablet_instructions)
+        _check_words(current, code, ballot.attributes, given)
         for i, attr in enumerate(ballot.attributes):
+            if attr.kind == AttributeKind.CHECK:
+                continue
             have = given.get((current.session, code, attr.name))
             st.markdown(f"#### {ui.literal(attr.name)}"
                         + (f" · you gave **{ui.literal(have)}**" if have else ""))

@@ -5,24 +5,22 @@ responses and its batches, all as plain records, and returns a frozen
 :class:`TrialAnalysis`. It decodes each answer through the plan itself (blinding code
 -> sample and role) and dispatches on the method's family (:mod:`trials.methods`):
 
-- discrimination (triangle, duo-trio, 2-AFC, 3-AFC, tetrad): each panelist's set is
-  scored correct or not by the method's rule (see :func:`score_choices`), then
-  :func:`trials.stats.discrimination.difference_test`; and
-  :func:`~trials.stats.discrimination.similarity_test` when the trial was planned as a
-  similarity test (see :func:`planned_similarity`);
+- discrimination: each set scored by the method's rule (:func:`score_choices`), then
+  :func:`trials.stats.discrimination.difference_test`, and its ``similarity_test`` when
+  the trial was planned as a similarity test (see :func:`planned_similarity`);
 - paired preference: choices counted per sample, then the two-sided test on the count
   of the more-chosen sample;
-- rating: :func:`trials.stats.ratings.rating_anova` per attribute, the penalty
-  analysis of each just-about-right attribute against the hedonic attribute where the
-  trial has one, and the relation of each sample's mean to its batches' numeric
-  measures and settings (:mod:`trials.stats.measures`);
+- rating: :func:`trials.stats.ratings.rating_anova` per attribute, the penalty analysis
+  of each just-about-right attribute against the hedonic one, and the relation of each
+  sample's mean to its batches' measures and settings (:mod:`trials.stats.measures`);
 - ranking: :func:`trials.stats.ranks.rank_test` (Friedman's test for complete blocks,
-  Durbin's for incomplete ones).
+  Durbin's for incomplete ones);
+- signal detection (A-not-A, same-different): the response table
+  (:mod:`trials.response_tables`); CATA: :mod:`trials.cata_analysis`.
 
-A trial without answers gives an analysis that says "no answers yet" instead of
-failing; an analysis the data cannot support yet (one panelist, one sample) carries a
-note saying why. Pure: no store, no files. The history helpers at the end
-(:func:`search_trials`, :func:`control_trend`) work on plain records too.
+A trial without answers says "no answers yet" instead of failing; one the data cannot
+support yet (one panelist, one sample) carries a note saying why. Pure: no store, no
+files. The history helpers at the end work on plain records too.
 """
 
 from __future__ import annotations
@@ -36,10 +34,12 @@ from typing import Any
 import pandas as pd
 
 from trials.answers import CHOICE, NO_PREFERENCE, RANK
+from trials.cata_analysis import CataAnalysis, analyse_cata
 from trials.errors import TrialsError
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
 from trials.replication import replicated_tests
+from trials.response_tables import SignalAnalysis, analyse_signal
 from trials.stats.measures import MeasuresSummary, Relation, relate_to_batches, summarise_measures
 
 NO_ANSWERS = "no answers yet"
@@ -140,7 +140,7 @@ class TrialAnalysis(Record):
     """Everything :func:`analyse` found for one trial.
 
     ``has_answers`` is False (and ``message`` is ``"no answers yet"``) when no answer
-    could be decoded. Exactly one of ``choice``, ``attributes``, ``ranking`` is filled,
+    could be decoded. One of ``choice``, ``attributes``, ``ranking``, ``signal`` is filled,
     by the method's family. ``problems`` names every answer left out and why.
     """
 
@@ -161,6 +161,8 @@ class TrialAnalysis(Record):
     ranking: RankingAnalysis | None
     measures: MeasuresSummary
     problems: tuple[str, ...]
+    signal: SignalAnalysis | None = None  # A-not-A, same-different
+    cata: CataAnalysis | None = None  # check-all-that-apply
 
     def attribute(self, name: str) -> AttributeAnalysis:
         for a in self.attributes:
@@ -299,20 +301,23 @@ def _score_one(spec: MethodSpec, cups: list[PlanEntry], chosen: list[PlanEntry],
     if rule is Scoring.PAIRS_GROUPED:
         return len({e.sample_name for e in chosen}) == 1, ""
     if rule is Scoring.ODD_ONE_OUT:
-        if sorted(samples.values()) != [1, spec.set_size - 1]:
-            many = {2: "two", 3: "three"}.get(spec.set_size - 1, str(spec.set_size - 1))
+        few = spec.choose
+        if sorted(samples.values()) != [few, spec.set_size - few]:
+            words = {1: "one", 2: "two", 3: "three", 4: "four"}
+            many = words.get(spec.set_size - few, str(spec.set_size - few))
             return None, (f"a {spec.name} set must hold {many} cups of one sample "
-                          "and one of the other")
-        return samples[pick.sample_name] == 1, ""
+                          f"and {words.get(few, str(few))} of the other")
+        return all(samples[e.sample_name] == few for e in chosen), ""
     if rule is Scoring.MATCH_REFERENCE:
         ref = _reference(cups)
         if pick.code == ref.code:
             return None, f"the chosen cup {pick.code!r} is the reference"
         return pick.sample_name == ref.sample_name, ""
     if rule is Scoring.TARGET_BY_ROLE:
-        if samples.get(target, 0) != 1:
-            return None, f"the set does not hold exactly one cup of the target {target!r}"
-        return pick.sample_name == target, ""
+        if samples.get(target, 0) != spec.choose:
+            return None, (f"the set does not hold exactly {spec.choose} cup(s) of the "
+                          f"target {target!r}")
+        return all(e.sample_name == target for e in chosen), ""
     if rule is Scoring.PREFERENCE_COUNT:
         return None, ""
     raise TrialsError(f"no scoring rule for method {spec.name!r}")  # pragma: no cover
@@ -348,6 +353,8 @@ def score_choices(study: Trial, plan: Sequence[PlanEntry],
     - 2-AFC (ISO 5495) and 3-AFC: correct when the chosen cup holds the target, the
       sample chosen at set-up (:func:`target_sample`), whatever the listing order;
     - tetrad (unspecified): correct when the two chosen cups hold the same sample;
+    - specified tetrad: both chosen cups hold the target; two-out-of-five: the two chosen
+      cups are the sample served twice (the triangle's rule for a group of two);
     - paired preference: no right answer; choices counted per sample. An answer of
       ``"no preference"`` (allowed by the response format) is counted apart
       (``no_preference``) and left out of ``n`` here; :func:`analyse` then folds them
@@ -654,7 +661,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     spec = get_method(study.method)
     measures = summarise_measures(list(batches))
     planned = len({e.panelist_code for e in plan})
-    choice = ranking = None
+    choice = ranking = signal = cata = None
     attributes: tuple[AttributeAnalysis, ...] = ()
     problems: list[str] = []
     if spec.is_forced_choice:
@@ -662,6 +669,11 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
         problems += choice.counts.problems
         answered = {s.panelist_code for s in choice.counts.sets}
         answers = choice.counts.n + choice.counts.no_preference
+    elif spec.family in (Family.SIGNAL, Family.CATA):  # modules of their own
+        extra = (analyse_signal if spec.family == Family.SIGNAL else analyse_cata)(
+            study, plan, responses)
+        signal, cata = (extra, None) if spec.family == Family.SIGNAL else (None, extra)
+        problems, answers, answered = list(extra.problems), extra.answers, set(extra.panelists)
     elif spec.family == Family.RATING:
         attributes, problems = _ratings(study, plan, responses, measures)
         names = {a.name for a in study.attributes}
@@ -677,7 +689,7 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
     return TrialAnalysis(study.name, spec.name, str(spec.family), study.objective,
                          study.alpha, study.beta, study.pd, has, message, planned,
                          len(answered), max(answers, 0), choice, attributes, ranking,
-                         measures, tuple(problems))
+                         measures, tuple(problems), signal, cata)
 
 
 # --------------------------------------------------------------------------- history
@@ -691,7 +703,8 @@ def _field(record: Any, name: str, default: Any = "") -> Any:
 
 def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | None = None,
                   decision: str | None = None) -> list[Any]:
-    """The trials on file that match a free text, a method and a decision.
+    """The trials on file (in the given order) that match a free text, a method and a
+    decision.
 
     Parameters
     ----------
@@ -706,11 +719,6 @@ def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | Non
         Keep only this method (a registry name).
     decision : str or None
         Keep only trials whose decision text contains this (case-insensitive).
-
-    Returns
-    -------
-    list
-        The matching summaries, in the given order.
     """
     words = [w.lower() for w in text.split()]
     out = []

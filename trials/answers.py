@@ -36,6 +36,7 @@ from trials.model import Answer, Attribute, PlanEntry, Record, Trial
 
 CHOICE = "choice"
 RANK = "rank"
+RESPONSE = "response"  # a signal-detection answer: one of the method's two responses
 NO_PREFERENCE = "no preference"
 
 # --------------------------------------------------------------------------- the key
@@ -178,6 +179,8 @@ class AnswerChecker:
         def answer(question: str, code: str, value: str) -> CheckedAnswer:
             return CheckedAnswer(session, panelist, question, code, attribute, value)
 
+        if spec.family is Family.SIGNAL:
+            return _check_response(spec, cups, session, panelist, code, attribute, value)
         if spec.is_forced_choice:
             if attribute != CHOICE:
                 raise AnswerError("attribute", f"a {spec.name} trial takes attribute "
@@ -237,6 +240,40 @@ class AnswerChecker:
                    default=0)
 
 
+def response_value(spec: MethodSpec, value: str) -> str:
+    """``value`` as one of a signal-detection method's responses, in the registry's
+    spelling (case and inner spaces ignored); else :class:`AnswerError` on ``value``."""
+    wanted = {" ".join(r.lower().split()): r for r in spec.responses}
+    got = wanted.get(" ".join(str(value).lower().split()))
+    if got is None:
+        known = " or ".join(repr(r) for r in spec.responses)
+        raise AnswerError("value", f"expected {known}, got {value!r}")
+    return got
+
+
+def _check_response(spec: MethodSpec, cups: Mapping[str, PlanEntry], session: str,
+                    panelist: str, code: str, attribute: str, value: str) -> CheckedAnswer:
+    """A signal-detection answer: any code of the set (kept as the set's first code in
+    serving order) and one of the method's two responses."""
+    if attribute != RESPONSE:
+        raise AnswerError("attribute", f"a {spec.name} trial takes attribute "
+                                       f"{RESPONSE!r}, got {attribute!r}")
+    picked = code.split()
+    if not picked:
+        raise AnswerError("code", "a code of the set is required")
+    found = [cups.get(c) for c in picked]
+    if any(c is None for c in found):
+        raise AnswerError("code", f"{code!r} is not a code served to panelist {panelist!r} "
+                                  f"in session {session!r}")
+    sets = {c.set_index for c in found if c is not None}
+    if len(sets) != 1:
+        raise AnswerError("code", f"expected codes of one set, got {code!r}")
+    k = sets.pop()
+    first = min((c for c in cups.values() if c.set_index == k), key=lambda c: c.position)
+    return CheckedAnswer(session, panelist, f"{RESPONSE}:{k}", first.code, RESPONSE,
+                         response_value(spec, value))
+
+
 def _count(n: int) -> str:
     return {1: "one", 2: "two", 3: "three"}.get(n, str(n))
 
@@ -251,7 +288,7 @@ def expected_answers(spec: MethodSpec, cups_per_set: Iterable[int], *, attribute
     per cup.
     """
     sizes = list(cups_per_set)
-    if spec.family is Family.RATING:
+    if spec.scores_each_cup:
         return sum(sizes) * attributes
     if spec.family is Family.RANKING:
         return sum(sizes)
@@ -283,7 +320,8 @@ class Step(Record):
     """One step of the tasting screen.
 
     ``kind`` is ``"choose"`` (one forced-choice set), ``"rate"`` (one cup, every
-    attribute) or ``"rank"`` (one set, every cup). ``codes`` are the set's codes in
+    attribute), ``"rank"`` (one set, every cup) or ``"respond"`` (one signal-detection
+    set: one of the method's two responses). ``codes`` are the set's codes in
     serving order; for ``"rate"``, ``position`` is the cup's 0-based place in the set
     and ``code`` its code. ``done`` says whether the step is answered.
     """
@@ -308,7 +346,7 @@ def tasting_steps(spec: MethodSpec, sets: Sequence[Any], answers: Sequence[Any],
     """
     given = {(a.session, a.code, a.attribute) for a in answers}
     steps: list[Step] = []
-    if spec.family is Family.RATING:
+    if spec.scores_each_cup:
         for s in sets:
             for pos, code in enumerate(s.codes):
                 done = all((s.session, code, a) in given for a in attributes)
@@ -317,6 +355,11 @@ def tasting_steps(spec: MethodSpec, sets: Sequence[Any], answers: Sequence[Any],
         for s in sets:
             done = all((s.session, code, RANK) in given for code in s.codes)
             steps.append(Step("rank", s.session, s.set_index, tuple(s.codes), None, "", done))
+    elif spec.family is Family.SIGNAL:
+        for s in sets:
+            done = any((s.session, code, RESPONSE) in given for code in s.codes)
+            steps.append(Step("respond", s.session, s.set_index, tuple(s.codes), None, "",
+                              done))
     else:
         chosen = chosen_sets(spec, sets, answers)
         for s in sets:
@@ -353,12 +396,12 @@ def choice_options(spec: MethodSpec, codes: Sequence[str]) -> tuple[str, tuple[s
 
 def paper_columns(spec: MethodSpec, attributes: Sequence[str] = ()) -> tuple[str, ...]:
     """The paper-entry grid's columns: the registry's, then (ratings) one per attribute."""
-    extra = tuple(attributes) if spec.family is Family.RATING else ()
+    extra = tuple(attributes) if spec.scores_each_cup else ()
     return tuple(spec.paper_columns) + extra
 
 
 def _score_names(spec: MethodSpec, attributes: Sequence[str]) -> list[str]:
-    return list(attributes) if spec.family is Family.RATING else [RANK]
+    return list(attributes) if spec.scores_each_cup else [RANK]
 
 
 def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable[Answer],
@@ -379,6 +422,8 @@ def paper_sheet(spec: MethodSpec, plan: Sequence[PlanEntry], responses: Iterable
     """
     got = list(responses)
     columns = list(paper_columns(spec, attributes))
+    if spec.family is Family.SIGNAL:
+        return _response_sheet(plan, got, columns)
     if spec.is_forced_choice:
         chosen: dict[tuple[str, int], Answer] = {}
         cups: dict[tuple[str, int], list[PlanEntry]] = defaultdict(list)
@@ -421,9 +466,23 @@ def sheet_key(spec: MethodSpec, row: Mapping[str, Any]) -> tuple[str, str]:
     (panelist code, cup code) for a rating or a ranking. Rows are matched by key, so a
     grid sorted or filtered on the screen still lands every value on its own ballot."""
     panelist = str(row.get("panelist") or "").strip()
-    if spec.is_forced_choice:
+    if spec.is_forced_choice or spec.family is Family.SIGNAL:
         return panelist, str(row.get("set") or "").strip()
     return panelist, str(row.get("code") or "").strip()
+def _response_sheet(plan: Sequence[PlanEntry], got: list[Answer],
+                    columns: list[str]) -> pd.DataFrame:
+    """Signal detection: one row per panelist and set, ``panelist set cups response``."""
+    cups: dict[tuple[str, int], list[PlanEntry]] = defaultdict(list)
+    for e in plan:
+        cups[(e.panelist_code, e.set_index)].append(e)
+    where = {(e.panelist_code, e.code): e.set_index for e in plan}
+    said = {(r.panelist_code, where.get((r.panelist_code, r.code), -1)): r.value
+            for r in got if r.attribute == RESPONSE}
+    rows = [{"panelist": p, "set": k + 1,
+             "cups": " ".join(e.code for e in sorted(items, key=lambda e: e.position)),
+             "response": said.get((p, k), "")}
+            for (p, k), items in sorted(cups.items())]
+    return pd.DataFrame(rows, columns=columns)
 
 
 def _blank(v: Any) -> bool:
@@ -446,6 +505,14 @@ def sheet_answers(spec: MethodSpec, session: str, frame: pd.DataFrame,
     for i, rec in enumerate(frame.to_dict("records")):
         panelist = str(rec.get("panelist") or "").strip()
         key = sheet_key(spec, rec)
+        if spec.family is Family.SIGNAL:
+            said = rec.get("response")
+            if not _blank(said):
+                first = (str(rec.get("cups") or "").split() or [""])[0]
+                out.append((i, {"session": session, "panelist": panelist, "code": first,
+                                "attribute": RESPONSE, "value": str(said).strip(),
+                                "column": "response", "key": key}))
+            continue
         if spec.is_forced_choice:
             code = " ".join(str(rec.get("chosen") or "").split())
             declined = rec.get("no_preference")

@@ -19,7 +19,7 @@ from typing import Any
 
 from trials import limits
 from trials.errors import TrialsError
-from trials.methods import FORCED_CHOICE, METHODS, RATING
+from trials.methods import CATA, FORCED_CHOICE, METHODS, RATING, SIGNAL_DETECTION, get_method
 
 Handler = Callable[[argparse.Namespace], dict[str, Any]]
 
@@ -52,6 +52,8 @@ _MOST = {
     "count": (limits.MAX_CODES, "--count"), "port": (limits.MAX_PORT, "--port"),
     "id": (2**31 - 1, "the trial id"), "trial": (2**31 - 1, "--trial"),
     "boot": (limits.MAX_BOOT, "--boot"),
+    "hits": (limits.MAX_N, "--hits"), "signal": (limits.MAX_N, "--signal"),
+    "false_alarms": (limits.MAX_N, "--false-alarms"), "noise": (limits.MAX_N, "--noise"),
 }
 
 
@@ -184,6 +186,42 @@ def _analyze_ranks(args: argparse.Namespace) -> dict[str, Any]:
     return rank_test(
         data, rank=args.rank, sample=args.sample, panelist=args.panelist, alpha=args.alpha
     ).to_dict()
+
+
+def _analyze_rindex(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.rindex import r_index_table
+
+    data = _read_csv(args.file, numbers=(args.score,))
+    return r_index_table(data, score=args.score, sample=args.sample, control=args.control,
+                         kind=args.kind, alpha=args.alpha).to_dict()
+
+
+def _analyze_cata(args: argparse.Namespace) -> dict[str, Any]:
+    import pandas as pd
+
+    from trials.stats.cata import correspondence_analysis, penalty_lift, word_tests
+
+    data = _read_csv(args.file, numbers=(args.tick,) + ((args.liking,) if args.liking else ()))
+    frame = data.rename(columns={args.panelist: "panelist", args.sample: "sample",
+                                 args.word: "word", args.tick: "tick"})
+    tests = word_tests(frame, alpha=args.alpha)
+    table = pd.pivot_table(frame, index="sample", columns="word", values="tick",
+                           aggfunc="sum", sort=False)
+    out: dict[str, Any] = {"words": [t.to_dict() for t in tests],
+                           "correspondence": correspondence_analysis(table).to_dict()}
+    if args.liking:
+        lifts = penalty_lift(frame.rename(columns={args.liking: "liking"}))
+        out["penalty_lift"] = [x.to_dict() for x in lifts]
+    return out
+
+
+def _analyze_table(args: argparse.Namespace) -> dict[str, Any]:
+    from trials.stats.signal import signal_test
+
+    model = get_method(args.method).model
+    return signal_test(args.hits, args.signal, args.false_alarms, args.noise,
+                       method=args.method, model=model, alpha=args.alpha,
+                       level=args.level).to_dict()
 
 
 # ---------------------------------------------------------------- handlers: designs
@@ -498,7 +536,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--panelists", type=_count, default=None)
     _add_seed(p)
 
-    analyze = sub.add_parser("analyze", help="analyse ratings or ranks from a tidy CSV")
+    analyze = sub.add_parser("analyze", help="analyse ratings or ranks from a tidy CSV, or a "
+                                             "signal-detection response table")
     asub = analyze.add_subparsers(dest="analysis", required=True, metavar="KIND")
     p = _leaf(asub, "ratings", _analyze_ratings, "ANOVA of ratings with panelist blocks")
     p.add_argument("file")
@@ -529,6 +568,41 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--sample", default="sample")
     p.add_argument("--panelist", default="panelist")
     p.add_argument("--alpha", type=_fraction, default=0.05)
+
+    p = _leaf(asub, "rindex", _analyze_rindex, (
+        "R-index of each sample against the control from scores or ranks (O'Mahony 1992), "
+        "with its Mann-Whitney test"
+    ))
+    p.add_argument("file")
+    p.add_argument("--control", required=True)
+    p.add_argument("--score", default="score")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--kind", choices=("scores", "ranks"), default="scores")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p = _leaf(asub, CATA, _analyze_cata, (
+        "check-all-that-apply ticks: Cochran's Q per word, pairwise McNemar tests, "
+        "correspondence analysis and (with --liking) penalty-lift"
+    ))
+    p.add_argument("file")
+    p.add_argument("--panelist", default="panelist")
+    p.add_argument("--sample", default="sample")
+    p.add_argument("--word", default="word")
+    p.add_argument("--tick", default="tick")
+    p.add_argument("--liking", default=None, help="column of the liking score, if any")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p = _leaf(asub, "table", _analyze_table, (
+        "A-not-A or same-different response table: Fisher's exact one-sided test, "
+        "Pearson's chi-square, d' and its standard error"
+    ))
+    p.add_argument("--method", required=True, choices=SIGNAL_DETECTION)
+    p.add_argument("--hits", required=True, type=_count,
+                   help="signal answers ('not A', 'different') to the signal sets")
+    p.add_argument("--signal", required=True, type=_count, help="signal sets answered")
+    p.add_argument("--false-alarms", required=True, type=_count,
+                   help="signal answers to the noise sets")
+    p.add_argument("--noise", required=True, type=_count, help="noise sets answered")
+    p.add_argument("--alpha", type=_fraction, default=0.05)
+    p.add_argument("--level", type=_fraction, default=0.95, help="confidence level")
 
     trial = sub.add_parser("trial", aliases=["study"], help="trials on file ('study' also works)")
     tsub = trial.add_subparsers(dest="trial_cmd", required=True, metavar="ACTION")

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from trials.analysis import NO_ANSWERS, AttributeAnalysis, ForcedChoiceAnalysis, TrialAnalysis
-from trials.methods import Scoring, get_method
+from trials.methods import MODEL_YES_NO, Scoring, get_method
 from trials.model import Record, Trial
 
 
@@ -115,7 +115,8 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     numbers: dict[str, Any] = {
         "correct": d.correct, "n": d.n, "p_value": d.p_value, "critical": d.critical,
         "alpha": d.alpha, "pc": d.pc, "pd": d.pd, "pd_ci": tuple(d.pd_ci),
-        "dprime": d.dprime, "dprime_ci": tuple(d.dprime_ci), "level": d.level,
+        "dprime": d.dprime, "dprime_ci": None if d.dprime_ci is None else tuple(d.dprime_ci),
+        "level": d.level,
     }
     need = (f"{d.critical} needed at alpha {fmt_risk(d.alpha)}" if d.critical is not None
             else f"no count of {d.n} reaches alpha {fmt_risk(d.alpha)}")
@@ -198,11 +199,16 @@ def _forced_choice(a: TrialAnalysis, fc: ForcedChoiceAnalysis, study: Trial | No
     else:
         phrase = (spec.correct_phrase or "answered correctly").format(
             target=c.target or "the target")
+        if d.dprime is not None and d.dprime_ci is not None:
+            model_words = (f"d' {fmt(d.dprime, 1)} (interval {fmt(d.dprime_ci[0], 1)} to "
+                           f"{fmt(d.dprime_ci[1], 1)}, Thurstonian model of the "
+                           f"{spec.label.lower()})")
+        else:
+            model_words = (f"no d': the {spec.label.lower()} has no Thurstonian model here, "
+                           "so the proportion of discriminators is the estimate")
         estimate = (
             f"Estimated proportion of discriminators {fmt(d.pd)} ({_level(d.level)} "
-            f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); d' {fmt(d.dprime, 1)} "
-            f"(interval {fmt(d.dprime_ci[0], 1)} to {fmt(d.dprime_ci[1], 1)}, Thurstonian "
-            f"model of the {spec.label.lower()}).")
+            f"interval {fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])}, {ci}); {model_words}.")
         if significant:
             verdict = Verdict.DIFFERENCE
             head = f"Panelists told the samples apart: {d.correct} of {d.n} {phrase} {evidence}."
@@ -444,6 +450,97 @@ def _ranking(a: TrialAnalysis) -> Decision:
     return Decision(verdict, head, details, limits, a.method, ref, numbers)
 
 
+def _signal(a: TrialAnalysis) -> Decision:
+    """A-not-A and same-different: Fisher's exact one-sided test of the response table
+    decides; d' by the method's model (trials.stats.signal)."""
+    spec = get_method(a.method)
+    sg = a.signal
+    ref = f"{spec.reference}; Fisher's exact test (Fisher 1935)"
+    if sg is None or sg.result is None:
+        why = (sg.note if sg is not None and sg.note else NO_ANSWERS)
+        return _no_answers(a) if why == NO_ANSWERS else Decision(
+            Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref)
+    r, dp = sg.result, sg.result.dprime
+    signal_word = spec.responses[1]
+    rates = (f"{sg.hits} of {sg.n_signal} answered \"{signal_word}\" to {sg.signal_sets} "
+             f"and {sg.false_alarms} of {sg.n_noise} to {sg.noise_sets}")
+    evidence = (f"({fmt_p(r.p_value)}, Fisher's exact one-sided test of the response table at "
+                f"alpha {fmt_risk(r.alpha)}; {spec.reference})")
+    if r.significant:
+        verdict = Verdict.DIFFERENCE
+        head = f"Panelists told the samples apart: {rates} {evidence}."
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No difference was shown: {rates} {evidence}."
+    model_words = ("d' = z(H) - z(F), the yes/no model" if spec.model == MODEL_YES_NO else
+                   "the differencing (tau-criterion) model of same-different")
+    se = (f", standard error {fmt(dp.dprime_se)}, {_level(dp.level)} interval "
+          f"{fmt(dp.dprime_ci[0], 1)} to {fmt(dp.dprime_ci[1], 1)}"
+          if dp.dprime_se is not None and dp.dprime_ci is not None else "")
+    details = [f"Hit rate {fmt(dp.hit_rate)}, false-alarm rate {fmt(dp.false_alarm_rate)}; "
+               f"d' {fmt(dp.dprime)}{se} ({model_words}; Macmillan and Creelman 2005)."]
+    if r.test.chi2 is not None:
+        details.append(f"Pearson's chi-square of the table: {fmt(r.test.chi2)} on 1 df "
+                       f"(two-sided {fmt_p(r.test.chi2_p)}).")
+    if r.note:
+        details.append(f"Note: {r.note}.")
+    if sg.note:
+        details.append(f"Note: {sg.note}.")
+    limits = ("Not significant is not the same as the same: no similarity test was planned.",
+              "The test assumes independent answers and a normal model with equal variances.")
+    numbers = {"hits": sg.hits, "n_signal": sg.n_signal, "false_alarms": sg.false_alarms,
+               "n_noise": sg.n_noise, "p_value": r.p_value, "alpha": r.alpha,
+               "dprime": dp.dprime, "dprime_se": dp.dprime_se, "chi2": r.test.chi2}
+    return Decision(verdict, head, tuple(details), limits, a.method, ref, numbers)
+
+
+def _cata(a: TrialAnalysis) -> Decision:
+    """CATA: per word, Cochran's Q at the trial's alpha decides whether the samples differ
+    in how often it is ticked; the pairwise McNemar tests say which (trials.stats.cata)."""
+    spec = get_method(a.method)
+    ca = a.cata
+    ref = f"{spec.reference}; Cochran (1950) Q, McNemar (1947) pairs"
+    if ca is None or not ca.tests:
+        why = (ca.note if ca is not None and ca.note else NO_ANSWERS)
+        return (_no_answers(a) if why.startswith("no ticks") or why == NO_ANSWERS else
+                Decision(Verdict.INCOMPLETE, f"No decision: {why}.", (), (), a.method, ref))
+    differ = [t for t in ca.tests if t.significant]
+    words = ", ".join(t.word for t in differ)
+    test = f"Cochran's Q per word at alpha {fmt_risk(a.alpha)}"
+    if differ:
+        verdict = Verdict.DIFFERENCE
+        head = (f"The samples differ on {len(differ)} of {len(ca.tests)} words ({test}): "
+                f"{words}.")
+    else:
+        verdict = Verdict.NO_DIFFERENCE
+        head = f"No word was ticked more often for one sample than another ({test})."
+    details = []
+    for t in differ:
+        ticks = ", ".join(f"{s} {n} of {t.panelists}" for s, n in t.ticks.items())
+        pairs = [f"{x.first} vs {x.second}" for x in t.pairs if x.p_adjusted <= a.alpha]
+        details.append(f"{t.word}: Q = {fmt(t.q)} on {t.df} df, {fmt_p(t.p_value)}; ticked "
+                       f"{ticks}" + (f"; pairs that differ (exact McNemar, Bonferroni): "
+                                     f"{', '.join(pairs)}" if pairs else "") + ".")
+    if ca.correspondence is not None:
+        shares = ", ".join(f"{100 * x:.0f} %" for x in ca.correspondence.shares[:2])
+        details.append(f"Correspondence analysis of the sample x word table: the first "
+                       f"dimensions hold {shares} of the inertia (Greenacre 2017).")
+    drops = sorted((x for x in ca.lifts if x.lift is not None), key=lambda x: x.lift or 0.0)
+    if drops:
+        worst, best = drops[0], drops[-1]
+        details.append(f"Penalty-lift on {ca.liking}: liking is {fmt(worst.lift)} points "
+                       f"when {worst.word!r} is ticked against not ticked, and "
+                       f"{fmt(best.lift)} for {best.word!r} (mean differences, descriptive).")
+    if ca.note:
+        details.append(f"Note: {ca.note}.")
+    limits = ("Not significant is not the same as alike: a word may differ by less than "
+              "this panel can show.",
+              "Each word is tested on its own at alpha, with no adjustment over the words.")
+    numbers = {"words_differ": [t.word for t in differ],
+               "q": {t.word: t.q for t in ca.tests}, "p": {t.word: t.p_value for t in ca.tests}}
+    return Decision(verdict, head, tuple(details), limits, a.method, ref, numbers)
+
+
 # --------------------------------------------------------------------------- entry point
 
 
@@ -488,6 +585,10 @@ def decide(analysis: TrialAnalysis, *, study: Trial | None = None) -> Decision:
         return _no_answers(analysis)
     if analysis.choice is not None:
         return _forced_choice(analysis, analysis.choice, study)
+    if analysis.signal is not None:
+        return _signal(analysis)
+    if analysis.cata is not None:
+        return _cata(analysis)
     if analysis.attributes:
         return _ratings(analysis, study)
     return _ranking(analysis)

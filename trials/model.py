@@ -68,6 +68,7 @@ class AttributeKind(StrEnum):
     HEDONIC = "hedonic"  # liking, e.g. the 9-point hedonic scale (Peryam and Pilgrim 1957)
     INTENSITY = "intensity"  # how much of a property, low to high
     JAR = "jar"  # just-about-right: too little .. just right .. too much
+    CHECK = "check"  # a word of a check-all-that-apply list: 1 ticked, 0 not (scale 0..1)
 
 
 @dataclass(frozen=True, slots=True)
@@ -195,7 +196,9 @@ class Answer(Record):
     - forced choice (discrimination, preference): ``attribute`` is ``"choice"``,
       ``code`` the chosen cup's code (tetrad: the two codes of the chosen group,
       separated by a space), ``value`` empty; for paired preference ``value`` may be
-      ``"no preference"`` with ``code`` empty.
+      ``"no preference"`` with ``code`` empty;
+    - signal detection (A-not-A, same-different): ``attribute`` is ``"response"``,
+      ``code`` the set's first code, ``value`` one of the method's two responses.
     """
 
     session: str

@@ -747,3 +747,29 @@ def rating_power_chart(delta: float, *, sd: float, samples: int, alpha: float, b
     fig.update_layout(xaxis_title="panelists", yaxis_title="power", yaxis_range=[0, 1],
                       height=320, margin={"l": 10, "r": 10, "t": 30, "b": 10})
     st.plotly_chart(fig, width="stretch")
+
+
+def ca_biplot(ca, *, title: str) -> None:
+    """A symmetric biplot of a correspondence analysis (trials.stats.cata): samples and
+    words in principal coordinates on the first two dimensions (one dimension: a line)."""
+    import plotly.graph_objects as go
+
+    def xy(coords):
+        return [c[0] for c in coords], [c[1] if len(c) > 1 else 0.0 for c in coords]
+
+    sx, sy = xy(ca.sample_coords)
+    wx, wy = xy(ca.word_coords)
+    fig = go.Figure([
+        go.Scatter(x=sx, y=sy, mode="markers+text", name="samples",
+                   text=[chart_text(n) for n in ca.samples], textposition="top center",
+                   marker={"size": 12, "symbol": "square"}),
+        go.Scatter(x=wx, y=wy, mode="markers+text", name="words",
+                   text=[chart_text(n) for n in ca.words], textposition="bottom center",
+                   marker={"size": 8}),
+    ])
+    share = [f"{100 * x:.1f} %" for x in ca.shares] + ["0 %"]
+    fig.update_layout(title=chart_text(title), height=460,
+                      xaxis_title=f"dimension 1 ({share[0]})",
+                      yaxis_title=f"dimension 2 ({share[1]})",
+                      margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    st.plotly_chart(fig, width="stretch")

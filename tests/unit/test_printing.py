@@ -78,7 +78,7 @@ def fixed_codes(n: int) -> list[str]:
 
 def make_study(method: str, *, name: str = "Crust switch trial") -> Trial:
     spec = get_method(method)
-    if spec.family in (Family.DISCRIMINATION, Family.PREFERENCE):
+    if spec.served_in_sets:  # forced choice and signal detection: two samples
         samples, attrs = SAMPLES[:2], (ATTRIBUTES[1],)
     elif spec.family is Family.RATING:
         samples, attrs = SAMPLES, ATTRIBUTES
@@ -98,7 +98,7 @@ def make_plan(study: Trial, *, panelists: int = 4, sessions=("S1", "S2"),
         for p in range(panelists):
             pan = f"P{p + 1:02d}"
             pos = 1
-            if spec.is_forced_choice:
+            if spec.served_in_sets:
                 for s in range(sets):
                     pattern = spec.patterns[(p + s) % len(spec.patterns)]
                     for k, letter in enumerate(pattern):

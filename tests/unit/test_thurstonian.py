@@ -21,6 +21,10 @@ from trials.stats.thurstonian import (
 )
 
 N = stats.norm
+# The forced-choice methods whose registry entry names a Thurstonian model (two-out-of-five
+# names none: its analysis gives pd only; see test_a_method_without_a_model_says_so).
+MODELLED = tuple(m for m in DISCRIMINATION if get_method(m).has_dprime)
+MODELLED_FC = tuple(m for m in FORCED_CHOICE if get_method(m).has_dprime)
 
 
 # ------------------------------------------------------------- reference formulas
@@ -47,6 +51,15 @@ def quad_tetrad(d):
     return 1 - 2 * integrate.quad(f, -np.inf, np.inf, epsabs=1e-13)[0]
 
 
+def quad_specified_tetrad(d):
+    # Derived independently of the module: both stronger cups (N(d, 1)) lie above the larger
+    # weaker cup M = max of two N(0, 1), whose density is 2 phi(m) Phi(m). quad on
+    # a finite range wide enough (phi < 1e-31 outside), as the infinite range loses 1e-8.
+    def f(m):
+        return 2 * N.pdf(m) * N.cdf(m) * N.sf(m - d) ** 2
+    return integrate.quad(f, -12, 12 + d, epsabs=1e-14, epsrel=1e-13, limit=200)[0]
+
+
 def closed_duotrio(d):
     a, b = N.cdf(d / math.sqrt(2)), N.cdf(d / math.sqrt(6))
     return 1 - a - b + 2 * a * b
@@ -57,10 +70,11 @@ def closed_2afc(d):
 
 
 REFERENCE = {"triangle": quad_triangle, "3afc": quad_3afc, "tetrad": quad_tetrad,
-             "duo-trio": closed_duotrio, "2afc": closed_2afc}
+             "duo-trio": closed_duotrio, "2afc": closed_2afc,
+             "tetrad-specified": quad_specified_tetrad}
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_every_discrimination_method_of_the_registry_has_a_model_at_its_guess(method):
     assert pc_from_dprime(0.0, method=method) == pytest.approx(get_method(method).guess, abs=1e-12)
 
@@ -121,10 +135,14 @@ def simulate(method: str, d: float, trials: int, rng: np.random.Generator) -> fl
         order = np.argsort(x, axis=1)
         labels = np.array([0, 0, 1, 1])[order[:, :2]]
         return float(np.mean(labels[:, 0] == labels[:, 1]))
+    if method == "tetrad-specified":  # pick the two strongest; both must be B
+        a = rng.standard_normal((trials, 2))
+        b = rng.standard_normal((trials, 2)) + d
+        return float(np.mean(b.min(axis=1) > a.max(axis=1)))
     raise AssertionError(method)
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 @pytest.mark.parametrize("d", [0.0, 0.8, 1.6, 3.0])
 def test_pc_matches_a_seeded_monte_carlo_of_the_decision_rule(method, d):
     trials = 200_000
@@ -138,7 +156,7 @@ def test_pc_matches_a_seeded_monte_carlo_of_the_decision_rule(method, d):
 # ------------------------------------------------------------- inverse
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_dprime_from_pc_agrees_with_brentq_on_the_exact_function(method):
     guess = get_method(method).guess
     top = pc_from_dprime(9.0, method=method)
@@ -149,21 +167,21 @@ def test_dprime_from_pc_agrees_with_brentq_on_the_exact_function(method):
     assert dprime_from_pc(float(pcs[40]), method=method) == pytest.approx(ref[40], abs=1e-7)
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_dprime_round_trip_recovers_pc(method):
     d = np.linspace(0.01, 8.0, 400)
     assert np.allclose(dprime_from_pc(pc_from_dprime(d, method=method), method=method), d,
                        atol=1e-7)
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_newton_refinement_agrees_with_the_interpolation(method):
     pcs = np.linspace(0.4, 0.97, 50)
     assert np.allclose(dprime_from_pc(pcs, method=method, newton_steps=2),
                        dprime_from_pc(pcs, method=method), atol=1e-7)
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_pc_at_or_below_chance_gives_zero_and_pc_one_gives_the_cap(method):
     guess = get_method(method).guess
     assert dprime_from_pc(guess, method=method) == 0.0
@@ -188,7 +206,7 @@ def test_conversion_records_the_convention_that_applied():
 # ------------------------------------------------------------- slope and B-value
 
 
-@pytest.mark.parametrize("method", DISCRIMINATION)
+@pytest.mark.parametrize("method", MODELLED)
 def test_slope_matches_a_central_difference(method):
     d = np.array([0.3, 1.0, 2.5, 5.0])
     h = 1e-5
@@ -232,8 +250,25 @@ def test_unknown_method_is_refused():
         dprime_from_pc(0.5, method="hexad")
 
 
-@pytest.mark.parametrize("method", FORCED_CHOICE)
+@pytest.mark.parametrize("method", MODELLED_FC)
 def test_vector_and_scalar_paths_agree(method):
     x = np.random.default_rng(7).random(300)
     vec = dprime_from_pc(x, method=method)
     assert np.allclose(vec, [dprime_from_pc(float(v), method=method) for v in x], atol=1e-12)
+
+
+def test_the_specified_tetrad_differs_from_the_unspecified_one():
+    # Ennis et al. (1998): the specified tetrad (pick the two stronger) has chance 1/6 and
+    # a steeper start than the unspecified tetrad (chance 1/3, slope 0 at d' = 0); the
+    # same pc therefore reads as different d' (values computed here, not from a table).
+    assert pc_from_dprime(0.0, method="tetrad-specified") == pytest.approx(1 / 6, abs=1e-14)
+    assert pc_slope(0.0, method="tetrad-specified") > 0.2
+    assert pc_slope(0.0, method="tetrad") == pytest.approx(0.0, abs=1e-12)
+    assert (dprime_from_pc(0.5, method="tetrad-specified")
+            != pytest.approx(dprime_from_pc(0.5, method="tetrad"), abs=0.05))
+
+
+def test_a_method_without_a_model_says_so():
+    # two-out-of-five: no Thurstonian model is built; the conversion refuses, naming pd
+    with pytest.raises(TrialsError, match="no Thurstonian model.*proportion of discriminators"):
+        dprime_from_pc(0.5, method="2-out-of-5")

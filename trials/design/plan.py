@@ -111,7 +111,7 @@ def serving_plan(
     exclude = [str(c).strip() for c in exclude_codes]
     entries: list[PlanEntry] = []
 
-    if spec.is_forced_choice:
+    if spec.served_in_sets:
         if len(samples) != 2:
             raise TrialsError(
                 f"a {spec.name} test compares exactly two samples; got {len(samples)}: "

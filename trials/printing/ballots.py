@@ -29,6 +29,8 @@ Answer areas
   ``"R"``, else the set's first cup, as the registry's patterns put the reference
   first), then the two coded cups to circle;
 - tetrad: the four codes to circle two, the other two forming the second group;
+  specified tetrad: the four codes to circle the two with more of the attribute;
+- two-out-of-five: the five codes to circle the two that differ from the other three;
 - rating: for each attribute a grid, one row per code in serving order, one box per
   scale point, with the anchors: the attribute's own (every point, or the two ends), or
   by default the 9-point hedonic scale of Peryam and Pilgrim (1957), the 5-point
@@ -144,7 +146,7 @@ def session_allergens(study: Trial, entries: Iterable[PlanEntry]) -> tuple[str, 
 
 
 def _check_sets(method: MethodSpec, group: PanelistSession) -> None:
-    if not method.is_forced_choice or method.set_size is None:
+    if not method.served_in_sets or method.set_size is None:
         return
     for cups in group.sets:
         if len(cups) != method.set_size:
@@ -340,6 +342,41 @@ class _Ballot:
             c.drawCentredString(x + box_w / 2, top - box_h / 2 - size * 0.35, code)
             x += box_w + gap
         self.y = top - box_h - 14
+
+    def response_boxes(self, responses: Sequence[str]) -> None:
+        """A signal-detection answer: one tick box per response of the registry, in a row."""
+        c = self.c
+        side, gap = 18.0, 60.0
+        self.need(side + 16)
+        top = self.y - 4
+        x = self.left
+        c.setFont(BOLD, 12)
+        for word in responses:
+            c.rect(x, top - side, side, side, stroke=1, fill=0)
+            c.drawString(x + side + 8, top - side + 5, printable(word))
+            x += side + 8 + pdfmetrics.stringWidth(printable(word), BOLD, 12) + gap
+        self.y = top - side - 12
+
+    def word_lists(self, words: Sequence[Attribute]) -> None:
+        """CATA: for each cup in serving order, its code and a tick box per word."""
+        c = self.c
+        side, gap = 10.0, 16.0
+        for e in self.group.entries:
+            self.text(f"Cup {e.code}: tick every word that applies", BOLD, 10.5, gap=2)
+            x, y = self.left, self.y - 4
+            self.need(side + 8)
+            c.setFont(SANS, 10)
+            for w in words:
+                label = printable(w.name)
+                width = side + 5 + pdfmetrics.stringWidth(label, SANS, 10)
+                if x + width > self.left + self.inner:
+                    x, y = self.left, y - side - 8
+                    self.y = y + 4
+                    self.need(side + 8)
+                c.rect(x, y - side, side, side, stroke=1, fill=0)
+                c.drawString(x + side + 5, y - side + 1.5, label)
+                x += width + gap
+            self.y = y - side - 12
 
     def attribute_line(self) -> None:
         attrs = self.study.attributes
@@ -721,7 +758,7 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
     if method.asks_attribute:
         b.attribute_line()
     b.text(method.instructions, SANS, 9.5, gap=10)
-    if method.is_forced_choice:
+    if method.served_in_sets:
         sets = b.group.sets
         for k, cups in enumerate(sets):
             if len(sets) > 1:
@@ -731,8 +768,15 @@ def _draw_body(b: _Ballot, method: MethodSpec, attrs: Sequence[Attribute]) -> No
                 reference = next((e for e in cups if e.role == "R"), cups[0])
                 cups = (reference,) + tuple(e for e in cups if e is not reference)
             b.code_boxes(cups, reference=reference)
+            if method.responses:
+                b.response_boxes(method.responses)
             if method.ballot_note:
                 b.text(method.ballot_note, ITALIC, 9, gap=8)
+    elif method.family is Family.CATA:
+        b.serving_order()
+        b.word_lists([a for a in attrs if a.kind == AttributeKind.CHECK])
+        for attr in (a for a in attrs if a.kind != AttributeKind.CHECK):
+            b.rating_grid(attr, _rating_layout(b, [attr])[1])
     elif method.family is Family.RATING:
         b.serving_order()
         scales = attrs or (OVERALL_LIKING,)

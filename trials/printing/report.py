@@ -29,6 +29,12 @@ from trials.analysis import TrialAnalysis, decode_responses
 from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
 from trials.model import Answer, Batch, PlanEntry, Trial
+from trials.printing.report_methods import (
+    cata_results_html,
+    cata_rows,
+    signal_results_html,
+    signal_rows,
+)
 
 CAUTION = (
     "Samples are food served to people. Before any tasting: declare every sample's "
@@ -255,7 +261,7 @@ def _plan_section(study: Trial, plan: Sequence[PlanEntry], spec) -> str:
                 ("cups served", len(plan))])]
     out.append(_table(["sample", "cups in the plan"], [(s, n) for s, n in cups.items()],
                       numeric=(1,)))
-    if spec.is_forced_choice:
+    if spec.served_in_sets:
         sets: dict[tuple[str, str, int], list[PlanEntry]] = {}
         for p in plan:
             sets.setdefault((p.session, p.panelist_code, p.set_index), []).append(p)
@@ -305,6 +311,15 @@ def _decision_section(d: Decision, study: Trial) -> str:
     return "".join(parts)
 
 
+def _dprime_rows(d: Any) -> list[tuple[str, Any]]:
+    """The d' rows of the difference table; one line saying why where the method has no
+    Thurstonian model (two-out-of-five)."""
+    if d.dprime is None or d.dprime_ci is None:
+        return [("d'", "none: no Thurstonian model for this method; pd is the estimate")]
+    return [("d'", _g(d.dprime)),
+            (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}")]
+
+
 def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
     fc = a.choice
     d = fc.difference
@@ -316,8 +331,7 @@ def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
             ("significant at alpha " + fmt_risk(d.alpha), "yes" if d.significant else "no"),
             ("proportion correct pc", _g(d.pc)), ("proportion of discriminators pd", _g(d.pd)),
             (f"pd {d.level * 100:g} % interval", f"{_g(d.pd_ci[0])} to {_g(d.pd_ci[1])}"),
-            ("d'", _g(d.dprime)),
-            (f"d' {d.level * 100:g} % interval", f"{_g(d.dprime_ci[0])} to {_g(d.dprime_ci[1])}"),
+            *_dprime_rows(d),
             ("interval method", d.ci_method)]
     if d.note:
         rows.append(("note", d.note))
@@ -530,6 +544,10 @@ def report_html(study: Trial, analysis: TrialAnalysis, *,
         body.append("<p>No answers yet.</p>")
     elif analysis.choice is not None:
         body.append(_forced_choice_results(analysis, charts))
+    elif analysis.signal is not None:
+        body.append(signal_results_html(analysis))
+    elif analysis.cata is not None:
+        body.append(cata_results_html(analysis))
     elif analysis.attributes:
         body.append(_rating_results(analysis, charts))
         if profile is not None:
@@ -649,6 +667,7 @@ def _pdf_results(analysis: TrialAnalysis, p, body, h2, grid) -> list:
         rows = [["answers", "correct", "critical", "p-value", "pd (interval)", "d' (interval)"],
                 [d.n, d.correct, d.critical if d.critical is not None else "-", fmt_p(d.p_value),
                  f"{fmt(d.pd)} ({fmt(d.pd_ci[0])} to {fmt(d.pd_ci[1])})",
+                 "none (no model)" if d.dprime is None or d.dprime_ci is None else
                  f"{fmt(d.dprime)} ({fmt(d.dprime_ci[0])} to {fmt(d.dprime_ci[1])})"]]
         out += [grid(rows, [22, 22, 22, 28, 38, 38]),
                 Paragraph(p(f"Intervals: {d.ci_method}."), body)]
@@ -677,6 +696,17 @@ def _pdf_results(analysis: TrialAnalysis, p, body, h2, grid) -> list:
         out += [Spacer(1, 8), _pdf_means_chart(at.attribute, order, a)]
         out.append(Paragraph(p(f"{a.method}. Tukey HSD {fmt(a.hsd)}; samples sharing a "
                                "letter do not differ."), body))
+    if analysis.signal is not None and analysis.signal.result is not None:
+        head, rows = signal_rows(analysis)
+        res_s = analysis.signal.result
+        out += [grid([head, *rows], [60, 30, 30, 20]), Paragraph(p(
+            f"Fisher's exact one-sided {fmt_p(res_s.p_value)}; d' {fmt(res_s.dprime.dprime)} "
+            f"(standard error {fmt(res_s.dprime.dprime_se)}, {res_s.dprime.model} model)."),
+            body)]
+    if analysis.cata is not None and analysis.cata.tests:
+        head, rows = cata_rows(analysis)
+        out += [grid([head, *rows], [40] + [24] * (len(head) - 1)), Paragraph(p(
+            "Ticks per word and sample; Cochran's Q per word (Cochran 1950)."), body)]
     r = analysis.ranking
     if r is not None and r.result is not None:
         res = r.result

@@ -328,6 +328,9 @@ def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker,
     if not unsafe and not clashes:
         sheet.text("No unsigned batches and no allergen conflicts were found for this "
                    "session.", SANS, 9, gap=4)
+    note = get_method(sheet.study.method).kitchen_note
+    if note:
+        sheet.text(note, BOLD, 9.5, gap=4)
     sheet.y -= 4
 
     # samples: the key summary

@@ -133,6 +133,7 @@ from trials.service.results import (
     panel_performance_of,
     panel_size_needed,
     power_curve,
+    r_index_of,
     trial_decision,
 )
 from trials.service.serving import (
@@ -193,5 +194,5 @@ __all__ = [
     "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
     "sign_off_batch", "trial_decision", "trial_overview", "update_panelist", "update_trial",
-    "write_report",
+    "write_report", "r_index_of",
 ]

@@ -116,6 +116,29 @@ def panel_performance_of(store: Store, trial_id: int, attribute: str):
                              replicate=replicate, alpha=book.trial.alpha)
 
 
+def r_index_of(store: Store, trial_id: int, attribute: str):
+    """The R-index of every sample against the control on one rated attribute, or on the
+    ranks of a ranking trial (``attribute="rank"``): :func:`trials.stats.rindex.r_index_table`.
+    The control is the sample flagged as control, else the trial's first sample."""
+    from trials.answers import RANK
+    from trials.service.tasting import answers_table
+    from trials.stats.rindex import RANKS, SCORES, r_index_table
+
+    with store.read() as tx:
+        book = answer_rows.plan_book(tx, trial_id)
+        answers = answer_rows.list_answers(tx, trial_id)
+    study = book.trial
+    if not study.samples:
+        raise TrialsError(f"trial {trial_id} has no samples")
+    control = next((s.name for s in study.samples if s.is_control), study.samples[0].name)
+    frame = answers_table(book, answers)
+    frame = frame[frame["attribute"] == attribute]
+    if frame.empty:
+        raise TrialsError(f"no scores on file for attribute {attribute!r}")
+    return r_index_table(frame, control=control, kind=RANKS if attribute == RANK else SCORES,
+                         attribute=attribute, alpha=study.alpha)
+
+
 def critical_values(method: str):
     """The critical-value table of a forced-choice method for n = 5..200 at alpha 0.20,
     0.10, 0.05, 0.01 and 0.001 (:func:`trials.stats.discrimination.critical_table`)."""

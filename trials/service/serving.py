@@ -12,7 +12,7 @@ from collections.abc import Iterable, Sequence
 import pandas as pd
 
 from trials.errors import NotFoundError, TrialsError
-from trials.methods import Family, MethodSpec, Scoring, get_method
+from trials.methods import MethodSpec, Scoring, get_method
 from trials.model import AllergenConflict, PanelChoice, Panelist, PlanEntry, Sample
 from trials.service import _input
 from trials.store import Store
@@ -64,13 +64,13 @@ def served_conflicts(entries: Sequence[PlanEntry], samples: Sequence[Sample],
 
 def _check_samples(spec: MethodSpec, trial_id: int, samples: Sequence[Sample],
                    n_attributes: int) -> None:
-    if spec.is_forced_choice and len(samples) != 2:
+    if spec.served_in_sets and len(samples) != 2:
         raise TrialsError(
             f"a {spec.name} trial compares exactly 2 samples; trial {trial_id} has {len(samples)}"
         )
-    if not spec.is_forced_choice and len(samples) < 2:
+    if not spec.served_in_sets and len(samples) < 2:
         raise TrialsError(f"a {spec.name} trial needs 2 or more samples; it has {len(samples)}")
-    if spec.family == Family.RATING and not n_attributes:
+    if spec.scores_each_cup and not n_attributes:
         raise TrialsError(
             f"a rating trial needs at least one attribute; trial {trial_id} has none")
 

@@ -13,7 +13,7 @@ import pandas as pd
 from trials.answers import CHOICE, AnswerChecker, PlanKey, expected_answers
 from trials.answers import answer_progress as progress
 from trials.errors import TrialsError
-from trials.methods import Family, get_method
+from trials.methods import get_method
 from trials.model import (
     Answer,
     AuditEntry,
@@ -56,7 +56,7 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
         title=f"Tasting - {spec.label}",
         method=spec.name, question=spec.question, instructions=spec.instructions,
         panelist_code=code, sets=tuple(sets),
-        attributes=attributes if spec.family == Family.RATING else (),
+        attributes=attributes if spec.scores_each_cup else (),
         answers=answers, remaining=max(0, expected - len(answers)),
     )
 

@@ -7,7 +7,7 @@ import datetime as dt
 from collections.abc import Iterable, Sequence
 from typing import Any
 
-from trials.answers import CHOICE, RANK
+from trials.answers import CHOICE, RANK, RESPONSE
 from trials.errors import TrialsError
 from trials.methods import get_method
 from trials.model import (
@@ -26,7 +26,7 @@ from trials.store import trials as trial_rows
 
 EDITABLE = ("name", "product", "aim", "objective", "alpha", "beta", "pd", "delta", "method",
             "target_sample")
-RESERVED_ATTRIBUTES = (CHOICE, RANK)  # the attribute names of forced choices and ranks
+RESERVED_ATTRIBUTES = (CHOICE, RANK, RESPONSE)  # attribute names of choices, ranks, responses
 
 
 def list_trials(store: Store) -> list[TrialSummary]:
@@ -48,13 +48,16 @@ def check_attribute(attr: Attribute) -> Attribute:
     one per point; names ``choice`` and ``rank`` are reserved."""
     attr_name = _input.name(attr.name, "an attribute's name")
     if attr_name in RESERVED_ATTRIBUTES:
-        raise TrialsError(f"{attr_name!r} is reserved for forced choices and ranks")
+        raise TrialsError(f"{attr_name!r} is reserved for forced choices, ranks and responses")
     try:
         kind = AttributeKind(attr.kind)
     except ValueError:
         known = ", ".join(k.value for k in AttributeKind)
         raise TrialsError(f"unknown attribute kind {attr.kind!r}; expected: {known}") from None
     low, high = attr.low, attr.high
+    if kind is AttributeKind.CHECK and (low, high) != (0, 1):
+        raise TrialsError(f"attribute {attr_name!r}: a check-all-that-apply word is scored 0 "
+                          f"(not ticked) or 1 (ticked); give low=0, high=1, got {low!r}..{high!r}")
     if not (isinstance(low, int) and isinstance(high, int)) or low >= high:
         raise TrialsError(
             f"a scale runs over whole numbers from low to high, low < high; got {low!r}..{high!r}"

@@ -69,6 +69,8 @@ class _ForcedChoice(Protocol):
     def guess(self) -> float: ...
     @property
     def sides(self) -> int: ...
+    @property
+    def has_dprime(self) -> bool: ...
 
 
 def _forced_choice(method: str) -> _ForcedChoice:
@@ -342,7 +344,9 @@ class DifferenceResult(Record):
     ``pd_ci`` and ``dprime_ci`` are two-sided at ``level`` from the Clopper-Pearson
     interval of ``pc``; ``dprime_se`` is the delta-method standard error
     (``sqrt(B / n)``; None where the slope of the psychometric function is 0, i.e. at
-    d' = 0 for triangle, duo-trio and tetrad, or where d' is capped).
+    d' = 0 for triangle, duo-trio and tetrad, or where d' is capped). ``dprime`` and
+    ``dprime_ci`` are None for a method with no Thurstonian model in the registry
+    (two-out-of-five: the proportion of discriminators ``pd`` is the estimate).
     """
 
     method: str
@@ -355,8 +359,8 @@ class DifferenceResult(Record):
     pc: float
     pd: float
     pd_ci: tuple[float, float]
-    dprime: float
-    dprime_ci: tuple[float, float]
+    dprime: float | None
+    dprime_ci: tuple[float, float] | None
     ci_method: str
     level: float
     guess: float
@@ -419,26 +423,36 @@ def difference_test(correct: int, n: int, *, method: str, alpha: float = 0.05,
     crit = critical_value(n, method=method, alpha=alpha).critical
     pc = correct / n
     lo, hi = _clopper_pearson(correct, n, level)
-    d = thurstonian.dprime_from_pc(pc, method=method)
-    d_lo = thurstonian.dprime_from_pc(lo, method=method)
-    d_hi = thurstonian.dprime_from_pc(hi, method=method)
-    b = thurstonian.b_value(d, method=method) if d > 0 else None
-    se = math.sqrt(b / n) if b is not None else None
     notes = []
     if spec.sides == 2:
         notes.append("paired preference: two-sided p; pd and d' from the 2-AFC model for "
                      "the share of the more-chosen sample")
-    if pc <= p0:
-        notes.append("pc at or below chance: pd and d' set to 0")
-    if d >= thurstonian.DPRIME_MAX or d_hi >= thurstonian.DPRIME_MAX:
-        notes.append(f"d' capped at {thurstonian.DPRIME_MAX} (a lower bound where pc = 1)")
-    if se is None:
-        notes.append("no delta-method standard error at d' = 0 or at the cap")
+    d: float | None = None
+    d_ci: tuple[float, float] | None = None
+    se: float | None = None
+    if spec.has_dprime:
+        d = thurstonian.dprime_from_pc(pc, method=method)
+        d_lo = thurstonian.dprime_from_pc(lo, method=method)
+        d_hi = thurstonian.dprime_from_pc(hi, method=method)
+        d_ci = (d_lo, d_hi)
+        b = thurstonian.b_value(d, method=method) if d > 0 else None
+        se = math.sqrt(b / n) if b is not None else None
+        if pc <= p0:
+            notes.append("pc at or below chance: pd and d' set to 0")
+        if d >= thurstonian.DPRIME_MAX or d_hi >= thurstonian.DPRIME_MAX:
+            notes.append(f"d' capped at {thurstonian.DPRIME_MAX} (a lower bound where pc = 1)")
+        if se is None:
+            notes.append("no delta-method standard error at d' = 0 or at the cap")
+    else:
+        if pc <= p0:
+            notes.append("pc at or below chance: pd set to 0")
+        notes.append(f"no Thurstonian model for {method}: the proportion of "
+                     "discriminators pd is the estimate, no d'")
     return DifferenceResult(
         method=method, n=n, correct=correct, alpha=alpha, p_value=p,
         significant=bool(crit is not None and correct >= crit), critical=crit, pc=pc,
         pd=_pd_from_pc(pc, p0),
-        pd_ci=(_pd_from_pc(lo, p0), _pd_from_pc(hi, p0)), dprime=d, dprime_ci=(d_lo, d_hi),
+        pd_ci=(_pd_from_pc(lo, p0), _pd_from_pc(hi, p0)), dprime=d, dprime_ci=d_ci,
         ci_method=CI_METHOD, level=level, guess=p0, sides=spec.sides, dprime_se=se,
         note="; ".join(notes),
     )

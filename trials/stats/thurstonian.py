@@ -12,6 +12,15 @@ function ``pc(d')``: the probability of a correct answer when the two samples di
   Phi(-z sqrt 3 - d' sqrt(2/3))] phi(z) dz`` (Frijters 1979; Ennis 1993).
 - unspecified tetrad: ``pc = 1 - 2 integral phi(z) [2 Phi(z) Phi(z - d') -
   Phi(z - d')^2] dz`` (Ennis et al. 1998; Ennis and Jesionka 2011).
+- specified tetrad (the two cups of the stronger sample are to be picked):
+  ``pc = integral 2 phi(z) Phi(z) [1 - Phi(z - d')]^2 dz``, the probability that both
+  stronger cups lie above the larger of the two weaker ones (``2 phi(z) Phi(z)`` is the
+  density of that larger one); chance ``pc(0) = 1/6``, one right pair of six. The
+  decision rule (pick the two strongest) is that of Ennis et al. (1998, from memory);
+  the integral is derived here and checked against ``scipy.integrate.quad`` and a
+  simulation of the rule.
+- two-out-of-five: no Thurstonian model is built (its registry entry names none); its
+  analysis reports the proportion of discriminators only.
 - paired preference uses the 2-AFC model (a Thurstonian model of preference with the
   share of the more-chosen sample as ``pc``); this is a modelling choice, stated in every
   result that uses it.
@@ -60,6 +69,7 @@ from trials.methods import (
     MODEL_2AFC,
     MODEL_3AFC,
     MODEL_DUO_TRIO,
+    MODEL_SPECIFIED_TETRAD,
     MODEL_TETRAD,
     MODEL_TRIANGLE,
     Family,
@@ -135,12 +145,21 @@ def _pc_tetrad(d):
     return pc, dpc
 
 
+def _pc_specified_tetrad(d):
+    z = _Z_FULL[None, :]
+    w = _W_FULL * 2.0 * _phi(_Z_FULL) * _Phi(_Z_FULL)  # density of the larger weak cup
+    zd = z - d[:, None]
+    above = 1.0 - _Phi(zd)
+    return (above**2) @ w, (2.0 * above * _phi(zd)) @ w
+
+
 MODELS: dict[str, Callable] = {
     MODEL_2AFC: _pc_2afc,
     MODEL_DUO_TRIO: _pc_duotrio,
     MODEL_3AFC: _pc_3afc,
     MODEL_TRIANGLE: _pc_triangle,
     MODEL_TETRAD: _pc_tetrad,
+    MODEL_SPECIFIED_TETRAD: _pc_specified_tetrad,
 }
 """The psychometric functions by model key (``MethodSpec.model`` of the registry names
 one); each takes a 1-d array of d' >= 0 and returns ``(pc, dpc/dd')``."""
@@ -152,6 +171,7 @@ CHANCE: dict[str, float] = {
     MODEL_3AFC: 1 / 3,  # Frijters (1979)
     MODEL_TRIANGLE: 1 / 3,  # Frijters (1979)
     MODEL_TETRAD: 1 / 3,  # Ennis and Jesionka (2011)
+    MODEL_SPECIFIED_TETRAD: 1 / 6,  # one right pair of the C(4, 2) = 6 pairs
 }
 """Each model's exact chance level ``pc(0)`` (its quadrature agrees within 1e-15)."""
 
@@ -162,6 +182,9 @@ _PREFERENCE_NOTE = ("d' from the 2-AFC model (Thurstonian preference): pc is the
 def _model_key(method: str) -> str:
     """The registry's model key for ``method``, checked to be one of :data:`MODELS`."""
     spec = get_method(method)
+    if spec.is_forced_choice and not spec.has_dprime:
+        raise TrialsError(f"method {method!r} has no Thurstonian model here: its analysis "
+                          "gives the proportion of discriminators pd, no d'")
     if not spec.is_forced_choice or spec.model not in MODELS:
         raise TrialsError(f"method {method!r} has no Thurstonian model (forced choice only)")
     return spec.model
