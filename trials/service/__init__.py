@@ -52,6 +52,7 @@ from trials.service.batches import (
     import_batches,
     list_batches,
     measures_frame,
+    set_batch_value,
     sign_off_batch,
 )
 from trials.service.documents import (
@@ -120,6 +121,7 @@ __all__ = [
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
     "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
     "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
-    "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
-    "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",
+    "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_batch_value",
+    "set_status", "sign_off_batch", "trial_decision", "trial_overview", "update_trial",
+    "write_report",
 ]

@@ -22,11 +22,15 @@ from trials.model import (
     EntryMode,
     PanelistBallot,
     PlanBook,
+    Status,
 )
 from trials.service import _input
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import plans as plan_rows
+from trials.store import trials as trial_rows
+
+AUTOMATIC = "automatic"  # who moves a trial's status on by itself, in the audit log
 
 
 def checker_of(book: PlanBook) -> AnswerChecker:
@@ -59,6 +63,41 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
         attributes=attributes if spec.family == Family.RATING else (),
         answers=answers, remaining=max(0, expected - len(answers)),
     )
+
+
+def _all_answered(book: PlanBook, got: list[Answer]) -> bool:
+    """Whether every answer the plan of ``book`` expects is on file in ``got``."""
+    table = progress(get_method(book.trial.method), book.entries, got,
+                     attributes=len(book.trial.attributes))
+    return not table.empty and bool((table["answered"] >= table["expected"]).all())
+
+
+def advance_status(tx, trial_id: int, *, by: str, book: PlanBook | None = None) -> None:
+    """Move the trial's status on after answers were recorded (audited, forward only):
+    to ``tasting`` with the first answer, to ``analysed`` once every expected answer is
+    in. A status the leader set further on (decided) stays.
+
+    ``book`` may be one panelist's plan (the tablet's): the whole trial is then read only
+    when that panelist's ballot is complete, so a tablet answer costs one small query.
+    """
+    trial = book.trial if book is not None else trial_rows.get_trial(tx, trial_id)
+    order = list(Status)
+    if order.index(trial.status) >= order.index(Status.ANALYSED):
+        return
+    who = f"{by} ({AUTOMATIC})"
+    if book is not None:
+        trial_rows.advance_status(tx, trial_id, Status.TASTING, who)
+        panelists = {e.panelist_code for e in book.entries}
+        if len(panelists) == 1:
+            mine = answer_rows.list_answers(tx, trial_id, panelist_code=next(iter(panelists)))
+            if not _all_answered(book, mine):
+                return
+    got = answer_rows.list_answers(tx, trial_id)
+    if not got:
+        return
+    trial_rows.advance_status(tx, trial_id, Status.TASTING, who)
+    if _all_answered(answer_rows.plan_book(tx, trial_id), got):
+        trial_rows.advance_status(tx, trial_id, Status.ANALYSED, who)
 
 
 def save_checked(tx, book: PlanBook, session: str, panelist: str, code: str,
@@ -100,9 +139,11 @@ def record_answer(
                 raise TrialsError(f"say which session; panelist {panelist!r} is served in "
                                   f"{', '.join(map(repr, mine)) or 'none'}")
             sess = mine[0]
-        return save_checked(tx, book, sess, panelist, code, attribute, value,
-                            comment=comment, entered_by=panelist, entered_at=None,
-                            mode=EntryMode.TABLET)
+        answer = save_checked(tx, book, sess, panelist, code, attribute, value,
+                              comment=comment, entered_by=panelist, entered_at=None,
+                              mode=EntryMode.TABLET)
+        advance_status(tx, trial_id, by=panelist, book=book)
+        return answer
 
     return store.write(work)
 
@@ -126,9 +167,11 @@ def enter_answer(
 
     def work(tx) -> Answer:
         book = answer_rows.plan_book(tx, trial_id)
-        return save_checked(tx, book, session, panelist_code, code, attribute, value,
-                            comment=comment, entered_by=entered_by, entered_at=entered_at,
-                            mode=mode)
+        answer = save_checked(tx, book, session, panelist_code, code, attribute, value,
+                              comment=comment, entered_by=entered_by, entered_at=entered_at,
+                              mode=mode)
+        advance_status(tx, trial_id, by=entered_by)
+        return answer
 
     return store.write(work)
 
