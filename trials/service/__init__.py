@@ -82,6 +82,7 @@ from trials.service.serving import (
     panelist_token,
     plan,
     plan_balance,
+    plan_table,
 )
 from trials.service.tasting import (
     answer_progress,
@@ -119,7 +120,8 @@ __all__ = [
     "import_archive", "import_batches", "import_panelists", "import_answers",
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
-    "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
+    "plan", "plan_balance", "plan_table", "panel_size_needed", "power_curve", "print_bytes",
+    "print_document",
     "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
     "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_batch_value",
     "set_status", "sign_off_batch", "trial_decision", "trial_overview", "update_trial",
