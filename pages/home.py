@@ -35,7 +35,7 @@ else:
             "product": s.product,
             "method": s.method,
             "status": s.status.value,
-            "created": s.created_on,
+            "created": s.created_on or "\u2014",
             "decision": s.decision,
         }
         for s in studies

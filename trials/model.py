@@ -69,6 +69,11 @@ class AttributeKind(StrEnum):
     INTENSITY = "intensity"  # how much of a property, low to high
     JAR = "jar"  # just-about-right: too little .. just right .. too much
 
+    @property
+    def label(self) -> str:
+        """The kind in words for screens and documents ("just about right", not "jar")."""
+        return "just about right" if self is AttributeKind.JAR else self.value
+
 
 @dataclass(frozen=True, slots=True)
 class Measurement(Record):

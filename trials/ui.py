@@ -283,6 +283,22 @@ def food_caution(trial_id: int | None = None) -> None:
     )
 
 
+def served_safety(trial_id: int) -> None:
+    """On the results and decision screens: batches the plan serves that are not signed
+    off for food safety, and planned samples with no batch on file."""
+    points = service.unsigned_served(store(), trial_id)
+    if points["unsigned"]:
+        names = ", ".join(literal(x) for x in points["unsigned"])
+        st.warning(f"Served batches not signed off for food safety: {names}. Record the "
+                   "sign-off on Samples and batches; a batch that was not prepared and held "
+                   "as your food code requires should not have been served.",
+                   icon=":material/health_and_safety:")
+    if points["unrecorded"]:
+        names = ", ".join(literal(x) for x in points["unrecorded"])
+        st.warning(f"No batch is recorded for {names}: record each batch with its food-safety "
+                   "sign-off on Samples and batches.", icon=":material/health_and_safety:")
+
+
 def who() -> str:
     """The name written to the audit log for the leader's changes."""
     return (st.session_state.get("leader_name") or "").strip() or "leader"
@@ -448,6 +464,17 @@ def release_key_downloads() -> None:
     elif state == "pending":
         del st.session_state[KEY_MEDIA]
         st.rerun()
+
+
+def no_none(frame):
+    """A table for the screen with empty cells as an em dash, never "None" or "nan"
+    (columns without an empty cell keep their type and number format)."""
+    out = frame.copy()
+    for col in out.columns:
+        empty = out[col].isna()
+        if empty.any():
+            out[col] = out[col].astype(object).where(~empty, "\u2014")
+    return out
 
 
 def show_problem(exc: Exception) -> None:

@@ -28,7 +28,7 @@ import pandas as pd
 from trials.analysis import TrialAnalysis, decode_responses
 from trials.decision import Decision, Verdict, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
-from trials.model import Answer, Batch, PlanEntry, Trial
+from trials.model import Answer, AttributeKind, Batch, PlanEntry, Trial
 
 CAUTION = (
     "Samples are food served to people. Before any tasting: declare every sample's "
@@ -361,7 +361,8 @@ def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
 def _rating_results(a: TrialAnalysis, charts: _Charts) -> str:
     out = []
     for at in a.attributes:
-        out.append(f"<h3>{e(at.attribute)} ({e(at.kind)}, {at.low} to {at.high})</h3>")
+        out.append(f"<h3>{e(at.attribute)} ({e(AttributeKind(at.kind).label)}, {at.low} to "
+                   f"{at.high})</h3>")
         r = at.anova
         if r is None:
             out.append(f"<p>{e(at.note or 'Not analysed.')}</p>")

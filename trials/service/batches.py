@@ -111,6 +111,25 @@ def list_batches(store: Store, trial_id: int) -> list[Batch]:
         return batch_rows.list_batches(tx, trial_id)
 
 
+def unsigned_served(store: Store, trial_id: int) -> dict[str, list[str]]:
+    """The food-safety points of what is served: ``unsigned`` names ("sample / batch")
+    of the batches the plan serves that are not signed off (every unsigned batch of a
+    planned sample when no cup names its batch), ``unrecorded`` the planned samples with
+    no batch on file."""
+    from trials.store import plans as plan_rows
+
+    with store.read() as tx:
+        batches = batch_rows.list_batches(tx, trial_id)
+        plan = plan_rows.plan_entries(tx, trial_id)
+    planned = list(dict.fromkeys(e.sample_name for e in plan))
+    served = {(e.sample_name, e.batch_label) for e in plan if e.batch_label}
+    unsigned = [f"{b.sample_name} / {b.label}" for b in batches
+                if not b.signed_off and b.sample_name in planned
+                and (not served or (b.sample_name, b.label) in served)]
+    recorded = {b.sample_name for b in batches}
+    return {"unsigned": unsigned, "unrecorded": [s for s in planned if s not in recorded]}
+
+
 def sign_off_batch(
     store: Store,
     trial_id: int,

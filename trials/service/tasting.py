@@ -247,3 +247,25 @@ def audit_log(store: Store, trial_id: int) -> list[AuditEntry]:
     """Every change to a trial, oldest first (roster changes are under no trial)."""
     with store.read() as tx:
         return answer_rows.audit_log(tx, trial_id)
+
+
+AUDIT_WHAT = {"study": "trial", "sample": "sample", "attribute": "attribute",
+              "batch": "batch", "batch_value": "batch value", "panelist": "panelist",
+              "plan_entry": "serving plan", "response": "answer",
+              "tasting_session": "session"}
+
+
+def audit_table(store: Store, trial_id: int, *, last: int = 500) -> pd.DataFrame:
+    """The trial's audit log as the leader reads it, newest last: columns ``When Who
+    What Record Field Old New`` ("What" in the words of DEVELOPERS.md, "trial" for the
+    table ``study``; "Record" the number of the changed record); empty values as an em
+    dash, never "None"."""
+    log = audit_log(store, trial_id)[-last:]
+    dash = "\u2014"
+    return pd.DataFrame([{
+        "When": e.at.strftime("%Y-%m-%d %H:%M:%S") if e.at else dash, "Who": e.who or dash,
+        "What": AUDIT_WHAT.get(e.table, e.table.replace("_", " ")),
+        "Record": dash if e.row_id is None else str(e.row_id), "Field": e.field or dash,
+        "Old": dash if e.old in (None, "") else e.old,
+        "New": dash if e.new in (None, "") else e.new,
+    } for e in log], columns=["When", "Who", "What", "Record", "Field", "Old", "New"])
