@@ -466,14 +466,21 @@ def release_key_downloads() -> None:
         st.rerun()
 
 
-def no_none(frame):
-    """A table for the screen with empty cells as an em dash, never "None" or "nan"
-    (columns without an empty cell keep their type and number format)."""
+def no_none(frame, digits: int = 2):
+    """A table for the screen with empty cells as an em dash, never "None" or "nan".
+    Columns without an empty cell keep their type; a column with one becomes text
+    (numbers to ``digits`` decimals, whole numbers as they are)."""
+    def cell(v):
+        if v is None or (isinstance(v, float) and v != v):
+            return "\u2014"
+        if isinstance(v, float):
+            return f"{v:.{digits}f}"
+        return str(v)
+
     out = frame.copy()
     for col in out.columns:
-        empty = out[col].isna()
-        if empty.any():
-            out[col] = out[col].astype(object).where(~empty, "\u2014")
+        if out[col].isna().any():
+            out[col] = [cell(v) for v in out[col].astype(object)]
     return out
 
 

@@ -33,12 +33,12 @@ def demo_url(tmp_path_factory):
     return url
 
 
-def test_the_demo_seeds_its_four_trials_once(demo_url):
+def test_the_demo_seeds_its_five_trials_once(demo_url):
     store = service.open_store(demo_url)
     first = service.list_trials(store)
     again = seed_demo(store)
     assert sorted(s.id for s in again) == sorted(s.id for s in first)
-    assert len(service.list_trials(store)) == 4
+    assert len(service.list_trials(store)) == 5
     assert len(service.list_panelists(store)) == 30
     for s in first:
         assert all(b.signed_off for b in service.list_batches(store, s.id))

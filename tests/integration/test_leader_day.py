@@ -132,3 +132,39 @@ def test_the_printable_summary_holds_the_recorded_decision_and_rationale(store):
     assert "Nobody could tell; it saves an hour." in text
     html = service.report_html(store, sid)
     assert "Verdict code" not in html and "In short: " in html
+
+
+def test_the_demo_has_a_trial_with_open_ballots_for_a_newcomer(sqlite_url):
+    from trials.demo import CURD, seed_demo
+
+    store = service.open_store(sqlite_url)
+    seed_demo(store)
+    [curd] = [t for t in service.list_trials(store) if t.name == CURD]
+    view = service.trial_overview(store, curd.id)
+    progress = service.answer_progress(store, curd.id)
+    assert len(view.links) == view.panelists == 12  # every panelist has a tasting link
+    assert 0 < progress["answered"].sum() < progress["expected"].sum()
+    ballots = [service.ballot_for_token(store, view.links[c].split("t=")[1])
+               for c in view.links]
+    assert any(not b.complete for b in ballots) and any(b.complete for b in ballots)
+    assert service.next_step(store, curd.id).step == "answers"
+    store.close()
+
+
+def test_the_next_step_follows_the_trial_from_set_up_to_report(store):
+    sid = service.create_trial(store, name="Stock test", method="triangle", by="t").id
+    assert service.next_step(store, sid).step == "samples"
+    service.add_sample(store, sid, "Usual", is_control=True)
+    service.add_sample(store, sid, "Cheaper", by="t")
+    assert service.next_step(store, sid).step == "plan"
+    codes = roster(store, 3)
+    service.draw_plan(store, sid, panelist_codes=codes, seed=2, by="t")
+    assert service.next_step(store, sid).step == "ballots"
+    _answer_all(store, sid, codes, upto=1)
+    assert service.next_step(store, sid).step == "answers"
+    _answer_all(store, sid, codes)
+    assert service.next_step(store, sid).step == "results"
+    service.record_decision(store, sid, "Keep the usual stock", "", by="t")
+    assert service.next_step(store, sid).step == "report"
+    rated = service.create_trial(store, name="Glaze", method="rating", samples=["A", "B"]).id
+    assert service.next_step(store, rated).step == "attributes"
