@@ -19,12 +19,12 @@ if not overview.plan_size:
 
 problem = service.link_address_problem(ui.app_address())
 if problem:
-    st.warning(
-        f"Before printing ballots: {problem}. Set `TRIALS_BASE_URL` to the address tablets "
-        "use on the kitchen network and start the app where they reach it, for example "
-        "`TRIALS_BASE_URL=http://192.168.1.20:8501 trials app --host 0.0.0.0` (with a leader "
+    st.warning(ui.literal(
+        f"Before printing ballots: {problem}. Set TRIALS_BASE_URL to the address tablets use "
+        "on the kitchen network and start the app where they reach it, for example "
+        "TRIALS_BASE_URL=http://192.168.1.20:8501 trials app --host 0.0.0.0 (with a leader "
         "passcode set), or open this page at that address; on the command line, "
-        "`trials print ballots ... --base-url URL`.", icon=":material/wifi_off:")
+        "trials print ballots ... --base-url URL."), icon=":material/wifi_off:")
 
 DOCS = {
     "ballots": ("Ballots", "one ballot per panelist and session, blinding codes only"),

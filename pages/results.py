@@ -41,7 +41,10 @@ def _interval(ci) -> str:
 
 def _p_column(frame: pd.DataFrame, *columns: str) -> pd.DataFrame:
     """p-values as read ("< 0.001", "0.042"), never "0.0000"; empty cells as a dash."""
-    return ui.no_none(frame.assign(**{c: frame[c].map(p_text) for c in columns if c in frame}))
+    def text(v) -> str:
+        return "\u2014" if v is None or v != v else p_text(v)
+
+    return ui.no_none(frame.assign(**{c: frame[c].map(text) for c in columns if c in frame}))
 
 
 # ------------------------------------------------------------------ ratings: against the
@@ -87,9 +90,10 @@ def _jar_chart(penalty) -> None:
         part = frame[frame["group"] == group]
         bars.add_trace(go.Bar(y=part["who"], x=part["share"] * 100, name=group,
                               orientation="h", marker_color=colour))
-    bars.update_layout(barmode="stack", title="Answers in each group", height=300,
-                       xaxis_title="% of answers", xaxis_range=[0, 100],
-                       margin={"l": 10, "r": 10, "t": 40, "b": 10}, legend_orientation="h")
+    legend = {"orientation": "h", "y": -0.3, "x": 0}
+    bars.update_layout(barmode="stack", title="Answers in each group", height=340,
+                       xaxis_title="% of answers", xaxis_range=[0, 100], legend=legend,
+                       margin={"l": 10, "r": 10, "t": 40, "b": 10})
     left.plotly_chart(bars, width="stretch")
     off = frame[(frame["group"] != "just right") & frame["drop"].notna()]
     drops = go.Figure()
@@ -101,10 +105,24 @@ def _jar_chart(penalty) -> None:
     drops.add_vline(x=penalty.threshold * 100, line_dash="dot",
                     annotation_text=f"{penalty.threshold:.0%} of answers")
     drops.add_hline(y=0, line_color="#9e9e9e")
-    drops.update_layout(title="Mean drop in liking against share", height=300,
+    spread = [float(v) for v in off["drop"]] + [0.0]
+    pad = max(0.5, (max(spread) - min(spread)) * 0.25)
+    drops.update_layout(title="Mean drop in liking against share", height=340,
                         xaxis_title="% of answers", yaxis_title="drop in mean liking",
-                        margin={"l": 10, "r": 10, "t": 40, "b": 10}, legend_orientation="h")
+                        yaxis_range=[min(spread) - pad, max(spread) + pad], legend=legend,
+                        margin={"l": 10, "r": 10, "t": 40, "b": 10})
     right.plotly_chart(drops, width="stretch")
+
+
+def _penalty_table(penalty) -> pd.DataFrame:
+    """The penalty rows as read: shares in %, two decimals, p-values as text."""
+    frame = penalty.to_frame()
+    frame["share"] = (frame["share"] * 100).round(0)
+    frame = frame.rename(columns={"share": "share (%)", "mean_liking": "mean liking",
+                                  "p_value": "p", "drop": "drop in liking"})
+    numbers = ["mean liking", "drop in liking", "penalty"]
+    return _p_column(frame.assign(**{c: frame[c].astype(float).round(2) for c in numbers}),
+                     "p")
 
 
 def _measure_scatter(relations, attribute: str, key: str) -> None:
@@ -212,7 +230,6 @@ if result.attributes:
                                  "df": st.column_config.NumberColumn(format="%g"),
                                  "ss": st.column_config.NumberColumn(format="%.3f"),
                                  "ms": st.column_config.NumberColumn(format="%.3f"),
-                                 "F": st.column_config.NumberColumn(format="%.2f"),
                              })
             with c2:
                 st.markdown("**Means**")
@@ -229,8 +246,7 @@ if result.attributes:
             if at.penalty is not None:
                 st.markdown("**Just about right: penalty analysis**")
                 _jar_chart(at.penalty)
-                st.dataframe(_p_column(at.penalty.to_frame(), "p_value"), hide_index=True,
-                             width="stretch")
+                st.dataframe(_penalty_table(at.penalty), hide_index=True, width="stretch")
                 st.caption(at.penalty.method)
             if at.relations:
                 with st.expander("Means against the batches' measures", icon=":material/scale:"):

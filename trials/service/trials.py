@@ -281,8 +281,10 @@ def next_step(store: Store, trial_id: int) -> NextStep:
                         "the ballots, then type the paper ones in (Paper entry).")
     if answered < expected:
         return NextStep("answers", "Paper entry",
-                        f"{answered} of {expected} answers are in: wait for the tablets or "
-                        "type the paper ballots in; the results so far are on Results.")
+                        f"{answered} of {expected} answers are in: panelists answer on their "
+                        "own tasting links (Serving plan lists them; open one to try the "
+                        "tablet screen), paper ballots are typed in here; the results so far "
+                        "are on Results.")
     return NextStep("results", "Results",
                     "Every expected answer is in: read the results, then record the decision "
                     "(Decision and report).")
