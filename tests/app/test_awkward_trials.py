@@ -178,3 +178,32 @@ def test_every_leader_screen_renders_every_awkward_trial(awkward, monkeypatch, s
                 assert "Add the samples" in text
         if screen == "decision" and case in ("unsigned batch", "no batches"):
             assert line in text, (case, line)
+
+
+def test_correcting_a_batch_value_refuses_a_unit_of_another_kind_and_saves_a_convertible_one(
+        app_db):
+    from tests.app.conftest import by_label
+
+    store = service.open_store(app_db)
+    sid = service.create_trial(store, name="Glaze: a correction", method="rating",
+                               samples=["Usual glaze", "Dark glaze"]).id
+    service.add_batch(store, sid, "Usual glaze", "B1", settings=[("oven", 180, "°C")])
+    service.add_batch(store, sid, "Dark glaze", "B1", settings=[("oven", 190, "°C")])
+    at = page_test("samples")
+    at.query_params["study"] = str(sid)
+    at.run()
+    by_label(at.selectbox, "Value").select_index(1)  # Dark glaze / B1: oven
+    at.run()
+    by_label(at.text_input, "Unit").input("g")
+    next(b for b in at.button if b.label == "Save the value").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert [shown(e.value) for e in at.error] == [
+        "'oven' is recorded in '°C' (a temperature); 'g' (a mass) cannot be converted to it"]
+    by_label(at.text_input, "Value").input("463.15")
+    by_label(at.text_input, "Unit").input("K")
+    next(b for b in at.button if b.label == "Save the value").click()
+    at.run()
+    assert not at.exception and not at.error
+    dark = next(b for b in service.list_batches(store, sid) if b.sample_name == "Dark glaze")
+    assert [(m.value, m.unit) for m in dark.settings] == [(463.15, "K")]

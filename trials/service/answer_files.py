@@ -159,7 +159,7 @@ def import_answers(
         new = checked_import(book, records, entered_by=entered_by, at=at)
         note = f"{len(new)} answers from {source} ({len(records) - len(new)} already on file)"
         added = answer_rows.insert_answers(tx, book, new, by=entered_by, note=note)
-        advance_status(tx, trial_id, by=entered_by)
+        advance_status(tx, trial_id, by=entered_by, book=book)
         return added
 
     return store.write(work)
@@ -249,7 +249,7 @@ def save_paper_sheet(store: Store, trial_id: int, session: str, frame: pd.DataFr
                          a["value"], comment="", entered_by=entered_by, entered_at=None,
                          mode=EntryMode.PAPER, checker=checker)
         if items:
-            advance_status(tx, trial_id, by=entered_by)
+            advance_status(tx, trial_id, by=entered_by, book=book)
         return len(items)
 
     return store.write(work)

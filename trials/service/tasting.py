@@ -65,38 +65,44 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
     )
 
 
-def _all_answered(book: PlanBook, got: list[Answer]) -> bool:
-    """Whether every answer the plan of ``book`` expects is on file in ``got``."""
-    table = progress(get_method(book.trial.method), book.entries, got,
-                     attributes=len(book.trial.attributes))
-    return not table.empty and bool((table["answered"] >= table["expected"]).all())
+def _expected(book: PlanBook) -> int:
+    """How many answers the plan of ``book`` expects (:func:`trials.answers.expected_answers`
+    per panelist and session)."""
+    sizes: dict[tuple[str, str], dict[int, int]] = {}
+    for e in book.entries:
+        sets = sizes.setdefault((e.session, e.panelist_code), {})
+        sets[e.set_index] = sets.get(e.set_index, 0) + 1
+    spec = get_method(book.trial.method)
+    return sum(expected_answers(spec, v.values(), attributes=len(book.trial.attributes))
+               for v in sizes.values())
 
 
-def advance_status(tx, trial_id: int, *, by: str, book: PlanBook | None = None) -> None:
+def advance_status(tx, trial_id: int, *, by: str, book: PlanBook) -> None:
     """Move the trial's status on after answers were recorded (audited, forward only):
     to ``tasting`` with the first answer, to ``analysed`` once every expected answer is
     in. A status the leader set further on (decided) stays.
 
-    ``book`` may be one panelist's plan (the tablet's): the whole trial is then read only
-    when that panelist's ballot is complete, so a tablet answer costs one small query.
+    ``book`` is the plan the answers were checked against: the whole trial's, or one
+    panelist's (the tablet's), whose count is checked first so that the whole plan is
+    read only when that panelist's ballot is complete. The store keeps one answer per
+    question of the plan, so a count equal to the plan's expected answers means all in.
     """
-    trial = book.trial if book is not None else trial_rows.get_trial(tx, trial_id)
     order = list(Status)
-    if order.index(trial.status) >= order.index(Status.ANALYSED):
+    status = book.trial.status
+    if order.index(status) >= order.index(Status.ANALYSED):
         return
     who = f"{by} ({AUTOMATIC})"
-    if book is not None:
+    if order.index(status) < order.index(Status.TASTING):
+        if not answer_rows.count_answers(tx, trial_id):
+            return
         trial_rows.advance_status(tx, trial_id, Status.TASTING, who)
-        panelists = {e.panelist_code for e in book.entries}
-        if len(panelists) == 1:
-            mine = answer_rows.list_answers(tx, trial_id, panelist_code=next(iter(panelists)))
-            if not _all_answered(book, mine):
-                return
-    got = answer_rows.list_answers(tx, trial_id)
-    if not got:
-        return
-    trial_rows.advance_status(tx, trial_id, Status.TASTING, who)
-    if _all_answered(answer_rows.plan_book(tx, trial_id), got):
+    whole = book
+    if len(book.panelist_ids) == 1:
+        [pid] = book.panelist_ids.values()
+        if answer_rows.count_answers(tx, trial_id, panelist_id=pid) < _expected(book):
+            return
+        whole = answer_rows.plan_book(tx, trial_id)
+    if answer_rows.count_answers(tx, trial_id) >= _expected(whole):
         trial_rows.advance_status(tx, trial_id, Status.ANALYSED, who)
 
 
@@ -170,7 +176,7 @@ def enter_answer(
         answer = save_checked(tx, book, session, panelist_code, code, attribute, value,
                               comment=comment, entered_by=entered_by, entered_at=entered_at,
                               mode=mode)
-        advance_status(tx, trial_id, by=entered_by)
+        advance_status(tx, trial_id, by=entered_by, book=book)
         return answer
 
     return store.write(work)
