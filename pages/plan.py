@@ -69,6 +69,11 @@ with c2:
 
 st.subheader("Tasting links")
 address = ui.app_address()
+unreachable = service.link_address_problem(address)
+if unreachable and address:
+    st.warning(ui.literal(f"These links would not open on a tablet: {unreachable}. Set "
+                          "TRIALS_BASE_URL to the address tablets use (see Printing)."),
+               icon=":material/wifi_off:")
 st.caption("Hand each panelist their own link; it opens that panelist's ballot only. "
            + (f"Links start with {ui.literal(address)} (set TRIALS_BASE_URL to the address "
                "tablets reach)."

@@ -168,3 +168,15 @@ def test_the_next_step_follows_the_trial_from_set_up_to_report(store):
     assert service.next_step(store, sid).step == "report"
     rated = service.create_trial(store, name="Glaze", method="rating", samples=["A", "B"]).id
     assert service.next_step(store, rated).step == "attributes"
+
+
+@pytest.mark.parametrize(("url", "local"), [
+    ("http://127.0.0.1:8501", True), ("http://localhost:8501", True), ("http://[::1]:8501", True),
+    ("http://0.0.0.0:8501", True), ("", True), ("http://192.168.1.20:8501", False),
+    ("https://kitchen.example.org", False),
+])
+def test_tasting_links_on_an_address_of_this_computer_only_are_named(url, local):
+    problem = service.link_address_problem(url)
+    assert (problem is not None) == local
+    if url and local:
+        assert url in problem and "no tablet reaches" in problem
