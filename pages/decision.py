@@ -1,6 +1,5 @@
 """Decision and report: record the decision with its rationale, download the report."""
 
-import pandas as pd
 import streamlit as st
 
 from trials import service, ui
@@ -11,8 +10,9 @@ trial_id = ui.pick_trial()
 store = ui.store()
 study = service.get_trial(store, trial_id)
 
-st.title(f"Decision: {ui.literal(study.name)}")
+st.title(f"Decision and report: {ui.literal(study.name)}")
 result, suggested = ui.analysis(trial_id)
+ui.served_safety(trial_id)
 
 with st.container(border=True):
     st.markdown("**What the results say**")
@@ -81,6 +81,4 @@ with st.expander("Export the answers", icon=":material/table_view:"):
                        on_click="ignore")
 
 with st.expander("Audit log", icon=":material/history:"):
-    log = service.audit_log(store, trial_id)
-    st.dataframe(pd.DataFrame([e.to_dict() for e in log[-500:]]), hide_index=True,
-                 width="stretch")
+    st.dataframe(service.audit_table(store, trial_id), hide_index=True, width="stretch")

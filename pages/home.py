@@ -16,10 +16,21 @@ studies = service.list_trials(ui.store())
 STATUS_HELP = {
     Status.PLANNING: "set-up in progress",
     Status.READY: "plan drawn, ready to serve",
-    Status.TASTING: "answers coming in",
-    Status.ANALYSED: "results read",
+    Status.TASTING: "answers coming in (set by the first answer)",
+    Status.ANALYSED: "every expected answer in: results ready (set by the last answer)",
     Status.DECIDED: "decision on file",
 }
+
+
+def _next_step(trial_id: int) -> None:
+    """What to do next with the trial in hand, and on which screen."""
+    try:
+        step = service.next_step(ui.store(), trial_id)
+    except TrialsError as exc:
+        ui.show_problem(exc)
+        return
+    st.info(f"**Next for this trial:** {ui.literal(step.text)}  \n"
+            f"Screen: **{step.screen}** (in the menu).", icon=":material/arrow_forward:")
 
 if not studies:
     st.info("No trials on file yet. Start one below, or run `trials demo` for the invented "
@@ -36,7 +47,7 @@ else:
             "product": s.product,
             "method": s.method,
             "status": s.status.value,
-            "created": s.created_on,
+            "created": s.created_on or "\u2014",
             "decision": s.decision,
         }
         for s in studies
@@ -57,6 +68,17 @@ else:
         ui.select_study(chosen.id)
         st.success(f"Working on trial #{chosen.id} {ui.literal(chosen.name)}: the other screens "
                    "open it.")
+    in_hand = st.session_state.get(ui.STUDY_KEY)
+    if in_hand is None:
+        try:
+            in_hand = int(st.query_params.get("study", ""))
+        except ValueError:
+            in_hand = None
+    if in_hand in {s.id for s in studies}:
+        if not rows:
+            name = next(s.name for s in studies if s.id == in_hand)
+            st.markdown(f"Trial in hand: **#{in_hand} {ui.literal(name)}**")
+        _next_step(in_hand)
 
 labels = {m.name: m.label for m in METHODS}
 with st.expander("Start a new trial", expanded=not studies, icon=":material/add:"):

@@ -53,17 +53,27 @@ if not overview.plan_size:
 
 balance = service.plan_balance(store, trial_id)
 st.subheader("Balance")
+for line in balance["statements"]:
+    st.info(line, icon=":material/balance:")
 c1, c2 = st.columns(2)
 with c1:
     st.markdown("Cups of each sample at each position")
     st.dataframe(balance["positions"], width="stretch")
 with c2:
     if not balance["patterns"].empty:
-        st.markdown("Sets of each pattern (A, B: the two samples; R: the reference)")
+        letters = "; ".join(f"{k}: {ui.literal(v)}" for k, v in sorted(balance["letters"].items()))
+        has_reference = balance["patterns"]["pattern"].str.contains("R").any()
+        st.markdown(f"Sets of each pattern ({letters}"
+                    + ("; R: the reference cup, served first" if has_reference else "") + ")")
         st.dataframe(balance["patterns"], hide_index=True, width="stretch")
 
 st.subheader("Tasting links")
 address = ui.app_address()
+unreachable = service.link_address_problem(address)
+if unreachable and address:
+    st.warning(ui.literal(f"These links would not open on a tablet: {unreachable}. Set "
+                          "TRIALS_BASE_URL to the address tablets use (see Printing)."),
+               icon=":material/wifi_off:")
 st.caption("Hand each panelist their own link; it opens that panelist's ballot only. "
            + (f"Links start with {ui.literal(address)} (set TRIALS_BASE_URL to the address "
                "tablets reach)."
@@ -74,5 +84,4 @@ st.dataframe(links, hide_index=True, width="stretch",
              column_config={"link": st.column_config.LinkColumn("link")})
 
 with st.expander("The plan with the decoding key (kitchen only)", icon=":material/key:"):
-    entries = service.plan(store, trial_id)
-    st.dataframe(pd.DataFrame([e.to_dict() for e in entries]), hide_index=True, width="stretch")
+    st.dataframe(service.plan_table(store, trial_id), hide_index=True, width="stretch")

@@ -17,6 +17,15 @@ if not overview.plan_size:
     st.info("Draw the serving plan first (Serving plan).")
     st.stop()
 
+problem = service.link_address_problem(ui.app_address())
+if problem:
+    st.warning(ui.literal(
+        f"Before printing ballots: {problem}. Set TRIALS_BASE_URL to the address tablets use "
+        "on the kitchen network and start the app where they reach it, for example "
+        "TRIALS_BASE_URL=http://192.168.1.20:8501 trials app --host 0.0.0.0 (with a leader "
+        "passcode set), or open this page at that address; on the command line, "
+        "trials print ballots ... --base-url URL."), icon=":material/wifi_off:")
+
 DOCS = {
     "ballots": ("Ballots", "one ballot per panelist and session, blinding codes only"),
     "sheet": ("Serving sheet", "the decoding key, for the kitchen only: never hand it out"),

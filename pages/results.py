@@ -4,7 +4,7 @@ import pandas as pd
 import streamlit as st
 
 from trials import service, ui
-from trials.decision import p_text
+from trials.decision import fmt, fmt_p, p_text
 from trials.errors import TrialsError
 from trials.methods import Family, get_method
 
@@ -16,6 +16,7 @@ spec = get_method(study.method)
 
 st.title(f"Results: {ui.literal(study.name)}")
 result, decision = ui.analysis(trial_id)
+ui.served_safety(trial_id)
 st.caption(f"{spec.label} · {result.panelists_answered} of {result.panelists_planned} panelists "
            f"answered · {result.answers} answers · alpha = {study.alpha:g}")
 
@@ -126,6 +127,119 @@ def _departures_section(attribute: str) -> None:
                  column_config={c: st.column_config.NumberColumn(format="%.2f")
                                 for c in ("r", "slope", "share")})
     st.caption(rule)
+def _p_column(frame: pd.DataFrame, *columns: str) -> pd.DataFrame:
+    """p-values as read ("< 0.001", "0.042"), never "0.0000"; empty cells as a dash."""
+    def text(v) -> str:
+        return "\u2014" if v is None or v != v else p_text(v)
+
+    return ui.no_none(frame.assign(**{c: frame[c].map(text) for c in columns if c in frame}))
+
+
+# ------------------------------------------------------------------ ratings: against the
+# control, just-about-right chart, measured variables against the means (issue 13)
+
+
+def _control_section(comparison) -> None:
+    """Dunnett's comparisons of each sample with the control, blocked error term."""
+    if comparison is None:
+        return
+    st.markdown(f"**Against the control ({ui.literal(comparison.control)})**")
+    if comparison.result is None:
+        st.caption(f"Not run: {ui.literal(comparison.note)}.")
+        return
+    res = comparison.result
+    table = pd.DataFrame([{
+        "sample": c.sample, "difference from the control": c.difference, "se": c.se,
+        "t": c.t, "p (adjusted)": c.p_value, "differs": "yes" if c.different else "no",
+    } for c in res.comparisons])
+    st.dataframe(_p_column(table, "p (adjusted)"), hide_index=True, width="stretch",
+                 column_config={c: st.column_config.NumberColumn(format="%.2f")
+                                for c in ("difference from the control", "se", "t")})
+    st.caption(f"{ui.literal(res.method)}; critical |t| = {res.critical:.2f} on "
+               f"{res.df:g} df at alpha = {res.alpha:g}, from the error term the ANOVA tests "
+               "samples against (panelists as blocks).")
+
+
+JAR_COLOURS = {"too little": "#1f77b4", "just right": "#2e7d32", "too much": "#d62728"}
+
+
+def _jar_chart(penalty) -> None:
+    """Shares of the just-about-right groups per sample, and each off group's mean drop
+    in liking against its share (the penalty chart)."""
+    import plotly.graph_objects as go
+
+    frame = penalty.to_frame()
+    if frame.empty:
+        return
+    frame["who"] = frame["sample"].fillna("all samples").map(ui.chart_text)
+    left, right = st.columns(2)
+    bars = go.Figure()
+    for group, colour in JAR_COLOURS.items():
+        part = frame[frame["group"] == group]
+        bars.add_trace(go.Bar(y=part["who"], x=part["share"] * 100, name=group,
+                              orientation="h", marker_color=colour))
+    legend = {"orientation": "h", "y": -0.3, "x": 0}
+    bars.update_layout(barmode="stack", title="Answers in each group", height=340,
+                       xaxis_title="% of answers", xaxis_range=[0, 100], legend=legend,
+                       margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    left.plotly_chart(bars, width="stretch")
+    off = frame[(frame["group"] != "just right") & frame["drop"].notna()]
+    drops = go.Figure()
+    for group in ("too little", "too much"):
+        part = off[off["group"] == group]
+        drops.add_trace(go.Scatter(x=part["share"] * 100, y=part["drop"], mode="markers+text",
+                                   text=part["who"], textposition="top center", name=group,
+                                   marker={"size": 11, "color": JAR_COLOURS[group]}))
+    drops.add_vline(x=penalty.threshold * 100, line_dash="dot",
+                    annotation_text=f"{penalty.threshold:.0%} of answers")
+    drops.add_hline(y=0, line_color="#9e9e9e")
+    spread = [float(v) for v in off["drop"]] + [0.0]
+    pad = max(0.5, (max(spread) - min(spread)) * 0.25)
+    drops.update_layout(title="Mean drop in liking against share", height=340,
+                        xaxis_title="% of answers", yaxis_title="drop in mean liking",
+                        yaxis_range=[min(spread) - pad, max(spread) + pad], legend=legend,
+                        margin={"l": 10, "r": 10, "t": 40, "b": 10})
+    right.plotly_chart(drops, width="stretch")
+
+
+def _penalty_table(penalty) -> pd.DataFrame:
+    """The penalty rows as read: shares in %, two decimals, p-values as text."""
+    frame = penalty.to_frame()
+    frame["share"] = (frame["share"] * 100).round(0)
+    frame = frame.rename(columns={"share": "share (%)", "mean_liking": "mean liking",
+                                  "p_value": "p", "drop": "drop in liking"})
+    numbers = ["mean liking", "drop in liking", "penalty"]
+    return _p_column(frame.assign(**{c: frame[c].astype(float).round(2) for c in numbers}),
+                     "p")
+
+
+def _measure_scatter(relations, attribute: str, key: str) -> None:
+    """One measured variable or setting against the samples' mean scores, with its
+    least-squares line."""
+    import plotly.graph_objects as go
+
+    usable = [r for r in relations if len(r.x) >= 2]
+    if not usable:
+        return
+    names = [f"{r.predictor} ({r.unit})" if r.unit else r.predictor for r in usable]
+    pick = st.selectbox("Measured variable or setting", range(len(usable)),
+                        format_func=lambda i: names[i], key=key)
+    rel = usable[pick]
+    fig = go.Figure(go.Scatter(x=list(rel.x), y=list(rel.y), mode="markers+text",
+                               text=[ui.chart_text(s) for s in rel.samples],
+                               textposition="top center", marker={"size": 12}, name="samples"))
+    g = rel.regression
+    if g.slope is not None and g.intercept is not None:
+        xs = [min(rel.x), max(rel.x)]
+        fig.add_trace(go.Scatter(x=xs, y=[g.intercept + g.slope * x for x in xs],
+                                 mode="lines", line={"dash": "dot"}, name="least squares"))
+    fig.update_layout(title=ui.chart_text(f"{attribute} against {names[pick]}"), height=340,
+                      xaxis_title=ui.chart_text(names[pick]), yaxis_title="mean score",
+                      margin={"l": 10, "r": 10, "t": 40, "b": 10}, showlegend=False)
+    st.plotly_chart(fig, width="stretch")
+    r = rel.correlation
+    st.caption(f"Pearson r = {fmt(r.r)}, {fmt_p(r.p_value)} over {len(rel.samples)} "
+               f"samples; {ui.literal(rel.note)}.")
 
 
 # ------------------------------------------------------------------ forced choice
@@ -185,6 +299,7 @@ if result.choice is not None:
 
 # ------------------------------------------------------------------ ratings
 if result.attributes:
+    against = {c.attribute: c for c in service.control_comparisons(study, result)}
     st.subheader("Ratings")
     tabs = st.tabs([ui.literal(a.attribute) for a in result.attributes])
     for tab, at in zip(tabs, result.attributes):
@@ -201,13 +316,12 @@ if result.attributes:
             c1, c2 = st.columns(2)
             with c1:
                 st.markdown("**Analysis of variance**")
-                st.dataframe(pd.DataFrame([r.to_dict() for r in av.anova]), hide_index=True,
+                st.dataframe(_p_column(pd.DataFrame([r.to_dict() for r in av.anova]), "p"),
+                             hide_index=True,
                              width="stretch", column_config={
                                  "df": st.column_config.NumberColumn(format="%g"),
                                  "ss": st.column_config.NumberColumn(format="%.3f"),
                                  "ms": st.column_config.NumberColumn(format="%.3f"),
-                                 "F": st.column_config.NumberColumn(format="%.2f"),
-                                 "p": st.column_config.NumberColumn(format="%.4f"),
                              })
             with c2:
                 st.markdown("**Means**")
@@ -220,17 +334,19 @@ if result.attributes:
                         for c in ("mean", "low", "high")})
             st.caption(f"{av.method}. Tukey HSD = {av.hsd:.3f}; samples sharing a letter do "
                        "not differ at alpha.")
+            _control_section(against.get(at.attribute))
             if at.penalty is not None:
-                st.markdown("**Just-about-right: penalty analysis**")
-                st.dataframe(pd.DataFrame([r.to_dict() for r in at.penalty.rows]),
-                             hide_index=True, width="stretch")
+                st.markdown("**Just about right: penalty analysis**")
+                _jar_chart(at.penalty)
+                st.dataframe(_penalty_table(at.penalty), hide_index=True, width="stretch")
                 st.caption(at.penalty.method)
             if at.relations:
                 with st.expander("Means against the batches' measures", icon=":material/scale:"):
-                    st.dataframe(pd.DataFrame([{
+                    _measure_scatter(at.relations, at.attribute, key=f"scatter_{at.attribute}")
+                    st.dataframe(_p_column(pd.DataFrame([{
                         "measure": r.predictor, "unit": r.unit, "r": r.correlation.r,
                         "p": r.correlation.p_value, "slope": r.regression.slope,
-                    } for r in at.relations]), hide_index=True, width="stretch")
+                    } for r in at.relations]), "p"), hide_index=True, width="stretch")
                     st.caption(ui.literal(at.relations[0].note))
 
     _profile_section()
@@ -373,8 +489,10 @@ elif result.ranking is not None and result.ranking.ranks:
 # ------------------------------------------------------------------ batches and problems
 if result.measures.summaries:
     with st.expander("Batch measures by sample", icon=":material/science:"):
-        st.dataframe(pd.DataFrame([s.to_dict() for s in result.measures.summaries]),
-                     hide_index=True, width="stretch")
+        st.dataframe(ui.no_none(result.measures.to_frame()), hide_index=True, width="stretch")
+for note in result.measures.notes:
+    st.warning(f"Batch values: {ui.literal(note)}. Correct the unit on Samples and batches.",
+               icon=":material/straighten:")
 if result.problems:
     with st.expander(f"{len(result.problems)} answer(s) left out", icon=":material/info:"):
         for p in result.problems:

@@ -54,7 +54,8 @@ if spec.scores_each_cup:  # ratings, and CATA (its words: attributes of kind "ch
     st.subheader("Rated attributes")
     if study.attributes:
         st.dataframe(
-            pd.DataFrame([{"attribute": a.name, "kind": str(a.kind), "scale": f"{a.low}..{a.high}",
+            pd.DataFrame([{"attribute": a.name, "kind": a.kind.label,
+                           "scale": f"{a.low}..{a.high}",
                            "anchors": " / ".join(a.anchors)} for a in study.attributes]),
             hide_index=True, width="stretch",
         )
@@ -64,7 +65,8 @@ if spec.scores_each_cup:  # ratings, and CATA (its words: attributes of kind "ch
         with st.form("add_attribute", clear_on_submit=False):
             c1, c2, c3, c4 = st.columns([2, 1, 1, 1])
             a_name = c1.text_input("Attribute", placeholder="overall liking", key="new_attr_name")
-            a_kind = c2.selectbox("Kind", [k.value for k in AttributeKind], key="new_attr_kind")
+            a_kind = c2.selectbox("Kind", [k.value for k in AttributeKind], key="new_attr_kind",
+                                  format_func=lambda v: AttributeKind(v).label)
             a_low = c3.number_input("Lowest point", 0, 10, 1, key="new_attr_low")
             a_high = c4.number_input("Highest point", 1, 15, 9, key="new_attr_high")
             a_anchors = st.text_input("Anchors (the two ends, or every point, separated by ;)",
@@ -87,6 +89,41 @@ if spec.scores_each_cup:  # ratings, and CATA (its words: attributes of kind "ch
                     ui.flash(f"Attribute {ui.literal(a_name.strip())} added.")
                     st.rerun()
 
+# ------------------------------------------------------------------ correct a batch value
+
+
+def _edit_value(batches) -> None:
+    """Correct one recorded setting or measured value of a batch (audited)."""
+    values = [(b, kind, m) for b in batches
+              for kind, items in (("setting", b.settings), ("measure", b.measures))
+              for m in items]
+    if not values:
+        return
+    with st.expander("Correct a recorded value", icon=":material/edit:"):
+        pick = st.selectbox(
+            "Value", range(len(values)), key="edit_value_pick",
+            format_func=lambda i: (f"{values[i][0].sample_name} / {values[i][0].label}: "
+                                   f"{values[i][2].name} ({values[i][1]})"))
+        batch, kind, m = values[pick]
+        with st.form("edit_value"):
+            c1, c2 = st.columns(2)
+            shown = f"{m.value:g}" if isinstance(m.value, float) else str(m.value)
+            new_value = c1.text_input("Value", value=shown)
+            new_unit = c2.text_input("Unit", value=m.unit, help="e.g. °C, K, g, kg, min, %")
+            if st.form_submit_button("Save the value"):
+                try:
+                    service.set_batch_value(store, trial_id, batch.sample_name, batch.label,
+                                            kind=kind, name=m.name, value=new_value,
+                                            unit=new_unit, by=ui.who())
+                except TrialsError as exc:
+                    ui.show_problem(exc)
+                else:
+                    ui.changed()
+                    st.toast("Value saved (the change is in the audit log).",
+                             icon=":material/check:")
+                    st.rerun()
+
+
 # ------------------------------------------------------------------ batches
 st.subheader("Test batches")
 batches = service.list_batches(store, trial_id)
@@ -101,7 +138,8 @@ if batches:
     rows = []
     for b in batches:
         rows.append({
-            "sample": b.sample_name, "batch": b.label, "prepared on": b.prepared_on,
+            "sample": b.sample_name, "batch": b.label,
+            "prepared on": b.prepared_on or "\u2014",
             "by": b.prepared_by,
             "settings": "; ".join(_value(m) for m in b.settings),
             "measured": "; ".join(_value(m) for m in b.measures),
@@ -156,6 +194,11 @@ if study.samples:
                 },
             )
             b_notes = st.text_input("Notes")
+            c5, c6 = st.columns(2)
+            b_signer = c5.text_input("Signed off for food safety by",
+                                     help="Leave empty if the batch is not signed off yet; "
+                                          "sign it off later below.")
+            b_signed_on = c6.date_input("Signed off on", value=dt.date.today())
             if st.form_submit_button("Record the batch"):
                 filled = values[values["name"].fillna("").str.strip() != ""]
                 settings = [(r["name"], r["value"], r["unit"] or "")
@@ -165,12 +208,15 @@ if study.samples:
                 try:
                     service.add_batch(store, trial_id, b_sample, b_label, prepared_on=b_on,
                                       prepared_by=b_by, settings=settings, measures=measures,
-                                      notes=b_notes, by=ui.who())
+                                      notes=b_notes, safety_signed_by=b_signer,
+                                      safety_signed_on=b_signed_on, by=ui.who())
                 except TrialsError as exc:
                     ui.show_problem(exc)
                 else:
                     ui.changed()
                     st.rerun()
+    if batches:
+        _edit_value(batches)
     with st.expander("Import batch values from a file", icon=":material/upload_file:"):
         st.caption("Columns: sample, batch, kind (setting or measure), name, value, unit; "
                    "optional prepared_on, prepared_by. All rows or none.")

@@ -140,11 +140,7 @@ if spec.is_forced_choice:
     else:
         st.metric("You need", f"{answer.n} panelists",
                   help=f"Exact binomial; definition: {answer.definition}")
-        st.write(
-            f"With **{answer.n}** panelists a {spec.label.lower()} concludes a difference from "
-            f"**{answer.critical}** correct answers, with alpha = {study.alpha:g}, and detects "
-            f"pd = {study.pd:g} with power {answer.power:.2f} (beta = {study.beta:g})."
-        )
+        st.write(service.panel_size_words(store, trial_id))
         if answer.note:
             st.caption(answer.note)
         with st.expander("Power against the number of panelists", icon=":material/show_chart:"):

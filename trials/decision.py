@@ -393,8 +393,11 @@ def _ratings(a: TrialAnalysis, study: Trial | None) -> Decision:
               "could detect with this panel may remain."]
     delta = study.delta if study is not None else None
     if delta is not None:
+        hsds = "; ".join(f"{at.attribute} {fmt(at.anova.hsd)}" for at in a.attributes
+                         if at.anova is not None and at.anova.hsd is not None)
         limits.append(f"The smallest difference of means that matters was set at {fmt(delta)}; "
-                      "compare it with the Tukey HSD above.")
+                      "compare it with each attribute's Tukey HSD, the least difference of "
+                      "means the test declares" + (f" ({hsds})." if hsds else "."))
     limits.append("Panelists are treated as a random sample of consumers or trained "
                   "panelists; the scores are treated as interval data.")
     if a.problems:

@@ -1,4 +1,4 @@
-"""The invented demo scenario: a fictional test kitchen and three fictional trials.
+"""The invented demo scenario: a fictional test kitchen and five fictional trials.
 
 Everything here is made up for demonstration: "Harbour Lane Test Kitchen", its
 panelists (codes P01..P30, no people behind them), its recipes, batches, measurements
@@ -27,6 +27,9 @@ every time:
    signed-off batch; 16 panelists taste 6 runs each (incomplete blocks). Liking follows
    an invented second-order surface with its peak inside the region; each run's yield
    (%) and core temperature (°C) are recorded.
+7. *Lemon curd: three sugar levels* -- a ranking by sweetness with its ballots open:
+   the plan is drawn and each panelist has a tasting link, one panelist has answered.
+   A newcomer opens a link from the Serving plan screen to try the tablet screen.
 
 ``seed(store)`` adds what is missing and returns the demo trials' ids; running it again
 adds nothing. ``python -m trials.demo FOLDER`` writes the demo's CSV files (see
@@ -44,7 +47,7 @@ import numpy as np
 import pandas as pd
 
 from trials import methods, service
-from trials.model import Attribute, AttributeKind, Sample, Status, TrialSummary
+from trials.model import Attribute, AttributeKind, Sample, TrialSummary
 
 KITCHEN = "Harbour Lane Test Kitchen"
 BY = "demo (Harbour Lane Test Kitchen)"
@@ -55,7 +58,8 @@ SOUP = "Chilled tomato soup: roasted vs fresh tomatoes"
 CRUMB = "Fried chicken: house dredge vs panko crumb"
 LOAF = "Sandwich loaf: four flour blends"
 ROLLS = "Bread roll: proof time x salt x oven temperature"
-NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB, LOAF, ROLLS)
+CURD = "Lemon curd: three sugar levels"
+NAMES = (BRIOCHE, COATINGS, SOUP, CRUMB, LOAF, ROLLS, CURD)
 ROLL_FACTORS = (
     {"name": "proof time", "unit": "min", "low": 40, "high": 60, "safe_low": 30,
      "safe_high": 90},
@@ -238,8 +242,7 @@ def _coatings(store) -> int:
     rows = _scores(entries, codes, attributes, COATING_SAMPLES, EFFECTS, BASE,
                    np.random.default_rng(8587), paper=("P03", "P08"))
     _import(store, study.id, rows, dt.datetime(2026, 4, 16, 12, 0))
-    service.set_status(store, study.id, Status.TASTING, by=BY)
-    return study.id
+    return study.id  # every answer is in: the import moved the status on to analysed
 
 
 def _soup(store) -> int:
@@ -275,8 +278,7 @@ def _soup(store) -> int:
         rows.append({"session": "1", "panelist": code, "code": pick.code,
                      "attribute": "choice", "value": ""})
     _import(store, study.id, rows, dt.datetime(2026, 5, 5, 11, 0))
-    service.set_status(store, study.id, Status.ANALYSED, by=BY)
-    return study.id
+    return study.id  # every answer is in: the import moved the status on to analysed
 
 
 def _crumb(store) -> int:
@@ -392,8 +394,9 @@ def _loaf(store) -> int:
                                     seed=seed_, by=BY)
         _import(store, study.id, _loaf_scores(entries, session, rng, panel),
                 dt.datetime(2026, 6, day, 10, 0))
-    service.set_status(store, study.id, Status.ANALYSED, by=BY)
     return study.id
+
+
 def _rolls(store) -> int:
     """The recipe experiment: designed runs, signed off, tasted in incomplete blocks."""
     exp = service.create_experiment(
@@ -429,12 +432,50 @@ def _rolls(store) -> int:
     return exp.trial_id
 
 
+def _curd(store) -> int:
+    """A trial whose ballots are open: plan drawn, links made, one panelist done."""
+    samples = (
+        Sample("Curd, usual sugar", is_control=True, allergens=("egg", "milk"),
+               description="House lemon curd, 180 g sugar per litre of juice."),
+        Sample("Curd, less sugar", allergens=("egg", "milk"),
+               description="150 g sugar per litre."),
+        Sample("Curd, least sugar", allergens=("egg", "milk"),
+               description="120 g sugar per litre."),
+    )
+    study = service.create_trial(
+        store, name=CURD, method=methods.RANKING, product="lemon curd",
+        objective="Do panelists rank the curds by sweetness in the order of their sugar? "
+                  "Rank 1: the sweetest.",
+        alpha=0.05, samples=samples, created_on=dt.date(2026, 6, 1), by=BY,
+    )
+    for sample, sugar in zip(samples, (180, 150, 120)):
+        service.add_batch(
+            store, study.id, sample.name, "L1", prepared_on=dt.date(2026, 6, 2),
+            prepared_by="Pastry section",
+            settings=[("sugar", sugar, "g/L"), ("cook temperature", 82, "°C")],
+            measures=[("Brix", 58 - (180 - sugar) / 10, "°Bx")],
+            safety_signed_by="Sous chef (food safety)", safety_signed_on=dt.date(2026, 6, 2),
+            by=BY,
+        )
+    codes = _eligible(samples, 12)
+    entries = service.draw_plan(store, study.id, panelist_codes=codes, session="1", seed=8587,
+                                by=BY)
+    sweet = {s.name: rank for rank, s in enumerate(samples, start=1)}
+    rows = [{"session": "1", "panelist": codes[0], "code": e.code, "attribute": "rank",
+             "value": str(sweet[e.sample_name])}
+            for e in entries if e.panelist_code == codes[0]]
+    _import(store, study.id, rows, dt.datetime(2026, 6, 2, 15, 0))
+    for code in codes:  # every panelist's tasting link exists from the start
+        service.panelist_token(store, study.id, code)
+    return study.id
+
+
 def seed(store) -> list[int]:
     """Add the demo roster and trials that are missing; the demo trials' ids."""
     _roster(store)
     ids = []
     for name, make in ((BRIOCHE, _brioche), (COATINGS, _coatings), (SOUP, _soup),
-                       (CRUMB, _crumb), (LOAF, _loaf), (ROLLS, _rolls)):
+                       (CRUMB, _crumb), (LOAF, _loaf), (ROLLS, _rolls), (CURD, _curd)):
         found = _exists(store, name)
         ids.append(found if found is not None else make(store))
     return ids

@@ -70,6 +70,11 @@ class AttributeKind(StrEnum):
     JAR = "jar"  # just-about-right: too little .. just right .. too much
     CHECK = "check"  # a word of a check-all-that-apply list: 1 ticked, 0 not (scale 0..1)
 
+    @property
+    def label(self) -> str:
+        """The kind in words for screens and documents ("just about right", not "jar")."""
+        return "just about right" if self is AttributeKind.JAR else self.value
+
 
 @dataclass(frozen=True, slots=True)
 class Measurement(Record):

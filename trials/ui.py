@@ -284,6 +284,22 @@ def food_caution(trial_id: int | None = None) -> None:
     )
 
 
+def served_safety(trial_id: int) -> None:
+    """On the results and decision screens: batches the plan serves that are not signed
+    off for food safety, and planned samples with no batch on file."""
+    points = service.unsigned_served(store(), trial_id)
+    if points["unsigned"]:
+        names = ", ".join(literal(x) for x in points["unsigned"])
+        st.warning(f"Served batches not signed off for food safety: {names}. Record the "
+                   "sign-off on Samples and batches; a batch that was not prepared and held "
+                   "as your food code requires should not have been served.",
+                   icon=":material/health_and_safety:")
+    if points["unrecorded"]:
+        names = ", ".join(literal(x) for x in points["unrecorded"])
+        st.warning(f"No batch is recorded for {names}: record each batch with its food-safety "
+                   "sign-off on Samples and batches.", icon=":material/health_and_safety:")
+
+
 def who() -> str:
     """The name written to the audit log for the leader's changes."""
     return (st.session_state.get("leader_name") or "").strip() or "leader"
@@ -449,6 +465,24 @@ def release_key_downloads() -> None:
     elif state == "pending":
         del st.session_state[KEY_MEDIA]
         st.rerun()
+
+
+def no_none(frame, digits: int = 2):
+    """A table for the screen with empty cells as an em dash, never "None" or "nan".
+    Columns without an empty cell keep their type; a column with one becomes text
+    (numbers to ``digits`` decimals, whole numbers as they are)."""
+    def cell(v):
+        if v is None or (isinstance(v, float) and v != v):
+            return "\u2014"
+        if isinstance(v, float):
+            return f"{v:.{digits}f}"
+        return str(v)
+
+    out = frame.copy()
+    for col in out.columns:
+        if out[col].isna().any():
+            out[col] = [cell(v) for v in out[col].astype(object)]
+    return out
 
 
 def show_problem(exc: Exception) -> None:

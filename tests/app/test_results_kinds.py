@@ -70,7 +70,7 @@ def test_a_rating_with_a_just_about_right_scale_shows_its_penalty_table(store):
     jar = next(a for a in service.analyse_trial(store, study.id).attributes
                if a.attribute == "sweetness")
     assert jar.penalty is not None, jar.note
-    assert "Just-about-right: penalty analysis" in page_text(at)
+    assert "Just about right: penalty analysis" in page_text(at)
     shown = next(df.value for df in at.dataframe if "penalty" in df.value.columns)
     assert len(shown) == len(jar.penalty.rows)
     assert "sweetness" in [t.label for t in at.tabs]

@@ -38,7 +38,7 @@ def test_the_demo_seeds_its_five_trials_once(demo_url):
     first = service.list_trials(store)
     again = seed_demo(store)
     assert sorted(s.id for s in again) == sorted(s.id for s in first)
-    assert len(service.list_trials(store)) == 6  # five trials and the recipe experiment's
+    assert len(service.list_trials(store)) == 7  # six trials and the recipe experiment's
     assert len(service.list_experiments(store)) == 1
     assert len(service.list_panelists(store)) == 30
     for s in first:

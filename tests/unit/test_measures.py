@@ -156,11 +156,32 @@ def test_summaries_give_mean_sd_n_per_sample_and_an_anova_per_variable():
     assert summary.to_dict()["summaries"][0]["variable"] == "salt"
 
 
-def test_one_variable_in_two_units_is_refused_naming_both():
+def test_a_value_in_a_unit_that_cannot_be_converted_is_left_out_and_named():
     bad = [Batch("A", "1", measures=(Measurement("salt", 1.0, "g"),)),
            Batch("B", "2", measures=(Measurement("salt", 1.0, "%"),))]
-    with pytest.raises(TrialsError, match="'g', '%'"):
-        summarise_measures(bad)
+    summary = summarise_measures(bad)
+    assert [(s.sample, s.unit) for s in summary.summaries] == [("A", "g")]
+    assert summary.notes == ("'salt': values in '%' left out, because they cannot be "
+                             "stated in 'g'",)
+
+
+def test_values_in_convertible_units_are_stated_in_the_first_unit():
+    # 1 kg = 1000 g and T(K) = T(degC) + 273.15: SI definitions (BIPM, The International
+    # System of Units, 9th ed., 2019, tables 6 and 2.3.1), not a tolerance of the code.
+    mixed = [Batch("A", "1", measures=(Measurement("weight", 950.0, "g"),),
+                   settings=(Measurement("oven", 180.0, "degC"),)),
+             Batch("A", "2", measures=(Measurement("weight", 1.05, "kg"),),
+                   settings=(Measurement("oven", 453.15, "K"),)),
+             Batch("B", "3", measures=(Measurement("weight", 900.0, "g"),),
+                   settings=(Measurement("oven", 190.0, "°C"),))]
+    summary = summarise_measures(mixed)
+    by = {(s.variable, s.sample): s for s in summary.summaries}
+    assert by[("weight", "A")].unit == "g"
+    assert by[("weight", "A")].mean == pytest.approx((950.0 + 1050.0) / 2, rel=1e-12)
+    assert by[("oven", "A")].unit == "degC"
+    assert by[("oven", "A")].mean == pytest.approx(180.0, rel=1e-12)
+    assert by[("oven", "B")].mean == pytest.approx(190.0, rel=1e-12)
+    assert summary.notes == ()
 
 
 def test_relations_pair_each_sample_mean_with_its_batches_and_skip_flat_variables():

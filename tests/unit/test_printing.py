@@ -579,11 +579,23 @@ def test_the_sheet_flags_a_batch_label_with_no_record():
     assert "No unsigned batches" not in text
 
 
-def test_a_clean_session_says_no_unsigned_batches_and_no_conflicts_were_found():
+def test_a_clean_session_says_every_batch_is_signed_off_and_no_conflict_was_found():
     study = make_study("triangle")
     plan = make_plan(study, sessions=("S1",), panelists=2)
     text = page_texts(serving_sheet_pdf(study, plan, batches=make_batches()))[0]
-    assert "No unsigned batches and no allergen conflicts were found" in " ".join(text.split())
+    assert ("Every batch is signed off and no allergen conflict was found"
+            in " ".join(text.split()))
+
+
+def test_a_session_with_no_batch_recorded_says_so_rather_than_all_clear():
+    import dataclasses
+
+    study = make_study("triangle")
+    plan = [dataclasses.replace(e, batch_label="")
+            for e in make_plan(study, sessions=("S1",), panelists=2)]
+    text = " ".join(page_texts(serving_sheet_pdf(study, plan, batches=[]))[0].split())
+    assert "FOOD SAFETY: no batch is recorded for" in text
+    assert "Every batch is signed off" not in text and "No unsigned batches" not in text
 
 
 # ---------------------------------------------------------------- labels

@@ -26,9 +26,9 @@ from typing import Any
 import pandas as pd
 
 from trials.analysis import TrialAnalysis, decode_responses
-from trials.decision import Decision, decide, fmt, fmt_p, fmt_risk
+from trials.decision import Decision, Verdict, decide, fmt, fmt_p, fmt_risk
 from trials.methods import Scoring, get_method
-from trials.model import Answer, Batch, PlanEntry, Trial
+from trials.model import Answer, AttributeKind, Batch, PlanEntry, Trial
 from trials.printing.report_methods import (
     cata_results_html,
     cata_rows,
@@ -294,6 +294,23 @@ def _panel_section(a: TrialAnalysis, responses: Sequence[Answer]) -> str:
             "report holds no personal data.</p>")
 
 
+VERDICT_WORDS = {
+    Verdict.NO_ANSWERS: "no answers are on file yet",
+    Verdict.DIFFERENCE: "the samples differ",
+    Verdict.NO_DIFFERENCE: "the test did not show a difference",
+    Verdict.SIMILAR: "the samples are similar within the risks planned",
+    Verdict.NOT_SIMILAR: "the test did not show the samples similar",
+    Verdict.PREFERENCE: "the panel preferred one sample",
+    Verdict.NO_PREFERENCE: "the test did not show a preference",
+    Verdict.INCOMPLETE: "there are not enough answers for a conclusion",
+}
+
+
+def verdict_words(verdict: str) -> str:
+    """A verdict code said in words for a reader of the report."""
+    return VERDICT_WORDS.get(verdict, verdict)
+
+
 def _decision_section(d: Decision, study: Trial) -> str:
     kind = {"difference": "", "similar": "", "preference": ""}.get(d.verdict, "neutral")
     if d.verdict in ("no answers yet", "not enough data"):
@@ -304,7 +321,7 @@ def _decision_section(d: Decision, study: Trial) -> str:
     if d.limits:
         parts.append('<p class="limits">' + " ".join(e(x) for x in d.limits) + "</p>")
     parts.append(f'<p class="note">Method: {e(d.method)}; source: {e(d.reference)}. '
-                 f"Verdict code: {e(d.verdict)}.</p></div>")
+                 f"In short: {e(verdict_words(d.verdict))}.</p></div>")
     if study.decision or study.rationale:
         parts.append("<h3>Decision recorded by the panel leader</h3>")
         parts.append(_kv([("decision", study.decision), ("rationale", study.rationale)]))
@@ -358,7 +375,8 @@ def _forced_choice_results(a: TrialAnalysis, charts: _Charts) -> str:
 def _rating_results(a: TrialAnalysis, charts: _Charts) -> str:
     out = []
     for at in a.attributes:
-        out.append(f"<h3>{e(at.attribute)} ({e(at.kind)}, {at.low} to {at.high})</h3>")
+        out.append(f"<h3>{e(at.attribute)} ({e(AttributeKind(at.kind).label)}, {at.low} to "
+                   f"{at.high})</h3>")
         r = at.anova
         if r is None:
             out.append(f"<p>{e(at.note or 'Not analysed.')}</p>")
@@ -634,6 +652,13 @@ def report_pdf(study: Trial, analysis: TrialAnalysis, *,
     flow += [Paragraph("Decision", h2), Paragraph(p(decision.headline), strong)]
     flow += [Paragraph(p(x), body) for x in decision.details]
     flow += [Paragraph(p(" ".join(decision.limits)), body)] if decision.limits else []
+    if study.decision or study.rationale:
+        flow += [Paragraph("Decision recorded by the panel leader", h2),
+                 kv([("decision", study.decision or "\u2014"),
+                     ("rationale", study.rationale or "\u2014")])]
+    else:
+        flow += [Paragraph("Decision recorded by the panel leader", h2),
+                 Paragraph(p("None recorded yet (Decision and report screen)."), body)]
     flow += _pdf_results(analysis, p, body, h2, grid)
     if profile is not None and analysis.has_answers:
         from trials.printing.profile import profile_pdf

@@ -325,8 +325,13 @@ def _session(sheet: _Sheet, session, cups, samples, batch_map, found, ticker,
         sheet.text(f"ALLERGEN CONFLICT: panelist {pan} declared "
                    f"{', '.join(sorted(found[(pan, name)]))}, which {name} contains: do not "
                    "serve without the panel leader's check.", BOLD, 9.5, RED)
-    if not unsafe and not clashes:
-        sheet.text("No unsigned batches and no allergen conflicts were found for this "
+    unrecorded = [name for name in names if not batches_of(name)]
+    if unrecorded:
+        sheet.text("FOOD SAFETY: no batch is recorded for " + ", ".join(unrecorded)
+                   + ": record each batch and its food-safety sign-off before serving.",
+                   BOLD, 9.5, RED)
+    if not unsafe and not clashes and not unrecorded:
+        sheet.text("Every batch is signed off and no allergen conflict was found for this "
                    "session.", SANS, 9, gap=4)
     note = get_method(sheet.study.method).kitchen_note
     if note:

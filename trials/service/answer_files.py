@@ -43,7 +43,7 @@ from trials.errors import AnswerError, ImportRowsError, TrialsError
 from trials.methods import get_method
 from trials.model import EntryMode, PlanBook, Record, Trial
 from trials.service import _input
-from trials.service.tasting import answers_frame, checker_of, save_checked
+from trials.service.tasting import advance_status, answers_frame, checker_of, save_checked
 from trials.store import Store, limits
 from trials.store import answers as answer_rows
 from trials.store import plans as plan_rows
@@ -182,6 +182,7 @@ def import_answer_file(
         new = checked_import(book, records, entered_by=entered_by, at=at)
         note = f"{len(new)} answers from {source} ({len(records) - len(new)} already on file)"
         added = answer_rows.insert_answers(tx, book, new, by=entered_by, note=note)
+        advance_status(tx, trial_id, by=entered_by, book=book)
         return AnswerImport(rows=len(records), added=added, already=len(records) - len(new))
 
     return store.write(work)
@@ -288,6 +289,8 @@ def save_paper_sheet(store: Store, trial_id: int, session: str, frame: pd.DataFr
             save_checked(tx, book, a["session"], a["panelist"], a["code"], a["attribute"],
                          a["value"], comment="", entered_by=entered_by, entered_at=None,
                          mode=EntryMode.PAPER, checker=checker)
+        if items:
+            advance_status(tx, trial_id, by=entered_by, book=book)
         return len(items)
 
     return store.write(work)

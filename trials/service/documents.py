@@ -100,3 +100,25 @@ def write_report(store: Store, trial_id: int, path: Path) -> str:
     doc, decision = _report(store, trial_id, build)
     Path(path).write_text(doc, encoding="utf-8")
     return decision.text
+
+
+LOCAL_HOSTS = ("localhost", "127.0.0.1", "::1", "0.0.0.0", "")
+
+
+def link_address_problem(base_url: str) -> str | None:
+    """Why tasting links and QR codes made with ``base_url`` would not open on a
+    tablet (an address of this computer only, or none), or None when they can.
+
+    ``base_url`` is what the app uses for links: ``TRIALS_BASE_URL`` when set, else the
+    address the leader's browser used."""
+    from urllib.parse import urlsplit
+
+    url = (base_url or "").strip()
+    host = (urlsplit(url).hostname or "").lower() if url else ""
+    if not url:
+        return ("the app's address is not known, so the ballots carry no QR code and the "
+                "links only a path")
+    if host in LOCAL_HOSTS or host.startswith("127.") or host.endswith(".localhost"):
+        return (f"the tasting links and QR codes on the ballots would point at {url}, an "
+                "address of this computer only, which no tablet reaches")
+    return None

@@ -152,3 +152,73 @@ def critical_values_pdf(method: str) -> bytes:
     from trials.printing import critical_table_pdf
 
     return critical_table_pdf(critical_values(method)).data
+
+
+@dataclass(frozen=True, slots=True)
+class ControlComparison:
+    """Dunnett's comparisons of one rated attribute against the control
+    (``result``: :class:`trials.stats.posthoc.DunnettResult`), or why none ran."""
+
+    attribute: str
+    control: str
+    result: object | None
+    note: str = ""
+
+
+def control_comparisons(study: Trial, analysis) -> list[ControlComparison]:
+    """Each rated attribute's samples against the trial's control by Dunnett's test
+    (Dunnett 1955), with the error term the attribute's blocked ANOVA tests the sample
+    effect against (:meth:`trials.stats.ratings.RatingAnova.dunnett`). Empty when the
+    trial names no control."""
+    control = next((s.name for s in study.samples if s.is_control), "")
+    if not control:
+        return []
+    out = []
+    for at in analysis.attributes:
+        av = at.anova
+        if av is None:
+            continue
+        if control not in av.means:
+            out.append(ControlComparison(at.attribute, control, None,
+                                         f"no scores of the control {control!r}"))
+            continue
+        if not av.ms_test > 0:
+            out.append(ControlComparison(at.attribute, control, None,
+                                         "no error variation: every difference is exact"))
+            continue
+        try:
+            out.append(ControlComparison(at.attribute, control, av.dunnett(control)))
+        except TrialsError as exc:
+            out.append(ControlComparison(at.attribute, control, None, str(exc)))
+    return out
+
+
+def panel_size_words(store: Store, trial_id: int) -> str | None:
+    """The panel size of a discrimination trial said in the words of its aim: for a
+    difference test, the count that concludes a difference and the power at pd; for a
+    similarity test (:func:`trials.analysis.planned_similarity`), the largest count
+    that still concludes similarity and the two risks in similarity terms (ISO
+    4120:2021 treats both aims with one table of n, the similarity aim putting the
+    weight on a small beta). None where no panel size applies."""
+    from trials.analysis import planned_similarity
+    from trials.stats.discrimination import similarity_test
+
+    with store.read() as tx:
+        study = trial_rows.get_trial(tx, trial_id)
+    answer = panel_size_needed(store, trial_id)
+    if answer is None:
+        return None
+    spec = get_method(study.method)
+    if not planned_similarity(study):
+        return (f"With **{answer.n}** panelists a {spec.label.lower()} concludes a difference "
+                f"from **{answer.critical}** correct answers, with alpha = {study.alpha:g}, and "
+                f"detects pd = {study.pd:g} with power {answer.power:.2f} "
+                f"(beta = {study.beta:g}).")
+    sim = similarity_test(0, answer.n, method=study.method, pd=study.pd, beta=study.beta)
+    most = ("no count" if sim.max_correct is None
+            else f"at most **{sim.max_correct}** correct answers")
+    return (f"With **{answer.n}** panelists a {spec.label.lower()} concludes that the samples "
+            f"are similar (fewer than pd = {study.pd:g} discriminators) from {most}. The risk "
+            f"that matters here is beta = {study.beta:g}: calling the samples similar when a "
+            f"proportion pd = {study.pd:g} of panelists can tell them apart; alpha = "
+            f"{study.alpha:g} is the risk of declaring a difference when nobody can.")

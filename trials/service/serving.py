@@ -8,6 +8,7 @@ from __future__ import annotations
 import warnings
 from collections import Counter, defaultdict
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 import pandas as pd
 
@@ -207,22 +208,52 @@ def panel_choice(store: Store, trial_id: int) -> PanelChoice:
     )
 
 
-def plan_balance(store: Store, trial_id: int) -> dict[str, pd.DataFrame]:
+def plan_balance(store: Store, trial_id: int) -> dict[str, Any]:
     """How balanced the drawn plan is: cups of each sample at each position, and (forced
-    choice) how often each set pattern is served. Empty frames without a plan."""
-    entries = plan(store, trial_id)
+    choice) how often each set pattern is served (DataFrames, empty without a plan);
+    ``statements``: the balance reached, one sentence per session
+    (:func:`trials.design.balance.plan_balance`); ``letters``: which sample is A and
+    which B in the patterns."""
+    from trials.design.balance import plan_balance as balance_of
+
+    with store.read() as tx:
+        method = trial_rows.get_trial(tx, trial_id).method
+        entries = plan_rows.plan_entries(tx, trial_id)
     if not entries:
-        return {"positions": pd.DataFrame(), "patterns": pd.DataFrame()}
+        return {"positions": pd.DataFrame(), "patterns": pd.DataFrame(), "statements": [],
+                "letters": {}}
     frame = pd.DataFrame([e.to_dict() for e in entries])
     positions = pd.crosstab(frame["sample_name"], frame["position"])
     positions.index.name, positions.columns.name = "sample", "position"
-    out = {"positions": positions, "patterns": pd.DataFrame()}
+    sessions = balance_of(method, entries)
+    many = len(sessions) > 1
+    out: dict[str, Any] = {
+        "positions": positions, "patterns": pd.DataFrame(),
+        "statements": [(f"Session {b.session}: " if many else "") + b.statement
+                       for b in sessions],
+        "letters": {e.role: e.sample_name for e in entries if e.role in ("A", "B")},
+    }
     if frame["role"].astype(str).str.len().gt(0).any():
         pats = (frame.sort_values("position").groupby(["session", "panelist_code", "set_index"])
                 ["role"].agg("".join))
         counts = pats.value_counts().rename_axis("pattern").reset_index(name="sets")
         out["patterns"] = counts.sort_values("pattern").reset_index(drop=True)
     return out
+
+
+KEY_COLUMNS = {"session": "Session", "panelist_code": "Panelist", "position": "Position",
+               "code": "Code", "sample_name": "Sample", "set_index": "Set", "role": "Role",
+               "batch_label": "Batch"}
+
+
+def plan_table(store: Store, trial_id: int) -> pd.DataFrame:
+    """The plan with the decoding key as the leader reads it: headed as on the serving
+    sheet (Session, Panelist, Position, Code, Sample, Set, Role, Batch), sets numbered
+    from 1 as printed."""
+    entries = plan(store, trial_id)
+    frame = pd.DataFrame([e.to_dict() for e in entries], columns=list(KEY_COLUMNS))
+    frame["set_index"] = frame["set_index"] + 1
+    return frame.rename(columns=KEY_COLUMNS)
 
 
 def panelist_token(store: Store, trial_id: int, panelist_code: str) -> str:

@@ -22,11 +22,15 @@ from trials.model import (
     EntryMode,
     PanelistBallot,
     PlanBook,
+    Status,
 )
 from trials.service import _input
 from trials.store import Store
 from trials.store import answers as answer_rows
 from trials.store import plans as plan_rows
+from trials.store import trials as trial_rows
+
+AUTOMATIC = "automatic"  # who moves a trial's status on by itself, in the audit log
 
 
 def checker_of(book: PlanBook) -> AnswerChecker:
@@ -59,6 +63,47 @@ def ballot_for_token(store: Store, token: str) -> PanelistBallot:
         attributes=attributes if spec.scores_each_cup else (),
         answers=answers, remaining=max(0, expected - len(answers)),
     )
+
+
+def _expected(book: PlanBook) -> int:
+    """How many answers the plan of ``book`` expects (:func:`trials.answers.expected_answers`
+    per panelist and session)."""
+    sizes: dict[tuple[str, str], dict[int, int]] = {}
+    for e in book.entries:
+        sets = sizes.setdefault((e.session, e.panelist_code), {})
+        sets[e.set_index] = sets.get(e.set_index, 0) + 1
+    spec = get_method(book.trial.method)
+    return sum(expected_answers(spec, v.values(), attributes=len(book.trial.attributes))
+               for v in sizes.values())
+
+
+def advance_status(tx, trial_id: int, *, by: str, book: PlanBook) -> None:
+    """Move the trial's status on after answers were recorded (audited, forward only):
+    to ``tasting`` with the first answer, to ``analysed`` once every expected answer is
+    in. A status the leader set further on (decided) stays.
+
+    ``book`` is the plan the answers were checked against: the whole trial's, or one
+    panelist's (the tablet's), whose count is checked first so that the whole plan is
+    read only when that panelist's ballot is complete. The store keeps one answer per
+    question of the plan, so a count equal to the plan's expected answers means all in.
+    """
+    order = list(Status)
+    status = book.trial.status
+    if order.index(status) >= order.index(Status.ANALYSED):
+        return
+    who = f"{by} ({AUTOMATIC})"
+    if order.index(status) < order.index(Status.TASTING):
+        if not answer_rows.count_answers(tx, trial_id):
+            return
+        trial_rows.advance_status(tx, trial_id, Status.TASTING, who)
+    whole = book
+    if len(book.panelist_ids) == 1:
+        [pid] = book.panelist_ids.values()
+        if answer_rows.count_answers(tx, trial_id, panelist_id=pid) < _expected(book):
+            return
+        whole = answer_rows.plan_book(tx, trial_id)
+    if answer_rows.count_answers(tx, trial_id) >= _expected(whole):
+        trial_rows.advance_status(tx, trial_id, Status.ANALYSED, who)
 
 
 def save_checked(tx, book: PlanBook, session: str, panelist: str, code: str,
@@ -100,9 +145,11 @@ def record_answer(
                 raise TrialsError(f"say which session; panelist {panelist!r} is served in "
                                   f"{', '.join(map(repr, mine)) or 'none'}")
             sess = mine[0]
-        return save_checked(tx, book, sess, panelist, code, attribute, value,
-                            comment=comment, entered_by=panelist, entered_at=None,
-                            mode=EntryMode.TABLET)
+        answer = save_checked(tx, book, sess, panelist, code, attribute, value,
+                              comment=comment, entered_by=panelist, entered_at=None,
+                              mode=EntryMode.TABLET)
+        advance_status(tx, trial_id, by=panelist, book=book)
+        return answer
 
     return store.write(work)
 
@@ -126,9 +173,11 @@ def enter_answer(
 
     def work(tx) -> Answer:
         book = answer_rows.plan_book(tx, trial_id)
-        return save_checked(tx, book, session, panelist_code, code, attribute, value,
-                            comment=comment, entered_by=entered_by, entered_at=entered_at,
-                            mode=mode)
+        answer = save_checked(tx, book, session, panelist_code, code, attribute, value,
+                              comment=comment, entered_by=entered_by, entered_at=entered_at,
+                              mode=mode)
+        advance_status(tx, trial_id, by=entered_by, book=book)
+        return answer
 
     return store.write(work)
 
@@ -204,3 +253,25 @@ def audit_log(store: Store, trial_id: int) -> list[AuditEntry]:
     """Every change to a trial, oldest first (roster changes are under no trial)."""
     with store.read() as tx:
         return answer_rows.audit_log(tx, trial_id)
+
+
+AUDIT_WHAT = {"study": "trial", "sample": "sample", "attribute": "attribute",
+              "batch": "batch", "batch_value": "batch value", "panelist": "panelist",
+              "plan_entry": "serving plan", "response": "answer",
+              "tasting_session": "session"}
+
+
+def audit_table(store: Store, trial_id: int, *, last: int = 500) -> pd.DataFrame:
+    """The trial's audit log as the leader reads it, newest last: columns ``When Who
+    What Record Field Old New`` ("What" in the words of DEVELOPERS.md, "trial" for the
+    table ``study``; "Record" the number of the changed record); empty values as an em
+    dash, never "None"."""
+    log = audit_log(store, trial_id)[-last:]
+    dash = "\u2014"
+    return pd.DataFrame([{
+        "When": e.at.strftime("%Y-%m-%d %H:%M:%S") if e.at else dash, "Who": e.who or dash,
+        "What": AUDIT_WHAT.get(e.table, e.table.replace("_", " ")),
+        "Record": dash if e.row_id is None else str(e.row_id), "Field": e.field or dash,
+        "Old": dash if e.old in (None, "") else e.old,
+        "New": dash if e.new in (None, "") else e.new,
+    } for e in log], columns=["When", "Who", "What", "Record", "Field", "Old", "New"])

@@ -5,14 +5,16 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
 from typing import Any
 
 from trials.answers import CHOICE, RANK, RESPONSE
 from trials.errors import TrialsError
-from trials.methods import get_method
+from trials.methods import Family, get_method
 from trials.model import (
     Attribute,
     AttributeKind,
+    Record,
     Sample,
     Status,
     Trial,
@@ -238,3 +240,54 @@ def change_stamp(store: Store, trial_id: int) -> tuple[int, int]:
     """
     with store.read() as tx:
         return trial_rows.change_stamp(tx, trial_id)
+
+
+@dataclass(frozen=True, slots=True)
+class NextStep(Record):
+    """What the leader does next with a trial: ``step`` a short key (``samples``,
+    ``attributes``, ``plan``, ``ballots``, ``answers``, ``results``, ``report``),
+    ``screen`` the menu entry that does it, ``text`` the advice in one sentence."""
+
+    step: str
+    screen: str
+    text: str
+
+
+def next_step(store: Store, trial_id: int) -> NextStep:
+    """The next thing to do for a trial, read from what is on file: samples, attributes
+    (ratings), the serving plan, the answers against those expected, the decision."""
+    from trials.service.tasting import answer_progress
+
+    view = trial_overview(store, trial_id)
+    spec = get_method(view.method)
+    if len(view.samples) < 2:
+        return NextStep("samples", "Samples and batches",
+                        f"Add the samples: a {spec.label.lower()} compares "
+                        f"{'two' if spec.is_forced_choice else 'two or more'}; "
+                        f"{len(view.samples)} on file.")
+    if spec.family == Family.RATING and not view.attributes:
+        return NextStep("attributes", "Samples and batches",
+                        "Add the rated attributes (what the panelists score, on which scale).")
+    if not view.plan_size:
+        return NextStep("plan", "Serving plan",
+                        "Draw the serving plan: choose the panelists and a seed.")
+    if view.status == Status.DECIDED:
+        return NextStep("report", "Decision and report",
+                        f"Decision on file ({view.decision}): download the report for the file.")
+    progress = answer_progress(store, trial_id)
+    expected = int(progress["expected"].sum()) if not progress.empty else 0
+    answered = int(progress["answered"].clip(upper=progress["expected"]).sum()
+                   ) if not progress.empty else 0
+    if not view.responses:
+        return NextStep("ballots", "Printing",
+                        "Open the ballots: hand out the tasting links (Serving plan) or print "
+                        "the ballots, then type the paper ones in (Paper entry).")
+    if answered < expected:
+        return NextStep("answers", "Paper entry",
+                        f"{answered} of {expected} answers are in: panelists answer on their "
+                        "own tasting links (Serving plan lists them; open one to try the "
+                        "tablet screen), paper ballots are typed in here; the results so far "
+                        "are on Results.")
+    return NextStep("results", "Results",
+                    "Every expected answer is in: read the results, then record the decision "
+                    "(Decision and report).")

@@ -29,6 +29,7 @@ from scipy import stats as sps
 
 from trials.errors import TrialsError
 from trials.model import Batch, Record
+from trials.units import UnitError, convert, parse_unit
 
 SMALL_SAMPLE_NOTE = (
     "few points: a descriptive trend over the samples tried, not proof that the "
@@ -128,6 +129,8 @@ class MeasuresSummary(Record):
 
     summaries: tuple[VariableSummary, ...]
     anovas: tuple[OneWayAnova, ...]
+    # values left out because their unit cannot be converted to the variable's unit
+    notes: tuple[str, ...] = ()
 
     @property
     def empty(self) -> bool:
@@ -278,12 +281,16 @@ def summarise_measures(batches: Iterable[Batch] | pd.DataFrame) -> MeasuresSumma
 
     Notes
     -----
-    The unit of a variable is the first one recorded for it; a variable recorded with
-    two different units raises :class:`TrialsError` rather than mixing them.
+    The unit of a variable is the first one recorded for it; values recorded in
+    another unit of the same kind of quantity (°C and K, g and kg) are converted to it
+    with :func:`trials.units.convert` (pint). A value whose unit cannot be read or
+    converted (g against °C) is left out, and ``notes`` says which; an empty unit is
+    read as the variable's unit.
     """
     frame = batches if isinstance(batches, pd.DataFrame) else batch_table(batches)
     summaries: list[VariableSummary] = []
     anovas: list[OneWayAnova] = []
+    notes: list[str] = []
     if frame.empty:
         return MeasuresSummary((), ())
     order = {"measure": 0, "setting": 1}
@@ -292,10 +299,9 @@ def summarise_measures(batches: Iterable[Batch] | pd.DataFrame) -> MeasuresSumma
     sample_order = list(dict.fromkeys(frame["sample"]))
     for kind, variable in keys:
         sub = frame[(frame["kind"] == kind) & (frame["variable"] == variable)]
-        units = [u for u in dict.fromkeys(sub["unit"]) if u]
-        if len(units) > 1:
-            raise TrialsError(f"variable {variable!r} is recorded in different units: {units!r}")
-        unit = units[0] if units else ""
+        sub, unit, note = _in_one_unit(sub, variable)
+        if note:
+            notes.append(note)
         groups: dict[str, list[float]] = {}
         for s in sample_order:
             vals = sub.loc[sub["sample"] == s, "value"].astype(float).tolist()
@@ -307,7 +313,39 @@ def summarise_measures(batches: Iterable[Batch] | pd.DataFrame) -> MeasuresSumma
             summaries.append(VariableSummary(variable, unit, kind, s, len(arr),
                                              float(arr.mean()), sd))
         anovas.append(one_way_anova(groups, variable=variable, unit=unit, kind=kind))
-    return MeasuresSummary(tuple(summaries), tuple(anovas))
+    return MeasuresSummary(tuple(summaries), tuple(anovas), tuple(notes))
+
+
+def _in_one_unit(sub: pd.DataFrame, variable: str) -> tuple[pd.DataFrame, str, str]:
+    """One variable's rows with every value stated in its first readable unit; the rows
+    whose unit cannot be converted are dropped and named in the note."""
+    readable = []
+    for u in dict.fromkeys(sub["unit"]):
+        try:
+            parse_unit(u)
+        except UnitError:
+            continue
+        if u:
+            readable.append(u)
+    unit = readable[0] if readable else ""
+    values: list[float | None] = []
+    left_out: list[str] = []
+    for value, u in zip(sub["value"].astype(float), sub["unit"]):
+        try:
+            values.append(convert(value, u, unit))
+        except UnitError:
+            values.append(None)
+            if u not in left_out:
+                left_out.append(u)
+    out = sub.assign(value=values)
+    out = out[out["value"].notna()]
+    note = ""
+    if left_out:
+        shown = ", ".join(repr(u) for u in left_out)
+        note = (f"{variable!r}: values in {shown} left out, because they cannot be stated "
+                f"in {unit!r}" if unit else f"{variable!r}: values in {shown} left out, "
+                "because the unit is not one this tool knows")
+    return out, unit, note
 
 
 # --------------------------------------------------------------------------- relations

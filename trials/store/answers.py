@@ -122,6 +122,14 @@ def list_answers(s: Session, trial_id: int, *, panelist_code: str | None = None)
     return [rows.response_record(r, sess, p) for r, sess, p in s.execute(q)]
 
 
+def count_answers(s: Session, trial_id: int, *, panelist_id: int | None = None) -> int:
+    """How many answers are on file for the trial (or one panelist of it)."""
+    query = sa.select(sa.func.count(ResponseRow.id)).where(ResponseRow.study_id == trial_id)
+    if panelist_id is not None:
+        query = query.where(ResponseRow.panelist_id == panelist_id)
+    return int(s.scalar(query) or 0)
+
+
 def audit_log(s: Session, trial_id: int) -> list[AuditEntry]:
     """Every change to a trial, oldest first."""
     trial = rows.trial_row(s, trial_id)

@@ -61,6 +61,26 @@ def sign_off(s: Session, trial_id: int, sample_name: str, label: str, *, who: st
     return rows.batch_record(row)
 
 
+def set_value(s: Session, trial_id: int, sample_name: str, label: str, *, kind: str,
+              name: str, value: str, unit: str, by: str) -> Batch:
+    """Change one recorded value of a batch (its value and unit), each change audited."""
+    trial = rows.trial_row(s, trial_id)
+    sample = rows.sample_by_name(trial, sample_name)
+    batch = next((b for b in sample.batches if b.label == label), None)
+    if batch is None:
+        raise NotFoundError(f"sample {sample_name!r} has no batch labelled {label!r}")
+    old = next((v for v in batch.values if v.kind == kind and v.name == name), None)
+    if old is None:
+        raise NotFoundError(f"batch {sample_name!r} / {label!r} has no {kind} named {name!r}")
+    stored, is_number = rows.value_text(value)
+    if old.value != stored:
+        rows.audit(s, trial.id, by, "batch_value", old.id, f"{name} value", old.value, stored)
+    if (old.unit or "") != unit:
+        rows.audit(s, trial.id, by, "batch_value", old.id, f"{name} unit", old.unit, unit)
+    old.value, old.unit, old.is_number = stored, unit, is_number
+    return rows.batch_record(batch)
+
+
 def sample_names(s: Session, trial_id: int) -> set[str]:
     return {x.name for x in rows.trial_row(s, trial_id).samples}
 

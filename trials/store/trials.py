@@ -91,6 +91,18 @@ def update_fields(s: Session, trial_id: int, changes: dict[str, Any], by: str) -
             rows.audit(s, row.id, by, "study", row.id, key, old, value)
 
 
+def advance_status(s: Session, trial_id: int, status: Status, by: str) -> bool:
+    """Move a trial's status forward to ``status`` (audited); never backwards, so a
+    status the leader set further on stays. True when it moved."""
+    row = rows.trial_row(s, trial_id)
+    order = list(Status)
+    if order.index(Status(row.status)) >= order.index(status):
+        return False
+    rows.audit(s, row.id, by, "study", row.id, "status", row.status, status.value)
+    row.status = status.value
+    return True
+
+
 def add_sample(s: Session, trial: StudyRow, sample: Sample, by: str) -> SampleRow:
     """Append a sample to a trial's row (names unique, one control at most)."""
     if any(x.name == sample.name for x in trial.samples):
