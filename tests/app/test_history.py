@@ -4,10 +4,10 @@ from tests.app.conftest import page_test
 
 
 def test_history_lists_the_demo_trials_and_searches_by_process_setting(demo_db):
-    # five demo trials (trials/demo.py): the fifth, a ranking with open ballots
+    # seven demo trials (trials/demo.py), the recipe experiment's among them
     at = page_test("history").run()
     assert not at.exception
-    assert "5 trial(s) match." in [c.value for c in at.caption]
+    assert "7 trial(s) match." in [c.value for c in at.caption]
     at.text_input[0].input("fryer temperature").run()
     assert not at.exception
     assert "2 trial(s) match." in [c.value for c in at.caption]
@@ -19,7 +19,8 @@ def test_history_lists_the_demo_trials_and_searches_by_process_setting(demo_db):
 def test_history_shows_the_control_trend_for_a_rated_control(demo_db):
     at = page_test("history").run()
     # the control of the most rated trials comes first
-    assert at.selectbox[1].options == ["Plain flour dredge"]
+    # (the fried-chicken control, rated in two trials; the loaf profile's control, in one)
+    assert at.selectbox[1].options == ["Plain flour dredge", "White tin loaf"]
     assert not at.exception
     trend = at.dataframe[-1].value
     assert set(trend["attribute"]) == {"overall liking", "crispness", "saltiness"}

@@ -69,7 +69,7 @@ def test_the_results_screen_shows_the_profile_and_the_departing_panelist(app_db)
     assert metrics["Pillai's trace"] == f"{prof.manova.pillai:.3f}"
     assert [t.label for t in at.tabs][-3:] == ["Map (PCA biplot)", "Spider chart", "Tables"]
     # the panel performance view, on bitterness: the interaction and who reverses it
-    by_label(at.selectbox, "Attribute").select("bitterness")
+    at.selectbox(key="perf_attribute").select("bitterness")
     by_label(at.toggle, "Show panel performance").set_value(True)
     at.run()
     assert not at.exception, [e.message for e in at.exception]

@@ -275,11 +275,15 @@ def test_the_results_screen_shows_panel_performance_when_asked(demo_db):
     assert not at.exception, [e.message for e in at.exception]
     attribute = at.selectbox(key="perf_attribute").value
     perf = service.panel_performance_of(service.open_store(demo_db), trial_id, attribute)
-    assert len(at.dataframe) == n_tables + 1
+    # the panel performance table and the sample x panelist interaction table
+    assert len(at.dataframe) == n_tables + 2
     codes = [p.panelist for p in perf.panelists]
     shown = [df.value for df in at.dataframe
              if list(df.value.index) == codes or list(df.value.get("panelist", [])) == codes]
-    assert len(shown) == 1
+    # one table per view, every panelist in each: performance, then the interaction
+    assert len(shown) == 2
+    assert {"agreement", "flags"} <= set(shown[0].columns)
+    assert {"r", "slope", "share"} <= set(shown[1].columns)
 
 
 def test_the_set_up_screen_saves_the_risks_and_the_aim(small_trials):
