@@ -88,8 +88,10 @@ from trials.service.tasting import (
     audit_log,
     ballot_for_token,
     enter_answer,
+    finish_ballot,
     list_answers,
     record_answer,
+    record_comment,
 )
 from trials.service.trials import (
     add_attribute,
@@ -119,7 +121,8 @@ __all__ = [
     "list_batches", "list_panelists", "list_trials", "measures_frame", "open_store",
     "paper_sheet", "panel_choice", "panel_performance_of", "panelist_links", "panelist_token",
     "plan", "plan_balance", "panel_size_needed", "power_curve", "print_bytes", "print_document",
-    "print_result", "record_answer", "record_decision", "enter_answer", "report_html",
-    "report_pdf", "list_answers", "answers_frame", "save_paper_sheet", "set_status",
+    "print_result", "record_answer", "record_comment", "finish_ballot", "record_decision",
+    "enter_answer", "report_html", "report_pdf", "list_answers", "answers_frame",
+    "save_paper_sheet", "set_status",
     "sign_off_batch", "trial_decision", "trial_overview", "update_trial", "write_report",
 ]

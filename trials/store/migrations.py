@@ -13,7 +13,9 @@ Versions:
    answers (empty: read from the objective's wording, see ``trials.analysis``);
 4. ``study.target_sample``: the sample a target-by-role method (2-AFC, 3-AFC) expects
    to be stronger in the attribute, chosen at set-up (empty for other methods, and for
-   trials set up before version 4: their analysis reads the target from the plan's roles).
+   trials set up before version 4: their analysis reads the target from the plan's roles);
+5. ``ballot_finish``: a panelist's Finish on the tablet, per session, after which the
+   tablet no longer changes that session's answers.
 
 To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
 change the mapping in ``schema.py`` to match, and keep the test that upgrades a
@@ -45,13 +47,18 @@ def _v4_study_target_sample(conn: Connection) -> None:
         "ALTER TABLE study ADD COLUMN target_sample VARCHAR(200) NOT NULL DEFAULT ''"))
 
 
+def _v5_ballot_finish(conn: Connection) -> None:
+    Base.metadata.tables["ballot_finish"].create(conn)
+
+
 # version reached -> (step, note); the step upgrades from version - 1
 STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
     2: (_v2_study_product, "study.product"),
     3: (_v3_study_aim, "study.aim"),
     4: (_v4_study_target_sample, "study.target_sample"),
+    5: (_v5_ballot_finish, "ballot_finish"),
 }
-LATEST = 4
+LATEST = 5
 
 
 def current_version(conn: Connection) -> int | None:
