@@ -211,13 +211,13 @@ def rate_step(ballot, spec, step, index: int, total: int) -> None:
         have = given.get((code, attr.name))
         st.markdown(f"#### {ui.literal(attr.name)}"
                     + (f" · you gave **{ui.literal(have)}**" if have else ""))
-        with st.container(key=f"scale_{i}"):
+        with st.container(key=f"scale_{code}_{i}"):
             points = answers.scale_points(attr)
             for col, (p, words) in zip(st.columns(len(points), gap="xxsmall"), points):
                 label = f"**{p}**" + (f" {ui.literal(words)}" if words else "")
+                # the chosen point is filled, and named beside the scale's name
                 col.button(label, key=f"score_{session}_{code}_{i}_{p}", width="stretch",
                            type="primary" if have == str(p) else "secondary",
-                           icon=":material/check_circle:" if have == str(p) else None,
                            on_click=_save, args=(code, attr.name, str(p)),
                            kwargs={"session": session})
     saved = next((a.comment for a in ballot.answers if a.session == session and a.code == code

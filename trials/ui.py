@@ -501,21 +501,32 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
 .stButton button[kind="primary"]:disabled { background-color: #c9ced8; border-color: #c9ced8;
     color: #3b3f48; }
 .stButton button[kind="secondary"] { border: 2px solid #5b6270; color: #1f2330; }
-/* scale points: the number large, the scale's words below it */
-[class*="st-key-scale_"] .stButton button { min-height: 5.5rem; padding: 0.35rem 0.15rem; }
+/* scale points: the number large, the scale's words below it, whole words only */
+[class*="st-key-scale_"] .stButton button { min-height: 5.5rem; padding: 0.3rem 0.1rem; }
 [class*="st-key-scale_"] .stButton button p {
-    font-size: 0.95rem; font-weight: 500; line-height: 1.2; white-space: normal;
-    hyphens: auto;
+    font-size: 0.8rem; font-weight: 500; line-height: 1.15; white-space: normal;
+    word-break: normal; overflow-wrap: normal;
 }
 [class*="st-key-scale_"] .stButton button p strong {
     display: block; font-size: 1.7rem; font-weight: 700;
 }
+@media (max-width: 640px) {  /* a phone stacks the points: number and words on one line */
+    [class*="st-key-scale_"] .stButton button {
+        min-height: 3.4rem; justify-content: flex-start; padding: 0.3rem 0.9rem;
+    }
+    [class*="st-key-scale_"] .stButton button p { font-size: 1.1rem; text-align: left; }
+    [class*="st-key-scale_"] .stButton button p strong {
+        display: inline-block; min-width: 2.4rem; font-size: 1.5rem;
+    }
+}
+.stButton button:focus-visible { box-shadow: 0 0 0 0.2rem #7aa7e6; outline: none; }
 [data-testid="stTextArea"] textarea { font-size: 1.25rem; }
 [data-testid="stWidgetLabel"] p { font-size: 1.2rem; color: inherit; }
 .kt-code {
     font-size: 3rem; font-weight: 700; letter-spacing: 0.08em; text-align: center;
     border: 3px solid currentColor; border-radius: 1rem; padding: 0.4rem 0; margin: 0.5rem auto;
     max-width: 14rem; font-variant-numeric: tabular-nums;
+    margin-left: auto !important; margin-right: auto !important;
 }
 .kt-choice { font-size: 2rem; font-weight: 700; text-align: center; margin: 0.5rem 0; }
 .kt-step, .kt-note { font-size: 1.1rem; margin: 0; }

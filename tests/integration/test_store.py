@@ -104,7 +104,8 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         versions = conn.execute(
             sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
-                                            (3, "study.aim"), (4, "study.target_sample")]
+                                            (3, "study.aim"), (4, "study.target_sample"),
+                                            (5, "ballot_finish")]
     study = service.get_trial(store, 1)
     assert (study.name, study.objective, study.product, study.aim, study.target_sample) == (
         "Old trial", "kept from v1", "", "", "")
@@ -117,7 +118,9 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:
-        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 4
+        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 5
+        # version 5's table is there and empty
+        assert conn.execute(sa.text("SELECT count(*) FROM ballot_finish")).scalar() == 0
     again.close()
 
 
