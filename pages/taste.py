@@ -213,7 +213,7 @@ def rate_step(ballot, spec, step, index: int, total: int) -> None:
                     + (f" · you gave **{ui.literal(have)}**" if have else ""))
         with st.container(key=f"scale_{code}_{i}"):
             points = answers.scale_points(attr)
-            for col, (p, words) in zip(st.columns(len(points), gap="xxsmall"), points):
+            for col, (p, words) in zip(st.columns(len(points), gap=2), points):
                 label = f"**{p}**" + (f" {ui.literal(words)}" if words else "")
                 # the chosen point is filled, and named beside the scale's name
                 col.button(label, key=f"score_{session}_{code}_{i}_{p}", width="stretch",
@@ -279,10 +279,12 @@ def review(ballot, spec, steps, session: str) -> None:
             v = got[0][1] if got else ""
             what = (f"Cups {_codes_line(step.codes)}: you chose "
                     + ("no preference" if v == NO_PREFERENCE else f"**{v}**"))
+        notes = answers.step_comments(step, ballot.answers)
+        if notes:
+            what += "  \nYour comment: " + " / ".join(ui.literal(n) for n in notes)
         left, right = st.columns([3, 1], vertical_alignment="center")
         left.markdown(what)
-        right.button("Change", key=f"change_{i}", width="stretch", on_click=_go, args=(i,),
-                     help=None)
+        right.button("Change", key=f"change_{i}", width="stretch", on_click=_go, args=(i,))
     st.button("Finish", key="nav_finish", type="primary", width="stretch",
               icon=":material/check_circle:", on_click=_finish, args=(session,))
 

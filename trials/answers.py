@@ -403,6 +403,21 @@ def step_answers(step: Step, answers: Sequence[Any],
     return tuple((c, ranks[c]) for c in step.codes if c in ranks)
 
 
+def step_comments(step: Step, answers: Sequence[Any]) -> tuple[str, ...]:
+    """The panelist's comments on the cups of ``step`` (see :func:`comment_question`)."""
+    def mine(a: Any) -> bool:
+        if a.session != step.session or not a.comment:
+            return False
+        if step.kind == "choose":
+            return a.attribute == CHOICE and bool(set(a.code.split()) & set(step.codes)
+                                                  or not a.code)
+        if step.kind == "rate":
+            return a.code == step.code
+        return a.attribute == RANK and a.code in step.codes
+
+    return tuple(a.comment for a in answers if mine(a))
+
+
 # --------------------------------------------------------------------------- paper entry
 
 

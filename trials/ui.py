@@ -504,8 +504,8 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
 /* scale points: the number large, the scale's words below it, whole words only */
 [class*="st-key-scale_"] .stButton button { min-height: 5.5rem; padding: 0.3rem 0.1rem; }
 [class*="st-key-scale_"] .stButton button p {
-    font-size: 0.8rem; font-weight: 500; line-height: 1.15; white-space: normal;
-    word-break: normal; overflow-wrap: normal;
+    font-size: 0.76rem; font-weight: 500; line-height: 1.15; white-space: normal;
+    word-break: normal; overflow-wrap: normal; letter-spacing: -0.01em;
 }
 [class*="st-key-scale_"] .stButton button p strong {
     display: block; font-size: 1.7rem; font-weight: 700;
@@ -531,7 +531,7 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
 .kt-choice { font-size: 2rem; font-weight: 700; text-align: center; margin: 0.5rem 0; }
 .kt-step, .kt-note { font-size: 1.1rem; margin: 0; }
 [data-testid="stMainBlockContainer"] {
-    padding: 1.5rem 0.9rem 3rem 0.9rem; max-width: 60rem;
+    padding: 1.5rem 0.6rem 3rem 0.6rem; max-width: 60rem;
 }
 [data-testid="stSidebar"], [data-testid="stSidebarCollapsedControl"] { display: none; }
 header[data-testid="stHeader"] { display: none; }

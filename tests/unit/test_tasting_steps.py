@@ -78,3 +78,15 @@ def test_a_steps_answers_for_the_review_are_this_panelists_own_in_ballot_order()
     none = [BallotAnswer("1", "", "choice", answers.NO_PREFERENCE)]
     _spec, [step] = _steps(PAIRED_PREFERENCE, codes=("101", "202"), given=none)
     assert answers.step_answers(step, none, []) == (("chosen", answers.NO_PREFERENCE),)
+
+
+def test_a_steps_comments_are_those_on_its_own_cups():
+    given = [BallotAnswer("1", "202", "liking", "7", "grainy"),
+             BallotAnswer("1", "101", "liking", "3", "sour"),
+             BallotAnswer("2", "202", "liking", "1", "other session")]
+    _spec, steps = _steps(RATING, given=given)
+    assert answers.step_comments(steps[1], given) == ("grainy",)
+    assert answers.step_comments(steps[2], given) == ()
+    pick = [BallotAnswer("1", "", "choice", answers.NO_PREFERENCE, "both fine")]
+    _spec, [step] = _steps(PAIRED_PREFERENCE, codes=("101", "202"), given=pick)
+    assert answers.step_comments(step, pick) == ("both fine",)
