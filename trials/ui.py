@@ -529,7 +529,7 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
     margin-left: auto !important; margin-right: auto !important;
 }
 .kt-choice { font-size: 2rem; font-weight: 700; text-align: center; margin: 0.5rem 0; }
-.kt-step, .kt-note { font-size: 1.1rem; margin: 0; }
+.kt-step, .kt-note { font-size: 1.1rem; margin: 0 0 0.4rem 0; }
 [data-testid="stMainBlockContainer"] {
     padding: 1.5rem 0.6rem 3rem 0.6rem; max-width: 60rem;
 }

@@ -13,6 +13,7 @@ Android's material guidance, 44 pt in Apple's; WCAG 2.2 SC 2.5.8 asks only 24 px
 
 from __future__ import annotations
 
+import shutil
 from pathlib import Path
 
 import pytest
@@ -60,7 +61,8 @@ class Walk:
         self.page.wait_for_function(
             "() => { const app = document.querySelector('[data-testid=\"stApp\"]');"
             " return app && app.getAttribute('data-test-script-state') === 'notRunning'"
-            " && !document.querySelector('[data-testid=\"stSkeleton\"]'); }",
+            " && !document.querySelector('[data-testid=\"stSkeleton\"]')"
+            " && !document.querySelector('[data-stale=\"true\"]'); }",  # faded, mid-run
             timeout=TIMEOUT)
         self.page.wait_for_timeout(120)
 
@@ -111,6 +113,7 @@ class Walk:
         box = self.page.locator(f".st-key-comment_{session}_{code} textarea")
         box.fill(text)
         box.press("Tab")  # a text area sends its value when it loses focus
+        self.page.wait_for_timeout(400)  # the run it starts
         self.settled()
 
 
@@ -281,7 +284,8 @@ def test_a_ballot_walked_on_a_touch_screen_keeps_the_last_answers(server, browse
     context = browser.new_context(viewport={"width": width, "height": height},
                                   has_touch=True)
     folder = OUTPUT / "tasting" / f"{method}-{size}"
-    folder.mkdir(parents=True, exist_ok=True)
+    shutil.rmtree(folder, ignore_errors=True)  # no screenshot of an earlier run stays
+    folder.mkdir(parents=True)
     w = Walk(context.new_page(), built, folder, _axe())
     try:
         expected = WALKS.get(spec.family, walk_choice)(w, url)
