@@ -56,6 +56,7 @@ class Walk:
         self.spec = get_method(built.method)
         self.shot = 0
         self.checked = 0
+        self.confirmed: list[str] = []  # forced choices as first confirmed, set by set
 
     def settled(self) -> None:
         self.page.wait_for_function(
@@ -165,6 +166,7 @@ def walk_choice(w: Walk, url: str) -> dict:
             w.comment("1", codes[0], COMMENT)
         w.tap(f"confirm_1_{k}")
         last[k] = " ".join(final)
+        w.confirmed.append(last[k])
         if k + 1 < len(w.built.sets):
             w.text(f"Step {k + 2} of")
     w.text("Check your answers")
@@ -326,6 +328,12 @@ def test_a_ballot_walked_on_a_touch_screen_keeps_the_last_answers(server, browse
                      if set(r.code.split()) & set(codes) or not r.code)
             by_set[k] = r.code or r.value
         assert by_set == expected
-        assert any(e.field in ("code", "value") for e in audit)  # the change is audited
+        # the change from the review is audited with both values: the first set's code
+        # as first confirmed, then the last (or, for "no preference", the value)
+        changes = [(e.field, e.old, e.new) for e in audit if e.field in ("code", "value")]
+        if expected[0] == NO_PREFERENCE:
+            assert changes == [("code", w.confirmed[0], ""), ("value", "", NO_PREFERENCE)]
+        else:
+            assert changes == [("code", w.confirmed[0], expected[0])]
         assert got[0].comment == COMMENT
     assert [e.field for e in audit].count("finished") == 1
