@@ -32,7 +32,7 @@ import pandas as pd
 
 from trials.errors import AnswerError
 from trials.methods import Family, MethodSpec, get_method
-from trials.model import Answer, Attribute, PlanEntry, Record, Trial
+from trials.model import Answer, Attribute, AttributeKind, PlanEntry, Record, Trial
 
 CHOICE = "choice"
 RANK = "rank"
@@ -389,6 +389,84 @@ def choice_options(spec: MethodSpec, codes: Sequence[str]) -> tuple[str, tuple[s
     if spec.reference_first and codes:
         return codes[0], tuple(codes[1:])
     return "", tuple(codes)
+
+
+def scale_points(attr: Attribute) -> tuple[tuple[int, str], ...]:
+    """The points of ``attr``'s scale, low to high (left to right, as the paper ballot
+    prints them), each with its words: every point's when the attribute has one anchor
+    per point, else the two ends' (the points between have none)."""
+    points = list(range(attr.low, attr.high + 1))
+    anchors = tuple(attr.anchors)
+    if len(anchors) == len(points):
+        return tuple(zip(points, anchors, strict=True))
+    words = {}
+    if len(anchors) == 2:
+        words = {attr.low: anchors[0], attr.high: anchors[1]}
+    return tuple((p, words.get(p, "")) for p in points)
+
+
+def rank_wording(attr: Attribute | None, cups: int) -> str:
+    """What rank 1 and the last rank mean, as the paper ballot words it: the sample liked
+    most (a hedonic attribute, or none), else the one with the most of the attribute."""
+    if attr is None or AttributeKind(attr.kind) is AttributeKind.HEDONIC:
+        what = "Rank 1 = the sample you like most"
+    else:
+        what = f"Rank 1 = the sample with the most {attr.name.lower()}"
+    return f"{what}, rank {cups} = the least. Use each rank once."
+
+
+def comment_question(spec: MethodSpec, step: Step, code: str,
+                     attributes: Sequence[str]) -> str:
+    """The answer that holds the comment on cup ``code`` of ``step``: the set's choice
+    (forced choice: one comment for the set), the set's response (signal detection), the
+    cup's rank, or the cup's score on the first attribute (rating). Questions as
+    :class:`CheckedAnswer` names them."""
+    if step.kind == "choose":
+        return f"{CHOICE}:{step.set_index}"
+    if step.kind == "respond":
+        return f"{RESPONSE}:{step.set_index}"
+    if spec.family is Family.RANKING:
+        return f"{code}:{RANK}"
+    return f"{code}:{attributes[0]}"
+
+
+def step_answers(step: Step, answers: Sequence[Any],
+                 attributes: Sequence[str]) -> tuple[tuple[str, str], ...]:
+    """What this panelist gave in ``step``, as (code or attribute, value) pairs for a
+    review: a choice's code(s) or "no preference"; a cup's score per attribute; each
+    cup's rank. Only the panelist's own answers and the blinding codes."""
+    mine = [a for a in answers if a.session == step.session]
+    if step.kind == "choose":
+        for a in mine:
+            if a.attribute == CHOICE and (set(a.code.split()) & set(step.codes)
+                                          or (not a.code and a.value == NO_PREFERENCE)):
+                return (("chosen", a.code or NO_PREFERENCE),)
+        return ()
+    if step.kind == "rate":
+        got = {a.attribute: a.value for a in mine if a.code == step.code}
+        return tuple((name, got[name]) for name in attributes if name in got)
+    if step.kind == "respond":
+        return tuple((RESPONSE, a.value) for a in mine
+                     if a.attribute == RESPONSE and a.code in step.codes)[:1]
+    ranks = {a.code: a.value for a in mine if a.attribute == RANK}
+    return tuple((c, ranks[c]) for c in step.codes if c in ranks)
+
+
+def step_comments(step: Step, answers: Sequence[Any]) -> tuple[str, ...]:
+    """The panelist's comments on the cups of ``step`` (see :func:`comment_question`)."""
+    def mine(a: Any) -> bool:
+        if a.session != step.session or not a.comment:
+            return False
+        if step.kind == "choose":
+            return a.attribute == CHOICE and bool(set(a.code.split()) & set(step.codes)
+                                                  or not a.code)
+        if step.kind == "rate":
+            return a.code == step.code
+        if step.kind == "respond":
+            return a.attribute == RESPONSE and a.code in step.codes
+        return a.attribute == RANK and a.code in step.codes
+
+    return tuple(a.comment for a in answers if mine(a))
 
 
 # --------------------------------------------------------------------------- paper entry

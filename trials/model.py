@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from enum import StrEnum
 from typing import Any
@@ -285,7 +286,14 @@ class BallotAnswer(Record):
 
 @dataclass(frozen=True, slots=True)
 class PanelistBallot(Record):
-    """What a panelist's screen may show: never a sample name, id or the key."""
+    """What a panelist's screen may show: never a sample name, id or the key.
+
+    ``attributes`` are the scales of a rating (with the anchors the paper ballot prints,
+    every point or the two ends), the ranked attribute, or the attribute a forced choice
+    names (2-AFC, 3-AFC); ``allergens`` (session -> names) are pooled over each
+    session's samples, never tied to a code; ``finished`` are the sessions this
+    panelist has finished on the tablet.
+    """
 
     title: str
     method: str
@@ -296,6 +304,8 @@ class PanelistBallot(Record):
     attributes: tuple[Attribute, ...]
     answers: tuple[BallotAnswer, ...]
     remaining: int
+    allergens: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+    finished: tuple[str, ...] = ()
 
     @property
     def complete(self) -> bool:

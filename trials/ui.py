@@ -591,13 +591,46 @@ html, body, [data-testid="stAppViewContainer"] { font-size: 1.25rem; }
     min-height: 4.25rem; font-size: 1.6rem; font-weight: 600; border-radius: 0.9rem;
 }
 .stButton button p, .stFormSubmitButton button p { font-size: 1.6rem; }
+/* a dark primary: white text on it has a contrast of 8:1 (WCAG AA asks 4.5:1) */
+.stButton button[kind="primary"], .stButton button[kind="primary"]:focus {
+    background-color: #1d4a8f; border-color: #1d4a8f; color: #ffffff;
+}
+.stButton button[kind="primary"]:hover { background-color: #163a72; border-color: #163a72; }
+.stButton button[kind="primary"]:disabled { background-color: #c9ced8; border-color: #c9ced8;
+    color: #3b3f48; }
+.stButton button[kind="secondary"] { border: 2px solid #5b6270; color: #1f2330; }
+/* scale points: the number large, the scale's words below it, whole words only */
+[class*="st-key-scale_"] .stButton button { min-height: 5.5rem; padding: 0.3rem 0.1rem; }
+[class*="st-key-scale_"] .stButton button p {
+    font-size: 0.76rem; font-weight: 500; line-height: 1.15; white-space: normal;
+    word-break: normal; overflow-wrap: normal; letter-spacing: -0.01em;
+}
+[class*="st-key-scale_"] .stButton button p strong {
+    display: block; font-size: 1.7rem; font-weight: 700;
+}
+@media (max-width: 640px) {  /* a phone stacks the points: number and words on one line */
+    [class*="st-key-scale_"] .stButton button {
+        min-height: 3.4rem; justify-content: flex-start; padding: 0.3rem 0.9rem;
+    }
+    [class*="st-key-scale_"] .stButton button p { font-size: 1.1rem; text-align: left; }
+    [class*="st-key-scale_"] .stButton button p strong {
+        display: inline-block; min-width: 2.4rem; font-size: 1.5rem;
+    }
+}
+.stButton button:focus-visible { box-shadow: 0 0 0 0.2rem #7aa7e6; outline: none; }
+[data-testid="stTextArea"] textarea { font-size: 1.25rem; }
+[data-testid="stWidgetLabel"] p { font-size: 1.2rem; color: inherit; }
 .kt-code {
     font-size: 3rem; font-weight: 700; letter-spacing: 0.08em; text-align: center;
     border: 3px solid currentColor; border-radius: 1rem; padding: 0.4rem 0; margin: 0.5rem auto;
     max-width: 14rem; font-variant-numeric: tabular-nums;
+    margin-left: auto !important; margin-right: auto !important;
 }
-.kt-step { font-size: 1.1rem; opacity: 0.75; margin: 0; }
-[data-testid="stMainBlockContainer"] { padding-top: 1.5rem; max-width: 60rem; }
+.kt-choice { font-size: 2rem; font-weight: 700; text-align: center; margin: 0.5rem 0; }
+.kt-step, .kt-note { font-size: 1.1rem; margin: 0 0 0.4rem 0; }
+[data-testid="stMainBlockContainer"] {
+    padding: 1.5rem 0.6rem 3rem 0.6rem; max-width: 60rem;
+}
 [data-testid="stSidebar"], [data-testid="stSidebarCollapsedControl"] { display: none; }
 header[data-testid="stHeader"] { display: none; }
 </style>

@@ -186,9 +186,11 @@ def test_the_tasting_screen_shows_attributes_and_anchors_as_typed(nasty_trial):
     store, trial_id = nasty_trial
     at = page_test("taste")
     at.query_params["t"] = service.panelist_token(store, trial_id, PANELISTS[2])
+    _check(at.run())
+    at.button(key="nav_start").click()
     texts = _check(at.run())
     assert any(ATTRIBUTES[0] in t for t in texts) and any(ATTRIBUTES[1] in t for t in texts)
-    assert f"1 = {ANCHORS_2[0]}" in texts and f"9 = {ANCHORS_2[1]}" in texts
-    helps = [shown(b.help) for b in at.button if b.help]
-    assert set(ANCHORS_5) <= set(helps)
+    # each point's button carries its words: the two ends, or every point
+    assert f"**1** {ANCHORS_2[0]}" in texts and f"**9** {ANCHORS_2[1]}" in texts
+    assert {f"**{i}** {a}" for i, a in enumerate(ANCHORS_5, start=1)} <= set(texts)
     assert not any(s in "\n".join(texts) for s in SAMPLES)  # blinding holds

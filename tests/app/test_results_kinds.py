@@ -87,7 +87,10 @@ def test_a_duo_trio_ballot_never_offers_the_reference_as_an_answer(store):
     at = page_test("taste")
     at.query_params["t"] = service.panelist_token(store, study.id, "R01")
     at.run()
-    assert sorted(b.label for b in at.button) == sorted(e.code for e in cups if e.role != "R")
+    at.button(key="nav_start").click()
+    at.run()
+    picks = [b.label for b in at.button if b.key.startswith("pick_")]
+    assert sorted(picks) == sorted(e.code for e in cups if e.role != "R")
     assert reference in page_text(at)  # shown as the reference, not as a choice
 
 
@@ -100,12 +103,17 @@ def test_a_tetrad_ballot_saves_the_two_codes_of_the_chosen_group(store):
     at = page_test("taste")
     at.query_params["t"] = service.panelist_token(store, study.id, "R02")
     at.run()
-    save = next(b for b in at.button if b.label == "Save my choice")
-    assert save.disabled
-    at.button_group[0].set_value([codes[0], codes[2]])
+    at.button(key="nav_start").click()
     at.run()
-    next(b for b in at.button if b.label == "Save my choice").click()
+    assert "confirm_1_0" not in [b.key for b in at.button]  # nothing to confirm yet
+    for code in (codes[0], codes[2]):
+        at.button(key=f"pick_1_0_{code}").click()
+        at.run()
+    assert service.list_answers(store, study.id) == []  # not saved before the confirm
+    at.button(key="confirm_1_0").click()
     at.run()
     assert [(r.code, r.attribute) for r in service.list_answers(store, study.id)] == [
         (f"{codes[0]} {codes[2]}", "choice")]
+    at.button(key="nav_finish").click()
+    at.run()
     assert any("Thank you, you are done." in s.value for s in at.success)

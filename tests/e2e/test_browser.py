@@ -61,6 +61,10 @@ def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server,
     trial_id, token, cups, names = _fresh_rating_trial(db)
     page = tablet
     page.goto(f"{url}/taste?t={token}")
+    _wait_text(page, "Before you start")
+    _settled(page)
+    page.screenshot(path=shots / "0-first-screen.png", full_page=True)
+    page.locator(".st-key-nav_start button").click()
     _wait_text(page, "Cup 1 of 3")
     _settled(page)
     page.screenshot(path=shots / "1-first-cup.png", full_page=True)
@@ -74,6 +78,8 @@ def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server,
         (cups[0], "overall liking", "7")]
 
     _score(page, "1", cups[0], 1, 3)
+    page.locator(f".st-key-score_1_{cups[0]}_1_3 button[kind='primary']").wait_for(timeout=TIMEOUT)
+    page.locator(".st-key-nav_next button").click()
     _wait_text(page, "Cup 2 of 3")
     _settled(page)
     page.screenshot(path=shots / "3-second-cup.png", full_page=True)
@@ -89,10 +95,15 @@ def test_a_panelist_answers_reloads_resumes_and_finishes_on_a_tablet(app_server,
         page.locator(f".st-key-score_1_{code}_0_5 button[kind='primary']").wait_for(
             timeout=TIMEOUT)
         _score(page, "1", code, 1, 2)
+        page.locator(f".st-key-score_1_{code}_1_2 button[kind='primary']").wait_for(
+            timeout=TIMEOUT)
+        page.locator(".st-key-nav_next button").click()
         if i < 3:
             _wait_text(page, f"Cup {i + 1} of 3")
         body = _body(page)
         assert not any(n in body for n in names)
+    _wait_text(page, "Check your answers")
+    page.locator(".st-key-nav_finish button").click()
     _wait_text(page, "Thank you, you are done.")
     page.screenshot(path=shots / "5-done.png", full_page=True)
     body = _body(page)

@@ -57,10 +57,11 @@ def test_the_tablet_shows_markup_in_names_as_typed_and_fetches_nothing_outside(
     page = context.new_page()
     requests = _watch(page)
     page.goto(f"{url}/taste?t={service.panelist_token(store, trial_id, PANELISTS[2])}")
+    page.get_by_text("Before you start").first.wait_for(timeout=TIMEOUT)
+    _settled(page)
+    page.locator(".st-key-nav_start button").click()
     page.get_by_text("Cup 1 of 2").first.wait_for(timeout=TIMEOUT)
     _settled(page)
-    page.locator("[data-testid='stTooltipHoverTarget']").first.hover()  # an anchor's help
-    page.wait_for_timeout(600)
     page.screenshot(path=shots / "tablet.png", full_page=True)
     assert page.evaluate(LIVE_MARKUP) == []
     text = _visible(page)

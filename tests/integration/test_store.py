@@ -105,7 +105,8 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
             sa.text("SELECT version, note FROM schema_version ORDER BY version")).all()
     assert [tuple(v) for v in versions] == [(1, "created"), (2, "study.product"),
                                             (3, "study.aim"), (4, "study.target_sample"),
-                                            (5, "experiment, experiment_factor, experiment_run")]
+                                            (5, "experiment, experiment_factor, experiment_run"),
+                                            (6, "ballot_finish")]
     study = service.get_trial(store, 1)
     assert (study.name, study.objective, study.product, study.aim, study.target_sample) == (
         "Old trial", "kept from v1", "", "", "")
@@ -122,6 +123,8 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
         # version 5's tables exist on the upgraded file
         names = set(sa.inspect(conn).get_table_names())
         assert {"experiment", "experiment_factor", "experiment_run"} <= names
+        # version 6's table is there and empty
+        assert conn.execute(sa.text("SELECT count(*) FROM ballot_finish")).scalar() == 0
     again.close()
 
 

@@ -1,6 +1,7 @@
 """Answers in the store: what is needed to check an answer against the serving plan,
-saving one answer (recorded once, a changed one replaced and audited), inserting a
-checked import in bulk, reading the answers back, and the audit log."""
+saving one answer (recorded once, a changed one replaced and audited), a cup's comment,
+a panelist's Finish of a session, inserting a checked import in bulk, reading the
+answers back, and the audit log."""
 
 from __future__ import annotations
 
@@ -16,6 +17,7 @@ from trials.model import Answer, AuditEntry, EntryMode, PlanBook, PlanEntry
 from trials.store import limits, rows
 from trials.store.schema import (
     AuditRow,
+    FinishRow,
     PanelistRow,
     PlanEntryRow,
     ResponseRow,
@@ -85,6 +87,50 @@ def save_answer(s: Session, book: PlanBook, ans: CheckedAnswer, *, comment: str,
             rows.audit(s, trial_id, entered_by, "response", row.id, key, old, new)
             setattr(row, key, new)
     return rows.response_record(row, ans.session, ans.panelist)
+
+
+def set_comment(s: Session, book: PlanBook, session: str, panelist: str, question: str,
+                comment: str, *, by: str) -> bool:
+    """Set (or clear, with ``""``) the comment of the answer to ``question``, audited;
+    False when that question has no answer on file yet."""
+    row = s.scalar(sa.select(ResponseRow).where(
+        ResponseRow.session_id == book.session_ids[session],
+        ResponseRow.panelist_id == book.panelist_ids[panelist],
+        ResponseRow.question == question))
+    if row is None:
+        return False
+    new = comment or ""
+    if row.comment != new:
+        limits.check_values("response", [{"comment": new}])
+        rows.audit(s, book.trial.id, by, "response", row.id, "comment", row.comment, new)
+        row.comment = new
+    return True
+
+
+def finished_sessions(s: Session, trial_id: int, panelist_code: str) -> set[str]:
+    """The sessions of a trial this panelist has finished on the tablet."""
+    q = (sa.select(SessionRow.name).select_from(FinishRow)
+         .join(SessionRow, FinishRow.session_id == SessionRow.id)
+         .join(PanelistRow, FinishRow.panelist_id == PanelistRow.id)
+         .where(FinishRow.study_id == trial_id, PanelistRow.code == panelist_code))
+    return set(s.scalars(q).all())
+
+
+def mark_finished(s: Session, book: PlanBook, session: str, panelist: str, *, by: str) -> bool:
+    """Record that ``panelist`` finished ``session`` (audited once); False when it was
+    already recorded, so a repeated Finish changes nothing."""
+    sid, pid = book.session_ids[session], book.panelist_ids[panelist]
+    found = s.scalar(sa.select(FinishRow.id).where(FinishRow.session_id == sid,
+                                                   FinishRow.panelist_id == pid))
+    if found is not None:
+        return False
+    row = FinishRow(study_id=book.trial.id, session_id=sid, panelist_id=pid,
+                    finished_at=rows.now())
+    s.add(row)
+    s.flush()
+    rows.audit(s, book.trial.id, by, "ballot_finish", row.id, "finished", None,
+               f"session {session}, panelist {panelist}")
+    return True
 
 
 def insert_answers(s: Session, book: PlanBook,

@@ -15,7 +15,9 @@ Versions:
    to be stronger in the attribute, chosen at set-up (empty for other methods, and for
    trials set up before version 4: their analysis reads the target from the plan's roles);
 5. ``experiment``, ``experiment_factor``, ``experiment_run``: recipe experiments, each
-   tasted as one rating trial whose samples and batches are its runs.
+   tasted as one rating trial whose samples and batches are its runs;
+6. ``ballot_finish``: a panelist's Finish on the tablet, per session, after which the
+   tablet no longer changes that session's answers.
 
 To add a version: append a step here that upgrades ``LATEST - 1`` to ``LATEST``,
 change the mapping in ``schema.py`` to match, and keep the test that upgrades a
@@ -54,14 +56,19 @@ def _v5_experiments(conn: Connection) -> None:
     Base.metadata.create_all(conn, tables=tables)
 
 
+def _v6_ballot_finish(conn: Connection) -> None:
+    Base.metadata.tables["ballot_finish"].create(conn)
+
+
 # version reached -> (step, note); the step upgrades from version - 1
 STEPS: dict[int, tuple[Callable[[Connection], None], str]] = {
     2: (_v2_study_product, "study.product"),
     3: (_v3_study_aim, "study.aim"),
     4: (_v4_study_target_sample, "study.target_sample"),
     5: (_v5_experiments, "experiment, experiment_factor, experiment_run"),
+    6: (_v6_ballot_finish, "ballot_finish"),
 }
-LATEST = 5
+LATEST = 6
 
 
 def current_version(conn: Connection) -> int | None:

@@ -223,6 +223,20 @@ class ResponseRow(Base):
     mode: Mapped[str] = mapped_column(String(10), default="tablet")
 
 
+class FinishRow(Base):
+    """A panelist's Finish on the tablet for one session: from then on the tablet no
+    longer changes that session's answers (the leader still may, audited)."""
+
+    __tablename__ = "ballot_finish"
+    __table_args__ = (UniqueConstraint("session_id", "panelist_id", name="uq_finish_owner"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    study_id: Mapped[int] = mapped_column(ForeignKey("study.id", ondelete="CASCADE"), index=True)
+    session_id: Mapped[int] = mapped_column(ForeignKey("tasting_session.id", ondelete="CASCADE"))
+    panelist_id: Mapped[int] = mapped_column(ForeignKey("panelist.id"))
+    finished_at: Mapped[dt.datetime] = mapped_column(DateTime)
+
+
 class AuditRow(Base):
     """One change: who changed which field of which row, from what to what, when."""
 
