@@ -216,9 +216,8 @@ def _check_words(step, attributes, given) -> None:
     key = f"words_{session}_{code}"
     if key not in st.session_state:
         st.session_state[key] = [w for w in words if given.get((code, w)) == "1"]
-    st.markdown("#### Tap every word that applies to this cup")
-    st.pills("Words that apply", words, selection_mode="multi", key=key,
-             format_func=ui.literal, label_visibility="collapsed")
+    st.pills("Tap every word that applies to this cup", words, selection_mode="multi",
+             key=key, format_func=ui.literal)
     st.button("Save the words", type="primary", width="stretch", key=f"save_{key}",
               on_click=_save_words, args=(code, words, key), kwargs={"session": session})
 

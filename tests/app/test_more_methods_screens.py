@@ -27,6 +27,13 @@ def store(app_db):
     return s
 
 
+def _start(at) -> None:
+    """Past the first screen (allergens, the stop-at-any-time note) to the first step."""
+    next(b for b in at.button if b.label == "Start tasting").click()
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+
+
 @pytest.mark.parametrize("method", [TWO_OUT_OF_FIVE, SPECIFIED_TETRAD])
 def test_the_tablet_asks_for_two_codes_with_the_registry_label(store, method):
     study = service.create_trial(store, name="Glaze: two honeys", method=method,
@@ -39,13 +46,16 @@ def test_the_tablet_asks_for_two_codes_with_the_registry_label(store, method):
     at.query_params["t"] = service.panelist_token(store, study.id, "F02")
     at.run()
     assert not at.exception, [e.message for e in at.exception]
-    group = at.button_group[0]
-    assert group.label == get_method(method).group_label
-    assert list(group.options) == mine or [o.content for o in group.options] == mine
+    _start(at)
+    # the registry's label over the codes, one button per code in serving order
+    assert f"{get_method(method).group_label}: tap 2 cups." in page_text(at)
+    assert [b.label for b in at.button if b.label in mine] == mine
     assert "Clover" not in page_text(at) and "Buckwheat" not in page_text(at)
-    at.button_group[0].set_value([mine[1], mine[3]])
-    at.run()
-    next(b for b in at.button if b.label == "Save my choice").click()
+    for code in (mine[1], mine[3]):
+        next(b for b in at.button if b.label == code).click()
+        at.run()
+    assert not service.list_answers(store, study.id)  # nothing saved before the confirm
+    next(b for b in at.button if b.label == f"Confirm: {mine[1]} and {mine[3]}").click()
     at.run()
     assert [(r.code, r.attribute) for r in service.list_answers(store, study.id)] == [
         (f"{mine[1]} {mine[3]}", "choice")]
@@ -85,14 +95,20 @@ def test_the_tablet_offers_the_two_responses_and_saves_one(store, method):
     at.run()
     assert not at.exception, [e.message for e in at.exception]
     spec = get_method(method)
-    assert [b.label for b in at.button] == list(spec.responses)
+    _start(at)
+    assert [b.label for b in at.button if b.label in spec.responses] == list(spec.responses)
     text = page_text(at)
     assert all(c in text for c in mine)
     assert "Clover" not in text and "Buckwheat" not in text
     next(b for b in at.button if b.label == spec.responses[1]).click()
     at.run()
+    assert not service.list_answers(store, study.id)  # shown, not saved, until confirmed
+    next(b for b in at.button if b.label == f"Confirm: {spec.responses[1]}").click()
+    at.run()
     assert [(r.code, r.attribute, r.value) for r in service.list_answers(store, study.id)] == [
         (mine[0], "response", spec.responses[1])]
+    next(b for b in at.button if b.label == "Finish").click()
+    at.run()
     assert any("Thank you, you are done." in s.value for s in at.success)
 
 
@@ -160,8 +176,9 @@ def test_the_tablet_ticks_cata_words_and_saves_each_as_one_or_zero(store):
     at.query_params["t"] = service.panelist_token(store, study.id, "F04")
     at.run()
     assert not at.exception, [e.message for e in at.exception]
+    _start(at)
     words = at.button_group[0]
-    assert words.label == "Tap every word that applies"
+    assert words.label == "Tap every word that applies to this cup"
     at.button_group[0].set_value(["bitter"])
     at.run()
     next(b for b in at.button if b.label == "Save the words").click()

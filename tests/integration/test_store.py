@@ -119,7 +119,7 @@ def test_a_version_1_database_is_upgraded_and_keeps_its_trials(tmp_path):
     store.close()
     again = open_store(f"sqlite:///{path}")  # reopening applies nothing more
     with again.engine.connect() as conn:
-        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 5
+        assert conn.execute(sa.text("SELECT count(*) FROM schema_version")).scalar() == 6
         # version 5's tables exist on the upgraded file
         names = set(sa.inspect(conn).get_table_names())
         assert {"experiment", "experiment_factor", "experiment_run"} <= names
