@@ -56,6 +56,18 @@ def _cases(folder):
     files = [str(folder / n) for n in [*GARBAGE_FILES, "folder.csv", "missing.csv"]]
     yield ["analyze", "ratings"], files
     yield ["analyze", "ranks"], files
+    yield ["analyze", "profile"], files
+    yield ["analyze", "cata"], files
+    yield ["analyze", "rindex", "--control", "Usual"], files
+    yield ["analyze", "table", "--method", "a-not-a", "--hits", "10", "--signal", "12",
+           "--false-alarms", "3", "--noise"], NUMBERS
+    yield ["plan", "--method", "rating", "--delta", "1", "--samples", "3", "--sd"], NUMBERS
+    yield ["experiment", "design", "--kind", "ccd-face", "--factor"], [
+        "salt:%:2:1", "salt:%:1:2:1.5:1.8", "salt", "salt:%:a:b", "::::", "x" * 300,
+        "salt:%:1:1e400"]
+    yield ["experiment", "design", "--kind", "full-factorial", "--factor", "salt:%:1:2",
+           "--center"], NUMBERS
+    yield ["experiment", "analyze", "--db", db], NUMBERS
     yield ["trial", "show", "--db", db], NUMBERS
     yield ["study", "list", "--db"], [f"sqlite:///{folder / 'notdb.db'}", "sqlite:/// ",
                                      "sqlite://rel.db", "postgresql://u@h:abc/db", "nonsense"]
