@@ -90,19 +90,40 @@ def record_answer(
     served in one session only.
     """
 
-    def work(tx) -> Answer:
+    def mine(book: PlanBook, panelist: str) -> str:
+        if session is not None:
+            return session
+        sessions = list(dict.fromkeys(e.session for e in book.entries))
+        if len(sessions) != 1:
+            raise TrialsError(f"say which session; panelist {panelist!r} is served in "
+                              f"{', '.join(map(repr, sessions)) or 'none'}")
+        return sessions[0]
+
+    def save(tx, book: PlanBook, sess: str, panelist: str, ans=None) -> Answer:
+        if ans is None:
+            ans = checker_of(book).check(sess, panelist, code, attribute, value)
+        return answer_rows.save_answer(tx, book, ans, comment=comment, entered_by=panelist,
+                                       entered_at=None, mode=EntryMode.TABLET)
+
+    def again(tx) -> Answer:  # everything inside the write: the plan changed meanwhile
         trial_id, panelist = plan_rows.token_owner(tx, token)
         book = answer_rows.plan_book(tx, trial_id, panelist_code=panelist)
-        sess = session
-        if sess is None:
-            mine = list(dict.fromkeys(e.session for e in book.entries))
-            if len(mine) != 1:
-                raise TrialsError(f"say which session; panelist {panelist!r} is served in "
-                                  f"{', '.join(map(repr, mine)) or 'none'}")
-            sess = mine[0]
-        return save_checked(tx, book, sess, panelist, code, attribute, value,
-                            comment=comment, entered_by=panelist, entered_at=None,
-                            mode=EntryMode.TABLET)
+        return save(tx, book, mine(book, panelist), panelist)
+
+    # The ballot is read and the answer checked before the write transaction, so that
+    # the write (which SQLite grants one writer at a time) holds a check that the
+    # panelist's cups are still those read, then the answer and its audit entry.
+    with store.read() as tx:
+        trial_id, panelist = plan_rows.token_owner(tx, token)
+        book = answer_rows.plan_book(tx, trial_id, panelist_code=panelist)
+    sess = mine(book, panelist)
+    ans = checker_of(book).check(sess, panelist, code, attribute, value)
+    cups = [(e.code, e.sample_name) for e in book.entries if e.session == sess]
+
+    def work(tx) -> Answer:
+        if answer_rows.served_cups(tx, book, sess, panelist) != cups:
+            return again(tx)
+        return save(tx, book, sess, panelist, ans)
 
     return store.write(work)
 

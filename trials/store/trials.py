@@ -208,12 +208,12 @@ def history_rows(s: Session, trial_ids: Sequence[int] | None = None) -> list[dic
         row.update(samples=[], control="")
         out[row["id"]] = row
     for trial_id, name, is_control in s.execute(qs):
-        row = out.get(trial_id)
-        if row is None:
+        owner = out.get(trial_id)
+        if owner is None:
             continue
-        row["samples"].append(name)
-        if is_control and not row["control"]:
-            row["control"] = name
+        owner["samples"].append(name)
+        if is_control and not owner["control"]:
+            owner["control"] = name
     return list(out.values())
 
 
