@@ -43,20 +43,19 @@ def control_trend(store: Store, control: str, *, attribute: str | None = None):
     (:func:`trials.history.control_trend`): one point per trial and attribute."""
     with store.read() as tx:
         scores = answer_rows.scores_of_sample(tx, control)
-        ids = sorted({r["trial_id"] for r in scores})
+        ids = sorted(set(scores["trial_id"]))
         trials = {r["id"]: r for r in trial_rows.history_rows(tx, ids)} if ids else {}
-    if not scores:
+    if not ids:
         return ()
     frame = pd.DataFrame(scores)
     frame["score"] = pd.to_numeric(frame["value"], errors="coerce")
     frame = frame.dropna(subset=["score"])
     if frame.empty:
         return ()
-    frame = frame.assign(
-        study=[trials[i]["name"] for i in frame["trial_id"]],
-        date=[str(trials[i]["created_on"] or "") for i in frame["trial_id"]],
-        sample=control,
-    )
+    names = {i: t["name"] for i, t in trials.items()}
+    dates = {i: str(t["created_on"] or "") for i, t in trials.items()}
+    frame = frame.assign(study=frame["trial_id"].map(names), date=frame["trial_id"].map(dates),
+                         sample=control)
     # newest trial first, as the list of trials shows them
     frame = frame.sort_values("trial_id", ascending=False, kind="stable")
     return trend(frame[["study", "date", "sample", "attribute", "score"]], control=control,

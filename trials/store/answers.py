@@ -153,9 +153,10 @@ def audit_log(s: Session, trial_id: int) -> list[AuditEntry]:
                        r.new_value) for r in found]
 
 
-def scores_of_sample(s: Session, sample_name: str) -> list[dict]:
+def scores_of_sample(s: Session, sample_name: str) -> dict[str, list]:
     """Every rated score given to a cup of a sample of this name, in any trial: one
-    query for the history's control trend. Keys: ``trial_id code attribute value``."""
+    query for the history's control trend. Columns (lists of equal length, a row per
+    score): ``trial_id code attribute value``."""
     q = (
         sa.select(ResponseRow.study_id, ResponseRow.code, ResponseRow.attribute,
                   ResponseRow.value)
@@ -167,4 +168,6 @@ def scores_of_sample(s: Session, sample_name: str) -> list[dict]:
         .where(SampleRow.name == sample_name, ResponseRow.attribute != "choice")
         .order_by(ResponseRow.study_id, ResponseRow.id)
     )
-    return [{"trial_id": a, "code": b, "attribute": c, "value": d} for a, b, c, d in s.execute(q)]
+    got = s.execute(q).all()
+    return {"trial_id": [r[0] for r in got], "code": [r[1] for r in got],
+            "attribute": [r[2] for r in got], "value": [r[3] for r in got]}
