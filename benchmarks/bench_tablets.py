@@ -14,7 +14,7 @@ the largest latency, the ratio of the p95 to the floor's and to the issue's goal
 (300 ms: 30 tablets on SQLite, 100 on PostgreSQL).
 
     .venv/bin/python benchmarks/bench_tablets.py [--tablets 30] [--pg URL]
-        [--pg-tablets 100] [--skip-processes]
+        [--pg-tablets 100] [--pg-processes 60] [--skip-processes]
 
 PostgreSQL runs when ``--pg`` or ``TRIALS_TEST_PG_URL`` names a server (a fresh schema,
 dropped afterwards).
@@ -143,7 +143,7 @@ def show(label: str, how: str, n: int, lat: list[float], floor_p95: float) -> No
           f"{p95 / GOAL_MS:.2f}")
 
 
-def bench(url: str, label: str, tablets: int, processes: bool) -> None:
+def bench(url: str, label: str, tablets: int, processes: int) -> None:
     store = service.open_store(url)
     alone_id, alone = make_trial(store, 1, f"{label[0].upper()}A")
     one_tablet(store, alone[0])  # warm: statement caches, first connections
@@ -159,10 +159,10 @@ def bench(url: str, label: str, tablets: int, processes: bool) -> None:
     check_stored(store, trial_id, tablets)
     show(label, "threads", tablets, lat, floor_p95)
     if processes:
-        trial_id, tokens = make_trial(store, tablets, f"{label[0].upper()}P")
+        trial_id, tokens = make_trial(store, processes, f"{label[0].upper()}P")
         lat = through_processes(url, tokens)
-        check_stored(store, trial_id, tablets)
-        show(label, "processes", tablets, lat, floor_p95)
+        check_stored(store, trial_id, processes)
+        show(label, "processes", processes, lat, floor_p95)
     store.close()
 
 
@@ -171,11 +171,14 @@ def main() -> None:
     ap.add_argument("--tablets", type=int, default=30, help="tablets on SQLite")
     ap.add_argument("--pg", default=os.environ.get("TRIALS_TEST_PG_URL"))
     ap.add_argument("--pg-tablets", type=int, default=100)
+    ap.add_argument("--pg-processes", type=int, default=60,
+                    help="tablet processes on PostgreSQL (each holds a connection; a "
+                         "default server allows 100 in all)")
     ap.add_argument("--skip-processes", action="store_true")
     args = ap.parse_args()
     with tempfile.TemporaryDirectory() as d:
         bench(f"sqlite:///{Path(d) / 'tablets.db'}", "sqlite", args.tablets,
-              not args.skip_processes)
+              0 if args.skip_processes else args.tablets)
     if not args.pg:
         print("[postgresql] skipped: give --pg URL or set TRIALS_TEST_PG_URL")
         return
@@ -190,7 +193,7 @@ def main() -> None:
     sep = "&" if "?" in args.pg else "?"
     try:
         bench(f"{args.pg}{sep}options=-csearch_path%3D{schema}", "postgresql",
-              args.pg_tablets, not args.skip_processes)
+              args.pg_tablets, 0 if args.skip_processes else args.pg_processes)
     finally:
         with engine.begin() as c:
             c.execute(sa.text(f'DROP SCHEMA "{schema}" CASCADE'))

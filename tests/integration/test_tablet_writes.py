@@ -9,6 +9,7 @@ import fcntl
 import os
 
 import pytest
+import sqlalchemy as sa
 
 from tests.integration.store_builders import rating_trial, roster
 from trials import service
@@ -29,7 +30,7 @@ def test_an_answer_whose_cups_changed_after_the_read_is_checked_again_and_stored
     token, code = _first_cup(store, trial)
     seen = []
 
-    def changed(tx, book, session, panelist):  # as if the plan was redrawn meanwhile
+    def changed(tx, book, session, panelist, *, token):  # as if the plan was redrawn
         seen.append(panelist)
         return []
 
@@ -72,3 +73,20 @@ def test_a_writer_of_another_process_holding_the_queue_makes_a_writer_wait_then_
     service.create_trial(store, name="Rye", method="triangle")
     assert sorted(t.name for t in service.list_trials(store)) == ["Crust", "Rye"]
     store.close()
+
+
+def test_a_link_replaced_after_an_answer_opens_nothing_though_its_ballot_was_kept(store):
+    from trials.errors import AccessDenied
+    from trials.store.schema import AccessTokenRow
+
+    trial = rating_trial(store, roster(store, 2))
+    token, code = _first_cup(store, trial)
+    service.record_answer(store, token, code=code, attribute="sweetness", value=4)
+    assert token in store.memo["tablet_books"]  # the ballot is kept for the next answer
+    with store.engine.begin() as conn:  # the leader's link for T01 is replaced
+        conn.execute(sa.update(AccessTokenRow).where(AccessTokenRow.token == token)
+                     .values(token="replaced-link"))
+    with pytest.raises(AccessDenied):
+        service.record_answer(store, token, code=code, attribute="overall liking", value=7)
+    mine = [a for a in service.list_answers(store, trial) if a.panelist_code == "T01"]
+    assert [(a.attribute, a.value) for a in mine] == [("sweetness", "4")]

@@ -111,17 +111,38 @@ def record_answer(
         return save(tx, book, mine(book, panelist), panelist)
 
     # The ballot is read and the answer checked before the write transaction, so that
-    # the write (which SQLite grants one writer at a time) holds a check that the
-    # panelist's cups are still those read, then the answer and its audit entry.
-    with store.read() as tx:
-        trial_id, panelist = plan_rows.token_owner(tx, token)
-        book = answer_rows.plan_book(tx, trial_id, panelist_code=panelist)
-    sess = mine(book, panelist)
-    ans = checker_of(book).check(sess, panelist, code, attribute, value)
+    # the write (which SQLite grants one writer at a time) holds a check that the token
+    # still opens these cups, then the answer and its audit entry. The ballot read is
+    # kept per token (store.memo) for the panelist's next answer: the write's check
+    # catches a changed plan or token, and an answer the kept ballot refuses is checked
+    # again against a fresh read.
+    kept = store.memo.setdefault("tablet_books", {})
+    if len(kept) > 4096:
+        kept.clear()
+    hit = kept.get(token)
+    if hit is None:
+        with store.read() as tx:
+            trial_id, panelist = plan_rows.token_owner(tx, token)
+            hit = kept[token] = (answer_rows.plan_book(tx, trial_id, panelist_code=panelist),
+                                 panelist)
+        fresh = True
+    else:
+        fresh = False
+    book, panelist = hit
+    try:
+        sess = mine(book, panelist)
+        ans = checker_of(book).check(sess, panelist, code, attribute, value)
+    except TrialsError:
+        kept.pop(token, None)
+        if fresh:
+            raise
+        return record_answer(store, token, code=code, attribute=attribute, value=value,
+                             comment=comment, session=session)
     cups = [(e.code, e.sample_name) for e in book.entries if e.session == sess]
 
     def work(tx) -> Answer:
-        if answer_rows.served_cups(tx, book, sess, panelist) != cups:
+        if answer_rows.served_cups(tx, book, sess, panelist, token=token) != cups:
+            kept.pop(token, None)
             return again(tx)
         return save(tx, book, sess, panelist, ans)
 

@@ -15,6 +15,7 @@ from trials.answers import CheckedAnswer
 from trials.model import Answer, AuditEntry, EntryMode, PlanBook, PlanEntry
 from trials.store import limits, rows
 from trials.store.schema import (
+    AccessTokenRow,
     AuditRow,
     PanelistRow,
     PlanEntryRow,
@@ -64,22 +65,27 @@ def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
 
 _SERVED = (sa.select(PlanEntryRow.code, SampleRow.name)
            .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
+           .join(AccessTokenRow, sa.and_(AccessTokenRow.study_id == SampleRow.study_id,
+                                         AccessTokenRow.panelist_id == PlanEntryRow.panelist_id))
            .where(PlanEntryRow.session_id == sa.bindparam("sid"),
-                  PlanEntryRow.panelist_id == sa.bindparam("pid"))
+                  PlanEntryRow.panelist_id == sa.bindparam("pid"),
+                  AccessTokenRow.token == sa.bindparam("token"))
            .order_by(PlanEntryRow.position))
 _ANSWER_ON_FILE = sa.select(ResponseRow).where(
     ResponseRow.session_id == sa.bindparam("sid"), ResponseRow.panelist_id == sa.bindparam("pid"),
     ResponseRow.question == sa.bindparam("question"))
 
 
-def served_cups(s: Session, book: PlanBook, session: str,
-                panelist_code: str) -> list[tuple[str, str]]:
+def served_cups(s: Session, book: PlanBook, session: str, panelist_code: str, *,
+                token: str) -> list[tuple[str, str]]:
     """The (code, sample name) of a panelist's cups in one session, in serving order, as
-    the store holds them now: one query, to confirm a plan read earlier is unchanged."""
+    the store holds them now, where ``token`` is still this panelist's tasting link for
+    the trial (else none): one query, to confirm a plan read earlier is unchanged."""
     sid, pid = book.session_ids.get(session), book.panelist_ids.get(panelist_code)
     if sid is None or pid is None:
         return []
-    return [(c, n) for c, n in s.execute(_SERVED, {"sid": sid, "pid": pid})]
+    key = {"sid": sid, "pid": pid, "token": str(token)}
+    return [(c, n) for c, n in s.execute(_SERVED, key)]
 
 
 def save_answer(s: Session, book: PlanBook, ans: CheckedAnswer, *, comment: str,

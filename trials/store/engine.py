@@ -156,6 +156,8 @@ class Store:
     _write_lock: threading.Lock | None = field(default=None, repr=False)
     # ... and writers of all processes on a lock file beside it (see _WriterQueue)
     _queue: _WriterQueue | None = field(default=None, repr=False)
+    # small caches of the use cases, each checked against the store before it is trusted
+    memo: dict = field(default_factory=dict, repr=False)
 
     @property
     def dialect(self) -> str:
