@@ -18,6 +18,7 @@ Usage: .venv/bin/python benchmarks/bench_file_analysis.py [--quick]
 from __future__ import annotations
 
 import argparse
+import os
 import subprocess
 import sys
 import tempfile
@@ -48,9 +49,14 @@ def write(path: Path, panelists: int, samples: int, reps: int, seed: int = 0) ->
     return len(frame)
 
 
+ROOT = Path(__file__).resolve().parents[1]
+# the package of this folder, not whichever copy is installed in the environment
+ENV = dict(os.environ, PYTHONPATH=str(ROOT))
+
+
 def timed(cmd: list[str]) -> float:
     start = time.perf_counter()
-    subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL)
+    subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL, env=ENV, cwd=ROOT)
     return time.perf_counter() - start
 
 
@@ -64,7 +70,7 @@ def main() -> None:
     args = parser.parse_args()
     runs = 2 if args.quick else 3
     big = (400, 20, 25) if args.quick else (4000, 20, 25)
-    trials = [str(Path(sys.executable).with_name("trials"))]
+    trials = [sys.executable, "-m", "trials.cli"]
     with tempfile.TemporaryDirectory(prefix="trials-bench-") as folder:
         small_path, big_path = Path(folder) / "small.csv", Path(folder) / "big.csv"
         n_small = write(small_path, 40, 20, 2)

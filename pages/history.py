@@ -1,7 +1,6 @@
 """History: every trial on file, searched by sample, process setting, method and
 decision; the control sample's scores across trials as a trend."""
 
-import plotly.graph_objects as go
 import streamlit as st
 
 from trials import service, ui
@@ -41,6 +40,8 @@ else:
     if not points:
         st.info(f"No trial on file has scores for {ui.literal(repr(control))}.")
     else:
+        import plotly.graph_objects as go  # only where a chart is drawn: a slow import
+
         fig = go.Figure()
         for attribute in sorted({p.attribute for p in points}):
             mine = [p for p in points if p.attribute == attribute]

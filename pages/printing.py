@@ -34,6 +34,8 @@ DOCS = {
 KEY_KINDS = {"sheet"}  # hold the decoding key: offered for one run only (ui.key_download)
 stamp = service.change_stamp(store, trial_id)
 made = st.session_state.setdefault("printed", {})
+for old in [k for k in made if k[0] == trial_id and k[2] != stamp]:
+    del made[old]  # a PDF of an earlier state of the trial: never offered again
 
 
 def _build(kind: str) -> bytes:

@@ -18,16 +18,18 @@ responses and its batches, all as plain records, and returns a frozen
 - signal detection (A-not-A, same-different): the response table
   (:mod:`trials.response_tables`); CATA: :mod:`trials.cata_analysis`.
 
-A trial without answers says "no answers yet" instead of failing; one the data cannot
-support yet (one panelist, one sample) carries a note saying why. Pure: no store, no
-files. The history helpers at the end work on plain records too.
+A trial without answers gives an analysis that says "no answers yet" instead of
+failing; an analysis the data cannot support yet (one panelist, one sample) carries a
+note saying why. Pure: no store, no files. The history helpers
+(:func:`search_trials`, :func:`control_trend`) live in :mod:`trials.history`, re-exported
+here, so that the history screen need not import the statistics.
 """
 
 from __future__ import annotations
 
 import re
 from collections import Counter, defaultdict
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -36,6 +38,7 @@ import pandas as pd
 from trials.answers import CHOICE, NO_PREFERENCE, RANK
 from trials.cata_analysis import CataAnalysis, analyse_cata
 from trials.errors import TrialsError
+from trials.history import TrendPoint, control_trend, search_trials  # noqa: F401
 from trials.methods import Family, MethodSpec, Scoring, get_method
 from trials.model import Answer, Attribute, AttributeKind, Batch, PlanEntry, Record, Trial
 from trials.replication import replicated_tests
@@ -690,110 +693,3 @@ def analyse(study: Trial, plan: Sequence[PlanEntry], responses: Sequence[Answer]
                          study.alpha, study.beta, study.pd, has, message, planned,
                          len(answered), max(answers, 0), choice, attributes, ranking,
                          measures, tuple(problems), signal, cata)
-
-
-# --------------------------------------------------------------------------- history
-
-
-def _field(record: Any, name: str, default: Any = "") -> Any:
-    if isinstance(record, Mapping):
-        return record.get(name, default)
-    return getattr(record, name, default)
-
-
-def search_trials(summaries: Iterable[Any], *, text: str = "", method: str | None = None,
-                  decision: str | None = None) -> list[Any]:
-    """The trials on file (in the given order) that match a free text, a method and a
-    decision.
-
-    Parameters
-    ----------
-    summaries : iterable of mappings or records
-        Each with some of ``name objective product method decision rationale
-        settings samples`` (``samples``: names, or records with ``name``;
-        ``settings``: the batches' process settings as text).
-    text : str
-        Every word must appear (case-insensitive) in the name, objective, product,
-        decision, rationale, settings or a sample's name. Empty matches all.
-    method : str or None
-        Keep only this method (a registry name).
-    decision : str or None
-        Keep only trials whose decision text contains this (case-insensitive).
-    """
-    words = [w.lower() for w in text.split()]
-    out = []
-    for s in summaries:
-        if method and _field(s, "method") != method:
-            continue
-        if decision and decision.lower() not in str(_field(s, "decision") or "").lower():
-            continue
-        samples = _field(s, "samples", ()) or ()
-        names = [x if isinstance(x, str) else str(_field(x, "name")) for x in samples]
-        hay = " ".join(str(_field(s, f) or "") for f in
-                       ("name", "objective", "product", "decision", "rationale",
-                        "settings"))
-        hay = (hay + " " + " ".join(names)).lower()
-        if all(w in hay for w in words):
-            out.append(s)
-    return out
-
-
-@dataclass(frozen=True, slots=True)
-class TrendPoint(Record):
-    """The control sample's mean score on one attribute in one trial."""
-
-    study: str
-    date: str
-    control: str
-    attribute: str
-    n: int
-    mean: float
-    sd: float | None
-
-
-def control_trend(scores: pd.DataFrame | Iterable[Mapping[str, Any]], *, control: str,
-                  attribute: str | None = None) -> tuple[TrendPoint, ...]:
-    """The control sample's mean score across the trials that share it, by date.
-
-    Parameters
-    ----------
-    scores : DataFrame or iterable of mappings
-        One row per score, columns ``study date sample attribute score`` (``date`` may
-        be empty; ``study`` is a name or id).
-    control : str
-        The control sample's name; rows of other samples are ignored.
-    attribute : str or None
-        Keep only this attribute (all when None).
-
-    Returns
-    -------
-    tuple of TrendPoint
-        One per trial and attribute, ordered by date then trial; ``sd`` with divisor
-        n - 1 (None for one score). Descriptive only: panels and sessions differ
-        between trials.
-    """
-    frame = scores if isinstance(scores, pd.DataFrame) else pd.DataFrame(list(scores))
-    need = {"study", "sample", "attribute", "score"}
-    if frame.empty:
-        return ()
-    missing = need - set(frame.columns)
-    if missing:
-        raise TrialsError(f"control trend needs columns {sorted(missing)!r}")
-    sub = frame[frame["sample"] == control]
-    if attribute is not None:
-        sub = sub[sub["attribute"] == attribute]
-    if sub.empty:
-        return ()
-    sub = sub.assign(date=(sub["date"] if "date" in sub.columns else "").astype(str)
-                     .replace({"None": "", "nan": "", "NaT": ""}),
-                     score=pd.to_numeric(sub["score"], errors="coerce"),
-                     study=sub["study"].astype(str))
-    sub = sub.dropna(subset=["score"])
-    points = []
-    for (study, date, attr), g in sub.groupby(["study", "date", "attribute"], sort=False):
-        vals = g["score"].astype(float)
-        sd = float(vals.std(ddof=1)) if len(vals) > 1 else None
-        points.append(TrendPoint(str(study), str(date), control, str(attr), len(vals),
-                                 float(vals.mean()), sd))
-    points.sort(key=lambda p: (p.date, p.study, p.attribute))
-    return tuple(points)

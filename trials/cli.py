@@ -327,9 +327,10 @@ LOCAL_HOSTS = (LOCAL_HOST, "localhost", "::1")
 
 
 def app_command(port: int | None = None, host: str | None = None) -> list[str]:
-    """The ``streamlit run`` command line that serves the app."""
+    """The ``streamlit run`` command line that serves the app, through
+    :func:`trials.ui.serve` (the screens' modules imported before the server starts)."""
     entry = Path(__file__).with_name("app.py")
-    cmd = [sys.executable, "-m", "streamlit", "run", str(entry)]
+    cmd = [sys.executable, "-c", "from trials.ui import serve; serve()", "run", str(entry)]
     cmd += ["--browser.gatherUsageStats", "false"]
     cmd += ["--client.toolbarMode", "minimal"]  # no developer menu on kitchen tablets
     if not os.environ.get("DISPLAY") or os.environ.get("CI"):

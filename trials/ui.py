@@ -48,6 +48,21 @@ def leader_pages(make: Callable[..., Any]) -> list[Any]:
     return pages
 
 
+def serve() -> None:
+    """Run the Streamlit server in this process (``trials app`` starts it so): the
+    modules every screen needs (this one, the use cases, pandas, SQLAlchemy) are
+    imported first, so that the server answers its health check with them loaded and
+    the first visitor waits for the screen alone, not for the imports. The arguments
+    are those of ``streamlit`` (``run ENTRY --flags``)."""
+    import sys
+
+    import pandas  # noqa: F401  (st.dataframe converts through it on every screen)
+    from streamlit.web import cli
+
+    sys.argv = ["streamlit", *sys.argv[1:]]
+    cli.main(prog_name="streamlit")
+
+
 @st.cache_resource(show_spinner=False)
 def _open_store(url: str | None):
     return service.open_store(url)

@@ -9,21 +9,6 @@ is written to the audit log with who made it.
 The use cases live in cohesive modules, re-exported here so that screens and the
 command line need one import (``from trials import service``):
 
-module             holds
-=================  =================================================================
-``trials``         a trial, its samples and attributes, status, decision, overview
-``batches``        test batches: settings, measured variables, sign-off, imports
-``panel``          the roster: panelist codes, allergens, consent
-``serving``        the serving plan, allergen conflicts, balance, tasting links
-``tasting``        the ballot behind a link, recording answers, progress, audit
-``answer_files``   response files in and out, the paper-entry grid
-``archive``        whole-trial archives
-``results``        analysis and decision from one snapshot, planning, power
-``profiles``       descriptive profiles (map, MANOVA, spider chart); rating power
-``documents``      ballots, serving sheet, labels, report
-``history``        the trials on file, searched; the control across trials
-=================  =================================================================
-=======
 ======================  =================================================================
 module                  holds
 ======================  =================================================================
@@ -31,7 +16,8 @@ module                  holds
 ``batches``             test batches: settings, measured variables, sign-off, imports
 ``panel``               the roster: panelist codes, allergens, consent
 ``serving``             the serving plan, allergen conflicts, balance, tasting links
-``tasting``             the ballot behind a link, recording answers, progress, audit
+``tablet``              the ballot behind a link, the panelist's answers and Finish
+``tasting``             checking and saving answers, status, progress, audit
 ``answer_files``        response files in and out, the paper-entry grid
 ``archive``             whole-trial archives
 ``results``             analysis and decision from one snapshot, planning, power
@@ -151,17 +137,14 @@ from trials.service.serving import (
     plan_balance,
     plan_table,
 )
+from trials.service.tablet import ballot_for_token, finish_ballot, record_answer, record_comment
 from trials.service.tasting import (
     answer_progress,
     answers_frame,
     audit_log,
     audit_table,
-    ballot_for_token,
     enter_answer,
-    finish_ballot,
     list_answers,
-    record_answer,
-    record_comment,
 )
 from trials.service.trials import (
     add_attribute,

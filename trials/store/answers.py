@@ -16,6 +16,7 @@ from trials.answers import CheckedAnswer
 from trials.model import Answer, AuditEntry, EntryMode, PlanBook, PlanEntry
 from trials.store import limits, rows
 from trials.store.schema import (
+    AccessTokenRow,
     AuditRow,
     FinishRow,
     PanelistRow,
@@ -25,29 +26,33 @@ from trials.store.schema import (
     SessionRow,
 )
 
+_PLAN = (
+    sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.position,
+              PlanEntryRow.code, SampleRow.name, PlanEntryRow.set_index, PlanEntryRow.role)
+    .select_from(PlanEntryRow)
+    .join(SessionRow, PlanEntryRow.session_id == SessionRow.id)
+    .join(PanelistRow, PlanEntryRow.panelist_id == PanelistRow.id)
+    .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
+    .where(SessionRow.study_id == sa.bindparam("tid"))
+    .order_by(SessionRow.id, PanelistRow.code, PlanEntryRow.position)
+)
+_PLAN_OF = _PLAN.where(PanelistRow.code == sa.bindparam("code"))  # one panelist's cups
+
 
 def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
               with_existing: bool = False) -> PlanBook:
-    """The plan of a trial (or of one panelist) for checking answers."""
-    trial = rows.trial_row(s, trial_id)
-    q = (
-        sa.select(SessionRow.name, PanelistRow.code, PanelistRow.id, PlanEntryRow.position,
-                  PlanEntryRow.code, SampleRow.name, PlanEntryRow.set_index, PlanEntryRow.role)
-        .select_from(PlanEntryRow)
-        .join(SessionRow, PlanEntryRow.session_id == SessionRow.id)
-        .join(PanelistRow, PlanEntryRow.panelist_id == PanelistRow.id)
-        .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
-        .where(SessionRow.study_id == trial.id)
-        .order_by(SessionRow.id, PanelistRow.code, PlanEntryRow.position)
-    )
+    """The plan of a trial (or of one panelist) for checking answers (plain columns, no
+    ORM objects: the tasting screen reads it for every answer)."""
+    trial, sessions = rows.trial_and_sessions(s, trial_id)
+    key: dict[str, Any] = {"tid": trial.id}
+    q = _PLAN
     if panelist_code is not None:  # one panelist's answers need only their own cups
-        q = q.where(PanelistRow.code == panelist_code)
+        q, key = _PLAN_OF, {"tid": trial.id, "code": panelist_code}
     entries, panelists = [], {}
-    for sess, pcode, pid, pos, code, sample, k, role in s.execute(q).all():
+    for sess, pcode, pid, pos, code, sample, k, role in s.execute(q, key).all():
         entries.append(PlanEntry(sess, pcode, pos, code, sample, k, role))
         panelists[pcode] = pid
-    book = PlanBook(rows.trial_record(trial), tuple(entries),
-                    {x.name: x.id for x in trial.sessions}, panelists)
+    book = PlanBook(trial, tuple(entries), sessions, panelists)
     if with_existing:
         for sess, pcode, question, code, value in s.execute(
             sa.select(SessionRow.name, PanelistRow.code, ResponseRow.question,
@@ -60,14 +65,37 @@ def plan_book(s: Session, trial_id: int, *, panelist_code: str | None = None,
     return book
 
 
+_SERVED = (sa.select(PlanEntryRow.code, SampleRow.name)
+           .join(SampleRow, PlanEntryRow.sample_id == SampleRow.id)
+           .join(AccessTokenRow, sa.and_(AccessTokenRow.study_id == SampleRow.study_id,
+                                         AccessTokenRow.panelist_id == PlanEntryRow.panelist_id))
+           .where(PlanEntryRow.session_id == sa.bindparam("sid"),
+                  PlanEntryRow.panelist_id == sa.bindparam("pid"),
+                  AccessTokenRow.token == sa.bindparam("token"))
+           .order_by(PlanEntryRow.position))
+_ANSWER_ON_FILE = sa.select(ResponseRow).where(
+    ResponseRow.session_id == sa.bindparam("sid"), ResponseRow.panelist_id == sa.bindparam("pid"),
+    ResponseRow.question == sa.bindparam("question"))
+
+
+def served_cups(s: Session, book: PlanBook, session: str, panelist_code: str, *,
+                token: str) -> list[tuple[str, str]]:
+    """The (code, sample name) of a panelist's cups in one session, in serving order, as
+    the store holds them now, where ``token`` is still this panelist's tasting link for
+    the trial (else none): one query, to confirm a plan read earlier is unchanged."""
+    sid, pid = book.session_ids.get(session), book.panelist_ids.get(panelist_code)
+    if sid is None or pid is None:
+        return []
+    key = {"sid": sid, "pid": pid, "token": str(token)}
+    return [(c, n) for c, n in s.execute(_SERVED, key)]
+
+
 def save_answer(s: Session, book: PlanBook, ans: CheckedAnswer, *, comment: str,
                 entered_by: str, entered_at: dt.datetime | None, mode: EntryMode) -> Answer:
     """Insert, or update (audited) a different answer; the same answer is kept once."""
     trial_id = book.trial.id
     sid, pid = book.session_ids[ans.session], book.panelist_ids[ans.panelist]
-    row = s.scalar(sa.select(ResponseRow).where(
-        ResponseRow.session_id == sid, ResponseRow.panelist_id == pid,
-        ResponseRow.question == ans.question))
+    row = s.scalar(_ANSWER_ON_FILE, {"sid": sid, "pid": pid, "question": ans.question})
     if row is None:
         row = ResponseRow(
             study_id=trial_id, session_id=sid, panelist_id=pid, question=ans.question,
@@ -185,9 +213,10 @@ def audit_log(s: Session, trial_id: int) -> list[AuditEntry]:
                        r.new_value) for r in found]
 
 
-def scores_of_sample(s: Session, sample_name: str) -> list[dict]:
+def scores_of_sample(s: Session, sample_name: str) -> dict[str, list]:
     """Every rated score given to a cup of a sample of this name, in any trial: one
-    query for the history's control trend. Keys: ``trial_id code attribute value``."""
+    query for the history's control trend. Columns (lists of equal length, a row per
+    score): ``trial_id code attribute value``."""
     q = (
         sa.select(ResponseRow.study_id, ResponseRow.code, ResponseRow.attribute,
                   ResponseRow.value)
@@ -199,4 +228,6 @@ def scores_of_sample(s: Session, sample_name: str) -> list[dict]:
         .where(SampleRow.name == sample_name, ResponseRow.attribute != "choice")
         .order_by(ResponseRow.study_id, ResponseRow.id)
     )
-    return [{"trial_id": a, "code": b, "attribute": c, "value": d} for a, b, c, d in s.execute(q)]
+    got = s.execute(q).all()
+    return {"trial_id": [r[0] for r in got], "code": [r[1] for r in got],
+            "attribute": [r[2] for r in got], "value": [r[3] for r in got]}

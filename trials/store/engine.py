@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import os
 import random
+import sys
 import threading
 import time
 from collections.abc import Callable, Iterator
@@ -68,6 +69,59 @@ def _sqlite_settings(engine: Engine) -> None:
             conn.exec_driver_sql("BEGIN")
 
 
+class _WriterQueue:
+    """Writers of every process on this machine queue on an advisory lock (``flock``) on
+    a file beside the SQLite file, ``<file>.writer``, before ``BEGIN IMMEDIATE``. A
+    waiter polls it every millisecond or two, where SQLite's busy handler sleeps up to
+    100 ms between tries; the lock dies with its process. SQLite's own lock still
+    guards the file against programs that do not take this one (their wait is the busy
+    timeout). Where ``flock`` is missing (Windows) this does nothing."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+        self._fd: int | None = None
+        self._pid: int | None = None
+
+    def _file(self) -> int | None:
+        if self._pid != os.getpid():  # a forked child opens its own: flock is per file
+            self._fd, self._pid = None, os.getpid()
+            try:
+                self._fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o666)
+            except OSError:  # a read-only folder: SQLite's lock alone then
+                self._fd = None
+        return self._fd
+
+    @contextmanager
+    def held(self, deadline_s: float) -> Iterator[None]:
+        import fcntl
+
+        fd = self._file()
+        if fd is None:
+            yield
+            return
+        start, pause = time.monotonic(), 0.0005
+        while True:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except BlockingIOError:
+                if time.monotonic() - start > deadline_s:
+                    raise TrialsError(
+                        f"the store is busy: another program has held its write lock for "
+                        f"{deadline_s:.0f} s; nothing was changed, try again") from None
+                time.sleep(pause)
+                pause = min(0.002, pause * 1.5)
+        try:
+            yield
+        finally:
+            fcntl.flock(fd, fcntl.LOCK_UN)
+
+    def close(self) -> None:
+        if self._fd is not None and self._pid == os.getpid():
+            os.close(self._fd)
+        self._fd = None
+
+
 def _busy(exc: BaseException) -> bool:
     text = str(getattr(exc, "orig", exc)).lower()
     return "locked" in text or "busy" in text
@@ -100,6 +154,10 @@ class Store:
     # turn instead of in SQLite's busy handler, whose sleeps grow to 100 ms. Other
     # processes still meet the busy timeout.
     _write_lock: threading.Lock | None = field(default=None, repr=False)
+    # ... and writers of all processes on a lock file beside it (see _WriterQueue)
+    _queue: _WriterQueue | None = field(default=None, repr=False)
+    # small caches of the use cases, each checked against the store before it is trusted
+    memo: dict = field(default_factory=dict, repr=False)
 
     @property
     def dialect(self) -> str:
@@ -124,7 +182,8 @@ class Store:
         attempt = 0
         first_busy: float | None = None  # waits count from the first refusal, not the queue
         while True:
-            with self._write_lock or nullcontext(), self._write() as session:
+            queued = self._queue.held(BUSY_DEADLINE_S) if self._queue else nullcontext()
+            with self._write_lock or nullcontext(), queued, self._write() as session:
                 try:
                     result = work(session)
                     session.commit()
@@ -154,6 +213,8 @@ class Store:
 
     def close(self) -> None:
         self.engine.dispose()
+        if self._queue is not None:
+            self._queue.close()
 
 
 def open_store(url: str | None = None, *, echo: bool = False) -> Store:
@@ -204,9 +265,20 @@ def open_store(url: str | None = None, *, echo: bool = False) -> Store:
         _read=sessionmaker(engine, expire_on_commit=False),
         _write=write_sessions,
         _write_lock=threading.Lock() if engine.dialect.name == "sqlite" else None,
+        _queue=_writer_queue(sa_url),
     )
     _migrate(store)
     return store
+
+
+def _writer_queue(url: sa.engine.URL) -> _WriterQueue | None:
+    """The cross-process writer queue of a SQLite file (none for memory or PostgreSQL)."""
+    if url.get_backend_name() != "sqlite" or sys.platform == "win32":
+        return None
+    name = url.database or ""
+    if name in ("", ":memory:") or name.startswith("file:") or url.query.get("mode") == "memory":
+        return None
+    return _WriterQueue(os.path.abspath(name) + ".writer")
 
 
 def _migrate(store: Store) -> None:

@@ -151,13 +151,17 @@ def token_of(s: Session, trial_id: int, panelist_code: str) -> str:
     return token
 
 
+_TOKEN_OWNER = (sa.select(AccessTokenRow.study_id, PanelistRow.code)
+                .join(PanelistRow, AccessTokenRow.panelist_id == PanelistRow.id)
+                .where(AccessTokenRow.token == sa.bindparam("token")))
+
+
 def token_owner(s: Session, token: str) -> tuple[int, str]:
     """(trial id, panelist code) behind a tasting token; :class:`AccessDenied` if none."""
-    row = s.scalar(sa.select(AccessTokenRow).where(AccessTokenRow.token == str(token or "")))
+    row = s.execute(_TOKEN_OWNER, {"token": str(token or "")}).first()
     if row is None:
         raise AccessDenied("this tasting link is not valid; ask the panel leader for yours")
-    code = s.scalar(sa.select(PanelistRow.code).where(PanelistRow.id == row.panelist_id))
-    return row.study_id, str(code)
+    return row[0], str(row[1])
 
 
 def new_tokens(s: Session, trial_id: int, codes: Iterable[str]) -> None:

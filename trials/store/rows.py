@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from typing import Any
 
 import numpy as np
@@ -127,7 +127,12 @@ def attribute_record(row: AttributeRow) -> Attribute:
     )
 
 
-def trial_record(row: StudyRow) -> Trial:
+def trial_record(row: StudyRow, samples: Sequence[Any] | None = None,
+                 attributes: Sequence[Any] | None = None) -> Trial:
+    """A trial's record from its row (or a plain row of its columns, with its samples'
+    and attributes' rows given)."""
+    samples = row.samples if samples is None else samples
+    attributes = row.attributes if attributes is None else attributes
     return Trial(
         name=row.name, method=row.method, id=row.id, objective=row.objective or "",
         alpha=row.alpha, beta=row.beta, pd=row.pd, delta=row.delta,
@@ -135,9 +140,44 @@ def trial_record(row: StudyRow) -> Trial:
         rationale=row.rationale or "", product=row.product or "",
         aim=row.aim or "", target_sample=row.target_sample or "",
         created_on=row.created_on,
-        samples=tuple(sample_record(s) for s in row.samples),
-        attributes=tuple(attribute_record(a) for a in row.attributes),
+        samples=tuple(sample_record(s) for s in samples),
+        attributes=tuple(attribute_record(a) for a in attributes),
     )
+
+
+def _trial_statements() -> tuple[sa.Select, ...]:
+    study, sample, attribute = StudyRow.__table__, SampleRow.__table__, AttributeRow.__table__
+    tid: Any = sa.bindparam("tid")
+    return (
+        sa.select(study).where(study.c.id == tid),
+        sa.select(sample).where(sample.c.study_id == tid)
+        .order_by(sample.c.position, sample.c.id),
+        sa.select(attribute).where(attribute.c.study_id == tid)
+        .order_by(attribute.c.position, attribute.c.id),
+        sa.select(SessionRow.id, SessionRow.name).where(SessionRow.study_id == tid)
+        .order_by(SessionRow.id),
+    )
+
+
+# built once: building a statement costs more than running it on a small table
+_TRIAL, _SAMPLES, _ATTRIBUTES, _SESSIONS = _trial_statements()
+
+
+def trial_and_sessions(s: Session, trial_id: int | str) -> tuple[Trial, dict[str, int]]:
+    """The trial's record and its sessions (name -> id, in order) in four queries of
+    plain columns, no ORM objects: the tasting screen reads them for every answer.
+    :class:`NotFoundError` naming the id when there is none."""
+    if not str(trial_id).lstrip("-").isdigit():
+        raise NotFoundError(f"no trial with id {trial_id!r}")
+    key = {"tid": int(trial_id)}
+    s.flush()  # plain-column queries do not flush rows this transaction added
+    row: Any = s.execute(_TRIAL, key).first()
+    if row is None:
+        raise NotFoundError(f"no trial with id {trial_id!r}")
+    samples = s.execute(_SAMPLES, key).all()
+    attributes = s.execute(_ATTRIBUTES, key).all()
+    sessions = {name: sid for sid, name in s.execute(_SESSIONS, key)}
+    return trial_record(row, samples, attributes), sessions
 
 
 def _measure_value(row: BatchValueRow) -> float | str:

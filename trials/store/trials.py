@@ -31,12 +31,16 @@ from trials.store.schema import (
 
 
 def list_trials(s: Session) -> list[TrialSummary]:
-    """One line per trial, newest first."""
+    """One line per trial, newest first (plain columns, not whole rows: the home screen
+    lists every trial)."""
+    q = sa.select(StudyRow.id, StudyRow.name, StudyRow.method, StudyRow.status,
+                  StudyRow.product, StudyRow.created_on,
+                  StudyRow.decision).order_by(StudyRow.id.desc())
     return [
         TrialSummary(id=r.id, name=r.name, method=r.method, status=Status(r.status),
                      product=r.product or "", created_on=r.created_on,
                      decision=r.decision or "")
-        for r in s.scalars(sa.select(StudyRow).order_by(StudyRow.id.desc())).all()
+        for r in s.execute(q)
     ]
 
 
@@ -190,6 +194,48 @@ def all_trials(s: Session) -> list[Trial]:
     q = (sa.select(StudyRow).order_by(StudyRow.id.desc())
          .options(selectinload(StudyRow.samples), selectinload(StudyRow.attributes)))
     return [rows.trial_record(r) for r in s.scalars(q).all()]
+
+
+_HISTORY_COLUMNS = ("id", "name", "method", "status", "product", "created_on", "objective",
+                    "decision", "rationale")
+
+
+def history_rows(s: Session, trial_ids: Sequence[int] | None = None) -> list[dict[str, Any]]:
+    """The trials the history lists, newest first, as plain rows in two queries: the
+    columns of ``_HISTORY_COLUMNS`` with ``samples`` (names, in order) and ``control``
+    (the control sample's name, or ""). Plain columns rather than records, so that a
+    few thousand trials read in milliseconds. ``trial_ids`` keeps only those trials."""
+    cols = [getattr(StudyRow, c) for c in _HISTORY_COLUMNS]
+    q = sa.select(*cols).order_by(StudyRow.id.desc())
+    qs = (sa.select(SampleRow.study_id, SampleRow.name, SampleRow.is_control)
+          .order_by(SampleRow.study_id, SampleRow.position, SampleRow.id))
+    if trial_ids is not None:
+        q = q.where(StudyRow.id.in_(list(trial_ids)))
+        qs = qs.where(SampleRow.study_id.in_(list(trial_ids)))
+    out = {}
+    for r in s.execute(q):
+        row = dict(zip(_HISTORY_COLUMNS, r, strict=True))
+        for c in ("product", "objective", "decision", "rationale"):
+            row[c] = row[c] or ""
+        row.update(samples=[], control="")
+        out[row["id"]] = row
+    for trial_id, name, is_control in s.execute(qs):
+        owner = out.get(trial_id)
+        if owner is None:
+            continue
+        owner["samples"].append(name)
+        if is_control and not owner["control"]:
+            owner["control"] = name
+    return list(out.values())
+
+
+def control_counts(s: Session, methods: Sequence[str]) -> dict[str, int]:
+    """How many trials of these methods name each control sample, in one query."""
+    q = (sa.select(SampleRow.name, sa.func.count(sa.distinct(SampleRow.study_id)))
+         .join(StudyRow, SampleRow.study_id == StudyRow.id)
+         .where(SampleRow.is_control.is_(True), StudyRow.method.in_(list(methods)))
+         .group_by(SampleRow.name))
+    return {name: int(n) for name, n in s.execute(q)}
 
 
 def settings_by_trial(s: Session) -> dict[int, list[tuple[str, str, str]]]:
