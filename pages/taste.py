@@ -46,6 +46,8 @@ def _guard(action, *args, **kwargs) -> bool:
 def _go(index: int | None) -> None:
     _state()["at"] = index
     _state().pop("pick", None)
+    for key in [k for k in st.session_state if str(k).startswith("words_")]:
+        del st.session_state[key]  # a step shown again offers the words on file
 
 
 def _save(code: str, attribute: str, value: str = "", *, session: str) -> None:
@@ -299,9 +301,9 @@ def respond_step(ballot, spec, step, index: int, total: int) -> None:
     else:
         st.markdown("Taste in this order, left to right: " + _codes_line(codes) + ".")
     cols = st.columns(len(spec.responses))
-    for col, word in zip(cols, spec.responses):
+    for i, (col, word) in enumerate(zip(cols, spec.responses)):
         on = pick == word
-        col.button(ui.literal(word), key=f"respond_{step.session}_{step.set_index}_{word}",
+        col.button(ui.literal(word), key=f"respond_{step.session}_{step.set_index}_{i}",
                    width="stretch", type="primary" if on else "secondary",
                    icon=":material/check_circle:" if on else None,
                    on_click=lambda w=word: state.update(pick=w))

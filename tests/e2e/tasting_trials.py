@@ -16,6 +16,7 @@ from trials.model import Attribute, AttributeKind, Sample
 PANELIST = "K07"
 # distinctive words, so that a leak of any of them into a page is found by a plain search
 SAMPLE_NAMES = ("Quince tart Marlowe", "Quince tart Pellham", "Quince tart Oxbury")
+CATA_WORDS = ("flaky", "tart", "buttery")
 ALLERGENS = (("gluten", "milk"), ("gluten", "egg"), ("gluten", "sesame"))
 
 
@@ -38,6 +39,8 @@ def attributes_for(method: str) -> list[Attribute]:
                 Attribute("sweetness", AttributeKind.JAR, 1, 5)]
     if spec.family is Family.RANKING:
         return [Attribute("sweetness", AttributeKind.INTENSITY, 1, 5)]
+    if spec.family is Family.CATA:
+        return [Attribute(w, AttributeKind.CHECK, 0, 1) for w in CATA_WORDS]
     if spec.asks_attribute:
         return [Attribute("crust crispness", AttributeKind.INTENSITY, 1, 5)]
     return []
@@ -49,7 +52,7 @@ def build(db: str, method: str) -> Built:
     if PANELIST not in {p.code for p in service.list_panelists(store)}:
         service.add_panelist(store, PANELIST, consent_on=dt.date(2026, 3, 2))
     spec = get_method(method)
-    n = 2 if spec.is_forced_choice else 3
+    n = 2 if spec.is_forced_choice or spec.family is Family.SIGNAL else 3
     names = SAMPLE_NAMES[:n]
     samples = [Sample(names[i], is_control=i == 0, allergens=ALLERGENS[i]) for i in range(n)]
     study = service.create_trial(
