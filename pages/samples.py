@@ -171,13 +171,14 @@ else:
 
 if study.samples:
     with st.expander("Record a batch", icon=":material/add:"):
-        with st.form("add_batch", clear_on_submit=True):
+        with st.form("add_batch", clear_on_submit=False):  # kept on a refusal
             c1, c2 = st.columns(2)
-            b_sample = c1.selectbox("Sample", [x.name for x in study.samples])
-            b_label = c2.text_input("Batch label", placeholder="B1")
+            b_sample = c1.selectbox("Sample", [x.name for x in study.samples],
+                                    key="new_batch_sample")
+            b_label = c2.text_input("Batch label", placeholder="B1", key="new_batch_label")
             c3, c4 = st.columns(2)
-            b_on = c3.date_input("Prepared on", value=dt.date.today())
-            b_by = c4.text_input("Prepared by")
+            b_on = c3.date_input("Prepared on", value=dt.date.today(), key="new_batch_on")
+            b_by = c4.text_input("Prepared by", key="new_batch_by")
             st.markdown("Process settings and measured variables (name, value, unit):")
             blank = pd.DataFrame({"kind": pd.Series(["setting", "measure"], dtype="string"),
                                   "name": pd.Series(["", ""], dtype="string"),
@@ -193,9 +194,9 @@ if study.samples:
                     "unit": st.column_config.TextColumn("unit", help="e.g. °C, min, g"),
                 },
             )
-            b_notes = st.text_input("Notes")
+            b_notes = st.text_input("Notes", key="new_batch_notes")
             c5, c6 = st.columns(2)
-            b_signer = c5.text_input("Signed off for food safety by",
+            b_signer = c5.text_input("Signed off for food safety by", key="new_batch_signer",
                                      help="Leave empty if the batch is not signed off yet; "
                                           "sign it off later below.")
             b_signed_on = c6.date_input("Signed off on", value=dt.date.today())
@@ -214,7 +215,12 @@ if study.samples:
                     ui.show_problem(exc)
                 else:
                     ui.changed()
+                    ui.clear_fields("new_batch_label", "new_batch_by", "new_batch_notes",
+                                    "new_batch_signer", "batch_values")
+                    ui.flash(f"Batch {ui.literal(b_label.strip())} of "
+                             f"{ui.literal(b_sample)} recorded.", "batch")
                     st.rerun()
+    ui.show_flash("batch")
     if batches:
         _edit_value(batches)
     with st.expander("Import batch values from a file", icon=":material/upload_file:"):

@@ -215,3 +215,27 @@ def test_add_a_sample_keeps_its_values_when_refused(app_db):
     added = service.get_trial(store, trial.id).samples[-1]
     assert (added.name, added.description) == ("Citrus pectin", "set at 104 C")
     assert by_label(at.text_input, "Sample name").value == ""
+
+
+def test_record_a_batch_keeps_its_values_when_refused_and_empties_on_success(small_trials):
+    store, trial_id = small_trials["store"], small_trials["rating"]
+    at = _run("samples", study=trial_id)
+    by_label(at.text_input, "Batch label").input("B7")
+    by_label(at.text_input, "Prepared by").input("Pastry section")
+    by_label(at.text_input, "Notes").input("second proof in the cold room")
+    by_label(at.button, "Record the batch").click()
+    at.run()
+    # nothing refused yet: the batch is recorded and the form starts empty again
+    assert not at.error, [e.value for e in at.error]
+    assert [b.label for b in service.list_batches(store, trial_id)] == ["B7"]
+    assert by_label(at.text_input, "Batch label").value == ""
+    assert "recorded." in page_text(at)
+    # the same label again is refused: what was typed stays
+    by_label(at.text_input, "Batch label").input("B7")
+    by_label(at.text_input, "Notes").input("kept after the refusal")
+    by_label(at.button, "Record the batch").click()
+    at.run()
+    assert at.error
+    assert by_label(at.text_input, "Batch label").value == "B7"
+    assert by_label(at.text_input, "Notes").value == "kept after the refusal"
+    assert len(service.list_batches(store, trial_id)) == 1
