@@ -156,6 +156,18 @@ if spec.is_forced_choice:
                            mime="application/pdf", icon=":material/print:")
 elif spec.family == Family.RATING:
     _rating_panel_size()
+elif spec.family == Family.SIGNAL:
+    st.write(
+        "The panel size of a signal-detection test is not planned here: each panelist "
+        "answers for one sample or pair, so the panelists served each kind of set set the "
+        "precision of d' (its standard error is shown with the results). Serve the two "
+        "kinds to equal numbers of panelists (the serving plan does)."
+    )
+elif spec.family == Family.CATA:
+    st.write(
+        "The panel size of a check-all-that-apply trial is not planned here; consumer "
+        "panels of 60 to 100 are common practice (no published rule is applied)."
+    )
 else:
     st.write(
         "For rankings the panel size follows from the smallest difference that matters and "

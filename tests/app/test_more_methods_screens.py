@@ -12,7 +12,14 @@ import pytest
 
 from tests.app.conftest import page_test, page_text
 from trials import service
-from trials.methods import A_NOT_A, SAME_DIFFERENT, SPECIFIED_TETRAD, TWO_OUT_OF_FIVE, get_method
+from trials.methods import (
+    A_NOT_A,
+    CATA,
+    SAME_DIFFERENT,
+    SPECIFIED_TETRAD,
+    TWO_OUT_OF_FIVE,
+    get_method,
+)
 from trials.model import Sample
 
 PANEL = [f"F{i:02d}" for i in range(1, 11)]
@@ -226,3 +233,20 @@ def test_a_cata_word_is_added_on_the_samples_screen_with_its_zero_one_scale(stor
     assert not at.exception, [e.message for e in at.exception]
     (word,) = service.get_trial(store, study.id).attributes
     assert (word.name, str(word.kind), word.low, word.high) == ("sticky", "check", 0, 1)
+
+
+@pytest.mark.parametrize("method", [A_NOT_A, CATA])
+def test_the_set_up_screen_speaks_of_the_methods_own_panel_size(store, method):
+    if method == A_NOT_A:
+        study = service.create_trial(store, name="Glaze: two honeys", method=A_NOT_A,
+                                     samples=[Sample("Clover honey glaze", is_control=True),
+                                              Sample("Buckwheat honey glaze")])
+    else:
+        study = _cata_trial(store)
+    at = page_test("trial")
+    at.query_params["study"] = str(study.id)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    text = page_text(at)
+    assert "For rankings" not in text and "You need" not in [m.label for m in at.metric]
+    assert ("d'" in text) if method == A_NOT_A else ("check-all-that-apply" in text)
