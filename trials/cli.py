@@ -643,9 +643,10 @@ def build_parser() -> argparse.ArgumentParser:
             "(default: $TRIALS_BASE_URL)",
         )
 
-    p = _leaf(sub, "report", _report, "write the trial's report as HTML", db=True)
+    p = _leaf(sub, "report", _report, "write the trial's report: HTML, or the printable "
+              "PDF summary when --out ends in .pdf", db=True)
     _add_trial(p)
-    p.add_argument("--out", required=True)
+    p.add_argument("--out", required=True, help="FILE.html, or FILE.pdf for the summary")
 
     from trials.design.experiment import KINDS
 

@@ -33,7 +33,7 @@ def demo_url(tmp_path_factory):
     return url
 
 
-def test_the_demo_seeds_its_five_trials_once(demo_url):
+def test_the_demo_seeds_its_trials_once(demo_url):
     store = service.open_store(demo_url)
     first = service.list_trials(store)
     again = seed_demo(store)
@@ -134,3 +134,23 @@ def test_a_bad_import_on_the_cli_exits_2_naming_each_bad_row(tmp_path, capsys):
     assert "row 3, column 'panelist': panelist 'P99' has no serving plan" in err
     assert len(service.list_answers(store, sid)) == before
     store.close()
+
+
+def test_report_writes_the_pdf_summary_for_a_pdf_name_and_html_otherwise(demo_url, tmp_path,
+                                                                         capsys):
+    from pypdf import PdfReader
+
+    store = service.open_store(demo_url)
+    brioche = next(t for t in service.list_trials(store) if t.name == demo.BRIOCHE)
+    decided = service.get_trial(store, brioche.id)
+    store.close()
+    pdf, html = tmp_path / "summary.pdf", tmp_path / "report.html"
+    assert _run(capsys, "report", "--db", demo_url, "--trial", str(brioche.id),
+                "--out", str(pdf))[0] == 0
+    assert pdf.read_bytes().startswith(b"%PDF")
+    text = " ".join(p.extract_text() for p in PdfReader(pdf).pages)
+    assert "Decision recorded by the panel leader" in text
+    assert decided.decision.split()[0] in text  # the leader's own words are printed
+    assert _run(capsys, "report", "--db", demo_url, "--trial", str(brioche.id),
+                "--out", str(html))[0] == 0
+    assert html.read_text(encoding="utf-8").lstrip().lower().startswith("<!doctype html")

@@ -94,11 +94,16 @@ def report_pdf(store: Store, trial_id: int) -> bytes:
 
 
 def write_report(store: Store, trial_id: int, path: Path) -> str:
-    """Write the trial's HTML report to ``path``; returns the decision's headline."""
-    from trials.printing.report import report_html as build
+    """Write the trial's report to ``path``: the printable PDF summary when the name ends
+    in ``.pdf``, else the HTML report; returns the decision's headline."""
+    from trials.printing.report import report_html, report_pdf
 
-    doc, decision = _report(store, trial_id, build)
-    Path(path).write_text(doc, encoding="utf-8")
+    if Path(path).suffix.lower() == ".pdf":
+        data, decision = _report(store, trial_id, report_pdf)
+        Path(path).write_bytes(data)
+    else:
+        doc, decision = _report(store, trial_id, report_html)
+        Path(path).write_text(doc, encoding="utf-8")
     return decision.text
 
 
