@@ -100,7 +100,8 @@ def _runs_section(exp) -> None:
     table = service.run_table(store, exp.id)
     st.subheader("Runs, in the order to make them")
     st.dataframe(table.drop(columns=[c for c in table if c.startswith("coded_")]),
-                 hide_index=True, width="stretch")
+                 hide_index=True, width="stretch",
+                 column_config={"std_order": "standard order", "signed_off": "signed off"})
     sheet = service.run_sheet(store, exp.id)
     st.download_button("Run sheet (PDF)", sheet.data, file_name=f"run-sheet-{exp.id}.pdf",
                        mime="application/pdf", icon=":material/print:")
