@@ -372,6 +372,21 @@ class ExperimentFactor(Record):
     safe_high: float
     levels: tuple[float, ...] = ()
 
+    @property
+    def centre(self) -> float:
+        return (self.low + self.high) / 2
+
+    @property
+    def half_range(self) -> float:
+        return (self.high - self.low) / 2
+
+    def actual(self, coded: float) -> float:
+        """The actual setting of a coded value (-1 = low, +1 = high)."""
+        return self.centre + coded * self.half_range
+
+    def coded(self, actual: float) -> float:
+        return (actual - self.centre) / self.half_range
+
 
 @dataclass(frozen=True, slots=True)
 class ExperimentRun(Record):

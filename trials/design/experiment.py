@@ -31,7 +31,7 @@ import pyDOE3
 
 from trials.design._common import RngLike, as_generator
 from trials.errors import TrialsError
-from trials.model import Record
+from trials.model import ExperimentFactor, Record
 
 FULL_FACTORIAL = "full-factorial"
 FRACTIONAL_FACTORIAL = "fractional-factorial"
@@ -59,39 +59,8 @@ REFERENCE = ("Box, Hunter and Hunter (2005), Statistics for Experimenters, 2nd e
 _TOL = 1e-9
 
 
-@dataclass(frozen=True, slots=True)
-class Factor(Record):
-    """A process setting varied by the experiment.
-
-    ``low``/``high`` are the actual settings coded -1 and +1; ``levels`` (optional)
-    are the only settings the kitchen can make (e.g. whole minutes on a timer): then
-    ``low``/``high`` are their least and greatest, and every run must fall on one.
-    ``safe_low``/``safe_high`` is the range the kitchen declares safe to serve (a
-    cooking temperature, a salt level); a run outside it is refused.
-    """
-
-    name: str
-    unit: str
-    low: float
-    high: float
-    safe_low: float
-    safe_high: float
-    levels: tuple[float, ...] = ()
-
-    @property
-    def centre(self) -> float:
-        return (self.low + self.high) / 2
-
-    @property
-    def half_range(self) -> float:
-        return (self.high - self.low) / 2
-
-    def actual(self, coded: float) -> float:
-        """The actual setting of a coded value (-1 = low, +1 = high)."""
-        return self.centre + coded * self.half_range
-
-    def coded(self, actual: float) -> float:
-        return (actual - self.centre) / self.half_range
+# A factor is the shared record (one definition for design, store and screens).
+Factor = ExperimentFactor
 
 
 def make_factor(name: str, unit: str = "", *, low: float | None = None,

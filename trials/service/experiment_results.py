@@ -15,7 +15,6 @@ import pandas as pd
 from trials.design import experiment as design
 from trials.errors import TrialsError
 from trials.model import Experiment, Record
-from trials.service.experiments import as_design_factor as as_factor
 from trials.service.experiments import experiment_file, responses_in, table_of
 from trials.stats import response_surface as rsm
 from trials.store import Store
@@ -115,7 +114,7 @@ def analyse_frame(exp: Experiment, table: pd.DataFrame,
         if fit is not None:
             fit = _renamed_fit(fit, names, name)
             if fit.canonical is not None:
-                stationary = {f.name: as_factor(f).actual(c)
+                stationary = {f.name: f.actual(c)
                               for f, c in zip(exp.factors, fit.canonical.stationary)}
         out.append(ResponseAnalysis(name, source, unit, len(frame), model if fit else "",
                                     effects, fit, stationary, "; ".join(notes)))
@@ -152,7 +151,7 @@ def safe_bounds(exp: Experiment) -> list[tuple[float, float]]:
     declared safe range."""
     out = []
     for f in exp.factors:
-        fac = as_factor(f)
+        fac = f
         lo, hi = fac.coded(f.safe_low), fac.coded(f.safe_high)
         out.append((max(-1.0, lo), min(1.0, hi)))
     return out
@@ -163,7 +162,7 @@ def confirmation_settings(exp: Experiment, coded: Sequence[float]) -> dict[str, 
     to 4 significant figures, checked against the safe ranges."""
     out = {}
     for f, c in zip(exp.factors, coded):
-        fac = as_factor(f)
+        fac = f
         value = fac.actual(float(c))
         if f.levels:
             value = min(f.levels, key=lambda lv: abs(lv - value))
@@ -238,9 +237,9 @@ def contour(analysis: ExperimentAnalysis, response: str, x_factor: str, y_factor
         base = np.asarray(analysis.optimum.coded)
     for name, value in (fixed or {}).items():
         k = names.index(name)
-        base[k] = as_factor(exp.factors[k]).coded(float(value))
+        base[k] = exp.factors[k].coded(float(value))
     xs, ys, z = rsm.contour_grid(fit, i, j, fixed=base, n=n)
-    fx, fy = as_factor(exp.factors[i]), as_factor(exp.factors[j])
+    fx, fy = exp.factors[i], exp.factors[j]
     return np.array([fx.actual(v) for v in xs]), np.array([fy.actual(v) for v in ys]), z
 
 

@@ -43,10 +43,8 @@ DEFAULT_ATTRIBUTE = Attribute(name="overall liking", kind=AttributeKind.HEDONIC,
 def _factor(item: Any) -> design.Factor:
     """A checked factor from a :class:`design.Factor`, an ``ExperimentFactor`` or a dict
     (``name unit low high levels safe_low safe_high``)."""
-    if isinstance(item, design.Factor):
-        return item
     if isinstance(item, ExperimentFactor):
-        item = item.to_dict()
+        return item
     if not isinstance(item, Mapping):
         raise TrialsError(f"a factor is a mapping of name, unit, low, high, safe range; "
                           f"got {item!r}")
@@ -59,11 +57,6 @@ def _factor(item: Any) -> design.Factor:
         if isinstance(exc, TrialsError):
             raise
         raise TrialsError(f"factor {item.get('name')!r}: {exc}") from None
-
-
-def as_design_factor(f: ExperimentFactor) -> design.Factor:
-    return design.Factor(name=f.name, unit=f.unit, low=f.low, high=f.high, safe_low=f.safe_low,
-                         safe_high=f.safe_high, levels=f.levels)
 
 
 def design_experiment(kind: str, factors: Sequence[Any], *, center_points: int = 0,
@@ -133,9 +126,7 @@ def create_experiment(
         "aim": "", "alpha": 0.05, "beta": 0.20, "pd": None, "delta": None,
         "created_on": created_on or _input.today(), "target_sample": "",
     }
-    factor_records = [ExperimentFactor(name=f.name, unit=f.unit, low=f.low, high=f.high,
-                                       safe_low=f.safe_low, safe_high=f.safe_high,
-                                       levels=f.levels) for f in plan.factors]
+    factor_records = list(plan.factors)
     runs = [ExperimentRun(run=r.run, std_order=r.std_order, block=r.block, point=r.point,
                           coded=r.coded, settings=r.settings,
                           sample_name=run_name(r.run, total), batch_label=run_label(r.run, total))
@@ -179,7 +170,7 @@ def list_experiments(store: Store) -> list[Experiment]:
 def experiment_design_of(exp: Experiment) -> design.ExperimentDesign:
     """The stored experiment's design again (same seed, same runs), for its aliases."""
     return design.experiment_design(
-        exp.kind, [as_design_factor(f) for f in exp.factors], center_points=exp.center_points,
+        exp.kind, list(exp.factors), center_points=exp.center_points,
         blocks=exp.blocks, resolution=exp.resolution, generators=exp.generators or None,
         rng=exp.seed)
 
