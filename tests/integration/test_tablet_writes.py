@@ -75,6 +75,37 @@ def test_a_writer_of_another_process_holding_the_queue_makes_a_writer_wait_then_
     store.close()
 
 
+def test_a_long_queue_that_keeps_moving_is_waited_out_not_called_busy(tmp_path, monkeypatch):
+    # Another process takes the lock 12 times in a row for 0.1 s each, 1.2 s in all: four
+    # times the deadline, but no single hold reaches it. (CI once saw 30 threads each
+    # writing 24 times told "busy" though the lock changed hands all along.)
+    import threading
+    import time
+
+    monkeypatch.setattr(engine, "BUSY_DEADLINE_S", 0.3)
+    path = tmp_path / "queue.db"
+    store = service.open_store(f"sqlite:///{path}")
+    other = engine._WriterQueue(f"{path}.writer")  # its own open file, as another process
+    started = threading.Event()
+
+    def busy_neighbour() -> None:
+        for _ in range(12):
+            with other.held(10.0):
+                started.set()
+                time.sleep(0.1)
+
+    neighbour = threading.Thread(target=busy_neighbour)
+    neighbour.start()
+    started.wait()
+    try:
+        service.create_trial(store, name="Rye", method="triangle")  # waits, then writes
+    finally:
+        neighbour.join()
+        other.close()
+    assert [t.name for t in service.list_trials(store)] == ["Rye"]
+    store.close()
+
+
 def test_a_link_replaced_after_an_answer_opens_nothing_though_its_ballot_was_kept(store):
     from trials.errors import AccessDenied
     from trials.store.schema import AccessTokenRow

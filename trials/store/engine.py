@@ -91,27 +91,41 @@ class _WriterQueue:
                 self._fd = None
         return self._fd
 
+    @staticmethod
+    def _turn(fd: int) -> int:
+        """How many times the lock has been taken: its holder counts in the file's first
+        8 bytes, so a waiter can tell a moving queue from a lock held still."""
+        return int.from_bytes(os.pread(fd, 8, 0) or b"\0", "little")
+
     @contextmanager
     def held(self, deadline_s: float) -> Iterator[None]:
+        """Hold the lock. The wait is refused once one holder has kept the lock for
+        ``deadline_s`` without it changing hands, or after six such spans in all (the
+        lock is not fair: with many writers, one may be passed over a few times)."""
         import fcntl
 
         fd = self._file()
         if fd is None:
             yield
             return
-        start, pause = time.monotonic(), 0.0005
+        start = still = time.monotonic()
+        pause, seen = 0.0005, self._turn(fd)
         while True:
             try:
                 fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
                 break
             except BlockingIOError:
-                if time.monotonic() - start > deadline_s:
+                now, turn = time.monotonic(), self._turn(fd)
+                if turn != seen:  # the queue moves: the wait for one holder starts again
+                    seen, still = turn, now
+                if now - still > deadline_s or now - start > 6 * deadline_s:
                     raise TrialsError(
                         f"the store is busy: another program has held its write lock for "
-                        f"{deadline_s:.0f} s; nothing was changed, try again") from None
+                        f"{now - still:.0f} s; nothing was changed, try again") from None
                 time.sleep(pause)
                 pause = min(0.002, pause * 1.5)
         try:
+            os.pwrite(fd, ((self._turn(fd) + 1) % 2**63).to_bytes(8, "little"), 0)
             yield
         finally:
             fcntl.flock(fd, fcntl.LOCK_UN)
